@@ -1,0 +1,263 @@
+"""The service layer: what the CLI and the web site ask of the store.
+
+One :class:`Catalog` wraps one store. Its methods are units of work ("import
+this file as a new measured dataset", "list the species", "give the levels of
+a species under this precedence"); each write runs in one transaction with its
+audit entry. Neither the CLI nor the web site talks to SQL or to each other.
+"""
+
+from __future__ import annotations
+
+import os
+from collections.abc import Mapping, Sequence
+from dataclasses import dataclass, field
+from pathlib import Path
+
+from sqlalchemy.orm import Session
+
+from levels import __version__
+from levels.errors import InputFileError, Problem
+from levels.io import records as level_io
+from levels.io.tables import read_delimited
+from levels.notation import Spectrum, format_j, parse_spectrum
+from levels.store import database, queries
+from levels.store.schema import Dataset, Level, Sample
+
+SPECIES_COLUMNS = ("spectrum", "z", "charge", "mass_number", "levels", "lines", "ionization_cm1",
+                   "ionization_unc_cm1", "datasets")
+LEVEL_COLUMNS = level_io.LEVEL_COLUMNS
+LEVEL_UNITS = {"energy_cm1": "cm-1", "unc_cm1": "cm-1", "lifetime_s": "s"}
+SAMPLE_CONDITION_FIELDS = ("description", "gas_fill", "pressure_pa", "current_a", "instrument", "te_k", "ne_m3",
+                           "tgas_k", "path_length_m")
+
+
+@dataclass
+class ImportReport:
+    """What an import wrote."""
+
+    source: str
+    kind: str
+    dataset: str
+    dataset_id: int
+    sample: str | None
+    species: list[str]
+    levels: int = 0
+    lines: int = 0
+    warnings: list[str] = field(default_factory=list)
+
+
+class Catalog:
+    """Service layer over one store (SQLite file or PostgreSQL database).
+
+    Parameters
+    ----------
+    store : str or path, optional
+        SQLAlchemy URL or SQLite file path; default the user's data directory.
+    actor : str, optional
+        Who writes (recorded in the audit log); default the OS user.
+    """
+
+    def __init__(self, store: str | os.PathLike | None = None, *, actor: str | None = None):
+        self.url = database.normalize_url(store)
+        self.engine = database.make_engine(self.url)
+        self.actor = actor or queries.current_actor()
+
+    # ------------------------------------------------------------- plumbing
+    @property
+    def display_url(self) -> str:
+        """The store URL with any password hidden."""
+        return database.display_url(self.url)
+
+    def close(self) -> None:
+        """Release the engine's connections."""
+        self.engine.dispose()
+
+    def __enter__(self) -> "Catalog":
+        return self
+
+    def __exit__(self, *exc) -> None:
+        self.close()
+
+    def init(self) -> str:
+        """Create or upgrade the schema; return the revision."""
+        return database.upgrade(self.engine)
+
+    def check_ready(self) -> None:
+        """Refuse to work on an uninitialised or outdated store."""
+        database.require_current(self.engine)
+
+    def write(self, work):
+        """Run ``work(session)`` as one transaction (with retries on a busy SQLite store)."""
+        self.check_ready()
+        return database.run_in_transaction(self.engine, work)
+
+    def read(self, work):
+        """Run ``work(session)`` in a read transaction."""
+        self.check_ready()
+        with database.read_session(self.engine) as session, session.begin():
+            return work(session)
+
+    def provenance(self, query: str, datasets: Sequence[str] = (), **extra) -> dict:
+        """The provenance header of an export: tool version, store, datasets, query."""
+        out = {
+            "tool": f"levels {__version__}",
+            "store": self.display_url,
+            "datasets": "; ".join(datasets) if datasets else "(none)",
+            "query": query,
+        }
+        out.update(extra)
+        return out
+
+    # ------------------------------------------------------------- species
+    def species_rows(self) -> list[dict]:
+        """One row per stored species with counts, ionization energy and datasets (SPECIES_COLUMNS)."""
+
+        def work(session: Session) -> list[dict]:
+            datasets = queries.visible_datasets(session)
+            counts = queries.species_counts(session, [d.id for d in datasets])
+            rows = []
+            for species in queries.all_species(session):
+                c = counts.get(species.id, {"levels": 0, "lines": 0, "datasets": set()})
+                limit = queries.ionization_limit(session, species, datasets)
+                rows.append({
+                    "spectrum": species.name, "z": species.z, "charge": species.charge,
+                    "mass_number": species.mass_number, "levels": c["levels"], "lines": c["lines"],
+                    "ionization_cm1": limit.energy_cm1 if limit else None,
+                    "ionization_unc_cm1": limit.unc_cm1 if limit else None,
+                    "datasets": "; ".join(sorted(c["datasets"])),
+                })
+            return rows
+
+        return self.read(work)
+
+    # ------------------------------------------------------------- levels
+    def level_rows(self, spectrum: str | Spectrum, datasets: Sequence[str] | None = None) -> list[dict]:
+        """Levels of a species under a precedence of datasets (LEVEL_COLUMNS), by energy."""
+        spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
+
+        def work(session: Session) -> list[dict]:
+            species = queries.require_species(session, spec)
+            chosen = queries.visible_datasets(session, datasets)
+            names = {d.id: d.name for d in chosen}
+            return [level_row(species.name, lv, names[lv.dataset_id])
+                    for lv in queries.levels_by_precedence(session, species, chosen)]
+
+        return self.read(work)
+
+    # ------------------------------------------------------------- import
+    def import_file(self, path: str | os.PathLike, *, sample: str | None = None, dataset: str | None = None,
+                    kind: str = "measured", citation: str = "", description: str = "",
+                    sample_conditions: Mapping[str, object] | None = None,
+                    content: bytes | None = None, source: str | None = None) -> ImportReport:
+        """Import a levels file as a new dataset, all-or-nothing.
+
+        The whole file is validated first; any problem raises
+        :class:`~levels.errors.InputFileError` and nothing is written. Then the
+        dataset, its sample (created if new), the species, the levels and an audit
+        entry are written in one transaction.
+        """
+        name = source or Path(path).name
+        raw = content if content is not None else path
+        table = read_delimited(raw, source=name)
+        kind_of_file = detect_file_kind(table.columns, name, table.header_line)
+        if kind_of_file != "levels":
+            raise InputFileError([Problem(name, table.header_line, None,
+                                          f"{kind_of_file} files are not importable yet")])
+        records = level_io.validate_levels(
+            _checked_columns(table, level_io.LEVEL_COLUMNS, level_io.LEVEL_REQUIRED),
+            source=name, default_dataset=dataset)
+        return self.import_level_records(records, source=name, sample=sample, kind=kind, citation=citation,
+                                         description=description, sample_conditions=sample_conditions)
+
+    def import_level_records(self, records: Sequence[level_io.LevelRecord], *, source: str,
+                             sample: str | None = None, kind: str = "measured", citation: str = "",
+                             description: str = "",
+                             sample_conditions: Mapping[str, object] | None = None) -> ImportReport:
+        """Write validated level records as one new dataset (one transaction)."""
+        if kind not in ("measured", "imported"):
+            raise ValueError("imports make measured or imported datasets")
+        if not records:
+            raise InputFileError([Problem(source, None, None, "no levels to import")])
+        explicit_name = records[0].dataset
+
+        def work(session: Session) -> ImportReport:
+            dataset_name = explicit_name or _free_dataset_name(session, source, sample)
+            sample_row = None
+            if sample:
+                sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
+            ds = queries.create_dataset(session, name=dataset_name, kind=kind, citation=citation,
+                                        author=self.actor, description=description or f"imported from {source}",
+                                        method="file import", sample=sample_row)
+            species_ids: dict[Spectrum, int] = {}
+            rows = []
+            for rec in records:
+                if rec.spectrum not in species_ids:
+                    species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
+                rows.append(_level_insert_row(rec, ds.id, species_ids[rec.spectrum]))
+            queries.insert_rows(session, Level, rows)
+            names = sorted({s.name for s in species_ids})
+            queries.record_audit(session, "import-levels", f"dataset {ds.name}",
+                                 {"source": source, "levels": len(rows), "species": names,
+                                  "sample": sample}, actor=self.actor)
+            return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
+                                species=names, levels=len(rows))
+
+        return self.write(work)
+
+
+def level_row(spectrum_name: str, level: Level, dataset_name: str) -> dict:
+    """A level as a row of the level contract (LEVEL_COLUMNS)."""
+    return {
+        "spectrum": spectrum_name, "label": level.label, "configuration": level.configuration,
+        "term": level.term, "j": format_j(level.two_j), "parity": level.parity,
+        "energy_cm1": level.energy_cm1, "unc_cm1": level.unc_cm1, "g": level.two_j + 1,
+        "n": level.n, "l": level.l, "lifetime_s": level.lifetime_s, "lande_g": level.lande_g,
+        "dataset": dataset_name,
+    }
+
+
+def _level_insert_row(rec: level_io.LevelRecord, dataset_id: int, species_id: int) -> dict:
+    return {
+        "dataset_id": dataset_id, "species_id": species_id, "label": rec.label,
+        "configuration": rec.configuration, "term": rec.term, "two_j": rec.two_j, "parity": rec.parity,
+        "energy_cm1": rec.energy_cm1, "unc_cm1": rec.unc_cm1, "multiplicity": rec.multiplicity,
+        "big_l": rec.big_l, "n": rec.n, "l": rec.l, "lifetime_s": rec.lifetime_s, "lande_g": rec.lande_g,
+    }
+
+
+def detect_file_kind(columns: Sequence[str], source: str, header_line: int) -> str:
+    """``"levels"``, ``"lines"`` or ``"peaks"`` from a file's header."""
+    cols = set(columns)
+    if "energy_cm1" in cols:
+        return "levels"
+    if "wavelength_nm" in cols and ("lower" in cols or "upper" in cols):
+        return "lines"
+    if "peak_nm" in cols or "wavelength_nm" in cols:
+        return "peaks"
+    raise InputFileError([Problem(source, header_line, None,
+                                  "cannot tell the kind of file from its header: a levels file needs "
+                                  "energy_cm1, a lines file wavelength_nm with lower and upper")])
+
+
+def _checked_columns(table, known: Sequence[str], required: Sequence[str]):
+    problems = []
+    for col in table.columns:
+        if col not in known:
+            problems.append(Problem(table.source, table.header_line, col,
+                                    f"unknown column; known columns are {', '.join(known)}"))
+    for col in required:
+        if col not in table.columns:
+            problems.append(Problem(table.source, table.header_line, col, "required column is missing from the header"))
+    if problems:
+        raise InputFileError(problems)
+    return table.rows
+
+
+def _free_dataset_name(session: Session, source: str, sample: str | None) -> str:
+    """``sample/file-stem``, with ``#2``, ``#3`` ... appended when taken."""
+    base = f"{sample + '/' if sample else ''}{Path(source).stem or 'import'}"
+    name, number = base, 1
+    while queries.find_dataset(session, name) is not None:
+        number += 1
+        name = f"{base}#{number}"
+    return name

@@ -1,0 +1,206 @@
+"""The ``levels`` command line.
+
+Every command takes the global ``--db URL_OR_PATH`` (environment ``LEVELS_DB``;
+default a SQLite file in the user data directory, shown by ``levels where``).
+Errors print one line per problem to stderr and exit with status 1.
+"""
+
+from __future__ import annotations
+
+import functools
+import json
+import sys
+from collections.abc import Callable, Sequence
+
+import click
+
+from levels import __version__
+from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, SPECIES_COLUMNS, Catalog
+from levels.errors import InputFileError, LevelsError
+from levels.io.tables import format_table, format_text_table, write_atomic
+from levels.store import database
+
+TABLE_FORMATS = ("table", "csv", "json", "ecsv")
+
+
+class Context:
+    """What the group hands to its commands."""
+
+    def __init__(self, db: str | None):
+        self.db = db
+        self._catalog: Catalog | None = None
+
+    @property
+    def catalog(self) -> Catalog:
+        if self._catalog is None:
+            self._catalog = Catalog(self.db)
+        return self._catalog
+
+
+def reports_errors(func: Callable) -> Callable:
+    """Turn LevelsError into clean messages on stderr and exit status 1."""
+
+    @functools.wraps(func)
+    def wrapper(*args, **kwargs):
+        try:
+            return func(*args, **kwargs)
+        except InputFileError as exc:
+            for problem in exc.problems[:50]:
+                click.echo(f"error: {problem}", err=True)
+            if len(exc.problems) > 50:
+                click.echo(f"error: ... and {len(exc.problems) - 50} more problems", err=True)
+            click.echo("nothing was written", err=True)
+            sys.exit(1)
+        except LevelsError as exc:
+            click.echo(f"error: {exc}", err=True)
+            sys.exit(1)
+
+    return wrapper
+
+
+def emit(rows: Sequence[dict], columns: Sequence[str], fmt: str, provenance: dict, *,
+         output: str | None = None, units: dict | None = None, headings: dict | None = None) -> None:
+    """Print or write rows in the chosen format (files are written atomically)."""
+    if fmt == "table":
+        if output:
+            raise click.UsageError("--output needs --format csv, json or ecsv")
+        click.echo(format_text_table(rows, columns, headings=headings), nl=False)
+        return
+    text = format_table(rows, columns, fmt, provenance, units=units)
+    if output:
+        write_atomic(output, text)
+        click.echo(f"wrote {len(rows)} rows to {output}", err=True)
+    else:
+        click.echo(text, nl=False)
+
+
+@click.group(context_settings={"help_option_names": ["-h", "--help"]})
+@click.option("--db", envvar="LEVELS_DB", metavar="URL_OR_PATH",
+              help="Store: a SQLite file path or a URL (sqlite:///..., postgresql+psycopg://...). "
+                   "Default: a SQLite file in your data directory (see 'levels where').")
+@click.version_option(__version__, prog_name="levels")
+@click.pass_context
+def main(ctx: click.Context, db: str | None) -> None:
+    """levels: a private store of atomic energy levels, with lines, limits and emission.
+
+    \b
+    Example:
+      levels --db lab.sqlite init
+      levels --db lab.sqlite import my-levels.csv --sample cell-3
+      levels --db lab.sqlite show "Na I"
+    """
+    ctx.obj = Context(db)
+
+
+@main.command()
+@click.pass_obj
+@reports_errors
+def init(obj: Context) -> None:
+    """Create the store, or upgrade its schema to this version.
+
+    \b
+    Example:
+      levels --db lab.sqlite init
+    """
+    revision = obj.catalog.init()
+    click.echo(f"store ready at {obj.catalog.display_url} (schema {revision})")
+
+
+@main.command()
+@click.pass_obj
+@reports_errors
+def where(obj: Context) -> None:
+    """Print which store the commands use, and its schema state.
+
+    \b
+    Example:
+      levels where
+    """
+    url = database.normalize_url(obj.db)
+    click.echo(database.display_url(url))
+    if url.startswith("sqlite:///"):
+        click.echo(f"file: {url[len('sqlite:///'):]}")
+    try:
+        revision = database.current_revision(obj.catalog.engine)
+    except LevelsError as exc:
+        click.echo(f"schema: unreachable ({exc})")
+        return
+    if revision is None:
+        click.echo("schema: not initialised (run 'levels init')")
+    else:
+        state = "current" if revision == database.head_revision() else "needs 'levels init' to upgrade"
+        click.echo(f"schema: {revision} ({state})")
+
+
+@main.command()
+@click.option("--format", "fmt", type=click.Choice(TABLE_FORMATS), default="table", show_default=True)
+@click.option("--output", type=click.Path(dir_okay=False), help="Write to this file (atomically) instead of printing.")
+@click.pass_obj
+@reports_errors
+def species(obj: Context, fmt: str, output: str | None) -> None:
+    """List the species in the store with counts and ionization energy.
+
+    \b
+    Example:
+      levels species --format csv
+    """
+    rows = obj.catalog.species_rows()
+    emit(rows, SPECIES_COLUMNS, fmt, obj.catalog.provenance("species"), output=output,
+         units={"ionization_cm1": "cm-1", "ionization_unc_cm1": "cm-1"},
+         headings={"ionization_cm1": "ionization [cm-1]", "ionization_unc_cm1": "unc [cm-1]"})
+
+
+@main.command()
+@click.argument("spectrum")
+@click.option("--dataset", "datasets", multiple=True, metavar="NAME",
+              help="Use these datasets, in this order of precedence (repeat the option). "
+                   "Default: all, measured first, then imported, then computed.")
+@click.option("--format", "fmt", type=click.Choice(TABLE_FORMATS), default="table", show_default=True)
+@click.option("--output", type=click.Path(dir_okay=False), help="Write to this file (atomically) instead of printing.")
+@click.pass_obj
+@reports_errors
+def show(obj: Context, spectrum: str, datasets: tuple[str, ...], fmt: str, output: str | None) -> None:
+    """List the levels of SPECTRUM (for example "Na I", "He II", C5+).
+
+    \b
+    Example:
+      levels show "Na I" --format csv
+    """
+    rows = obj.catalog.level_rows(spectrum, list(datasets) or None)
+    used = sorted({r["dataset"] for r in rows})
+    emit(rows, LEVEL_COLUMNS, fmt, obj.catalog.provenance(f"show {spectrum}", used), output=output,
+         units=LEVEL_UNITS, headings={"energy_cm1": "energy [cm-1]", "unc_cm1": "unc [cm-1]",
+                                      "lifetime_s": "lifetime [s]"})
+
+
+@main.command(name="import")
+@click.argument("file", type=click.Path(exists=True, dir_okay=False))
+@click.option("--sample", metavar="NAME", help="Attach the new dataset to this lab sample (created if new).")
+@click.option("--dataset", metavar="NAME", help="Name of the new dataset (default: from the file name and time).")
+@click.option("--kind", type=click.Choice(["measured", "imported"]), default="measured", show_default=True,
+              help="'imported' for values taken from the literature (give --citation).")
+@click.option("--citation", default="", help="Where the values come from.")
+@click.pass_obj
+@reports_errors
+def import_(obj: Context, file: str, sample: str | None, dataset: str | None, kind: str, citation: str) -> None:
+    """Import measured levels from FILE as a new dataset, all-or-nothing.
+
+    FILE is a CSV with a header naming the columns spectrum, configuration,
+    term, j, energy_cm1 (required) and label, parity, unc_cm1, g, n, l,
+    lifetime_s, lande_g, dataset (optional). Lines starting with # are comments.
+
+    \b
+    Example:
+      levels import seed_data/demo/sample-li-cell.csv --sample demo-1
+    """
+    report = obj.catalog.import_file(file, sample=sample, dataset=dataset, kind=kind, citation=citation)
+    click.echo(f"imported {report.levels} levels of {', '.join(report.species)} into {report.kind} dataset "
+               f"{report.dataset!r} (id {report.dataset_id})" + (f" of sample {report.sample!r}" if report.sample else ""))
+
+
+def run() -> None:  # pragma: no cover - console entry for ``python -m levels``
+    main()
+
+
+if __name__ == "__main__":  # pragma: no cover
+    main()

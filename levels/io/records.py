@@ -1,0 +1,281 @@
+"""Validation of level rows (from files, web forms and API bodies) into records.
+
+Every field is checked on its own and against the others (term against J,
+parity against term and configuration, g against J, electrons against the
+species); each problem names source, line and field. A whole file is checked
+before anything is handed on, so an import is all-or-nothing.
+"""
+
+from __future__ import annotations
+
+import math
+import os
+from collections.abc import Iterable, Mapping
+from dataclasses import dataclass
+
+from levels.errors import InputFileError, NotationError, Problem
+from levels.io.tables import MAX_PROBLEMS, read_delimited
+from levels.notation import (
+    Spectrum,
+    format_configuration,
+    format_term,
+    level_label,
+    parse_configuration,
+    parse_j,
+    parse_spectrum,
+    parse_term,
+)
+
+#: level columns of the design contract, in order
+LEVEL_COLUMNS = (
+    "spectrum", "label", "configuration", "term", "j", "parity", "energy_cm1", "unc_cm1",
+    "g", "n", "l", "lifetime_s", "lande_g", "dataset",
+)
+LEVEL_REQUIRED = ("spectrum", "configuration", "term", "j", "energy_cm1")
+#: largest level energy accepted, cm-1 (about 12 MeV; above any bound one-electron state of U91+)
+MAX_ENERGY_CM1 = 1e11
+
+
+@dataclass(frozen=True)
+class LevelRecord:
+    """A validated level, ready for the store."""
+
+    spectrum: Spectrum
+    label: str
+    configuration: str
+    term: str
+    two_j: int
+    parity: int
+    energy_cm1: float
+    unc_cm1: float | None = None
+    multiplicity: int | None = None
+    big_l: int | None = None
+    n: int | None = None
+    l: int | None = None
+    lifetime_s: float | None = None
+    lande_g: float | None = None
+    dataset: str | None = None
+    line: int | None = None
+
+    @property
+    def state_key(self) -> tuple:
+        """Identity of the state within a species: (configuration, term, two_j)."""
+        return (self.configuration, self.term, self.two_j)
+
+
+class _Row:
+    """Collects the problems of one row."""
+
+    def __init__(self, source: str, line: int | None, fields: Mapping[str, object]):
+        self.source, self.line, self.fields = source, line, fields
+        self.problems: list[Problem] = []
+
+    def text(self, name: str) -> str:
+        value = self.fields.get(name)
+        if value is None:
+            return ""
+        return value.strip() if isinstance(value, str) else str(value)
+
+    def fail(self, field: str | None, message: str) -> None:
+        self.problems.append(Problem(self.source, self.line, field, message))
+
+    def number(self, name: str, *, required: bool = False, minimum: float | None = None,
+               strictly_positive: bool = False, maximum: float | None = None) -> float | None:
+        raw = self.fields.get(name)
+        if isinstance(raw, (int, float)) and not isinstance(raw, bool):
+            value = float(raw)
+            shown = repr(raw)
+        else:
+            text = self.text(name)
+            if not text:
+                if required:
+                    self.fail(name, "a value is required")
+                return None
+            shown = repr(text)
+            try:
+                value = float(text)
+            except ValueError:
+                self.fail(name, f"{shown} is not a number")
+                return None
+            if text.lower().lstrip("+-") in ("nan", "inf", "infinity"):
+                self.fail(name, f"{shown} is not a finite number")
+                return None
+        if not math.isfinite(value):
+            self.fail(name, f"{shown} is not a finite number")
+            return None
+        if strictly_positive and value <= 0:
+            self.fail(name, f"{shown} must be greater than zero")
+            return None
+        if minimum is not None and value < minimum:
+            self.fail(name, f"{shown} must not be negative" if minimum == 0 else f"{shown} is below {minimum}")
+            return None
+        if maximum is not None and value > maximum:
+            self.fail(name, f"{shown} is above the largest accepted value {maximum:g}")
+            return None
+        return value
+
+    def integer(self, name: str, minimum: int) -> int | None:
+        raw = self.fields.get(name)
+        if isinstance(raw, int) and not isinstance(raw, bool):
+            value = raw
+        else:
+            text = self.text(name)
+            if not text:
+                return None
+            try:
+                value = int(text)
+            except ValueError:
+                self.fail(name, f"{text!r} is not a whole number")
+                return None
+        if value < minimum:
+            self.fail(name, f"{value} is below {minimum}")
+            return None
+        return value
+
+
+def parse_parity(text: str) -> int:
+    """Parity from ``+1``/``1``/``even``/``e`` or ``-1``/``odd``/``o``/``°``."""
+    key = text.strip().lower()
+    if key in ("1", "+1", "+", "even", "e"):
+        return 1
+    if key in ("-1", "-", "odd", "o", "°"):
+        return -1
+    raise NotationError(f"{text!r} is not a parity (write +1 or -1, even or odd)")
+
+
+def validate_level(fields: Mapping[str, object], *, source: str, line: int | None = None,
+                   default_dataset: str | None = None) -> tuple[LevelRecord | None, list[Problem]]:
+    """Validate one level given as a mapping of field name to text (or number).
+
+    Returns
+    -------
+    (LevelRecord or None, list of Problem)
+        The record when there is no problem.
+    """
+    row = _Row(source, line, fields)
+    spectrum = configuration = term = None
+    two_j = None
+    try:
+        spectrum = parse_spectrum(row.text("spectrum"))
+    except NotationError as exc:
+        row.fail("spectrum", str(exc))
+    config_text = row.text("configuration")
+    if not config_text:
+        row.fail("configuration", "a value is required")
+    else:
+        try:
+            configuration = parse_configuration(config_text)
+        except NotationError as exc:
+            row.fail("configuration", str(exc))
+    try:
+        term = parse_term(row.text("term"))
+    except NotationError as exc:
+        row.fail("term", str(exc))
+    j_text = row.text("j")
+    if not j_text:
+        row.fail("j", "a value is required")
+    else:
+        try:
+            two_j = parse_j(j_text)
+        except NotationError as exc:
+            row.fail("j", str(exc))
+    energy = row.number("energy_cm1", required=True, minimum=0.0, maximum=MAX_ENERGY_CM1)
+    unc = row.number("unc_cm1", minimum=0.0, maximum=MAX_ENERGY_CM1)
+    lifetime = row.number("lifetime_s", strictly_positive=True)
+    lande = row.number("lande_g", maximum=1e3)
+    n = row.integer("n", 1)
+    l_value = row.integer("l", 0)
+    g = row.integer("g", 1)
+
+    parity = None
+    if row.text("parity"):
+        try:
+            parity = parse_parity(row.text("parity"))
+        except NotationError as exc:
+            row.fail("parity", str(exc))
+    if configuration is not None:
+        if spectrum is not None and configuration.electrons > spectrum.electrons:
+            row.fail("configuration", f"{config_text!r} holds {configuration.electrons} electrons, "
+                                      f"but {spectrum.name} has {spectrum.electrons}")
+        if term is not None and term.parity != configuration.parity:
+            row.fail("term", f"term {row.text('term')!r} has {_parity_word(term.parity)} parity, "
+                             f"configuration {config_text!r} has {_parity_word(configuration.parity)}")
+        if parity is not None and parity != configuration.parity:
+            row.fail("parity", f"parity {row.text('parity')!r} contradicts configuration {config_text!r} "
+                               f"({_parity_word(configuration.parity)})")
+        parity = configuration.parity
+        outer_n, outer_l, _ = configuration.outer
+        if n is not None and n != outer_n:
+            row.fail("n", f"n = {n} contradicts the outer subshell of {config_text!r} (n = {outer_n})")
+        if l_value is not None and l_value != outer_l:
+            row.fail("l", f"l = {l_value} contradicts the outer subshell of {config_text!r} (l = {outer_l})")
+        n, l_value = outer_n, outer_l
+    if term is not None and two_j is not None and not term.allows_two_j(two_j):
+        row.fail("j", f"J = {j_text} is impossible for the term {format_term(term)}")
+    if g is not None and two_j is not None and g != two_j + 1:
+        row.fail("g", f"g = {g} contradicts J = {j_text} (g = 2J + 1 = {two_j + 1})")
+
+    dataset = row.text("dataset") or default_dataset
+    if row.problems:
+        return None, row.problems
+    config_canonical = format_configuration(configuration)
+    term_canonical = format_term(term)
+    label = row.text("label") or level_label(config_canonical, term_canonical, two_j)
+    if len(label) > 200:
+        return None, [Problem(source, line, "label", "label is longer than 200 characters")]
+    record = LevelRecord(
+        spectrum=spectrum, label=label, configuration=config_canonical, term=term_canonical,
+        two_j=two_j, parity=parity, energy_cm1=energy, unc_cm1=unc,
+        multiplicity=term.multiplicity if term else None, big_l=term.L if term else None,
+        n=n, l=l_value, lifetime_s=lifetime, lande_g=lande, dataset=dataset, line=line,
+    )
+    return record, []
+
+
+def _parity_word(parity: int) -> str:
+    return "even" if parity == 1 else "odd"
+
+
+def validate_levels(items: Iterable[tuple[int | None, Mapping[str, object]]], *, source: str,
+                    default_dataset: str | None = None) -> list[LevelRecord]:
+    """Validate many level rows; raise :class:`InputFileError` listing every problem.
+
+    Also refuses two rows for the same state or the same label of one species,
+    and a file whose rows name different datasets.
+    """
+    records: list[LevelRecord] = []
+    problems: list[Problem] = []
+    seen_state: dict[tuple, int | None] = {}
+    seen_label: dict[tuple, int | None] = {}
+    for line, fields in items:
+        record, row_problems = validate_level(fields, source=source, line=line, default_dataset=default_dataset)
+        problems.extend(row_problems)
+        if record is not None:
+            key = (record.spectrum, record.state_key)
+            if key in seen_state:
+                problems.append(Problem(source, line, "j", f"duplicate state {record.label!r} of {record.spectrum.name}, "
+                                                          f"first given on line {seen_state[key]}"))
+            elif (record.spectrum, record.label) in seen_label:
+                problems.append(Problem(source, line, "label", f"duplicate label {record.label!r}, first given on line "
+                                                               f"{seen_label[(record.spectrum, record.label)]}"))
+            else:
+                seen_state[key] = line
+                seen_label[(record.spectrum, record.label)] = line
+                records.append(record)
+        if len(problems) >= MAX_PROBLEMS:
+            break
+    names = {r.dataset for r in records}
+    if len(names) > 1:
+        problems.append(Problem(source, None, "dataset", f"rows name several datasets ({', '.join(sorted(map(str, names)))}); "
+                                                        "one file makes one dataset"))
+    if problems:
+        raise InputFileError(problems)
+    return records
+
+
+def read_levels_file(path_or_bytes: str | os.PathLike | bytes, *, source: str | None = None,
+                     default_dataset: str | None = None) -> list[LevelRecord]:
+    """Read and validate a levels CSV (columns of :data:`LEVEL_COLUMNS`; see README)."""
+    table = read_delimited(path_or_bytes, source=source, known_columns=LEVEL_COLUMNS,
+                           required_columns=LEVEL_REQUIRED)
+    return validate_levels(table.rows, source=table.source, default_dataset=default_dataset)

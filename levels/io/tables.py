@@ -1,0 +1,319 @@
+"""Reading delimited text safely, and writing tables with a provenance header.
+
+Reading: :func:`read_delimited` takes bytes or a path and returns the header and
+the data rows with their physical line numbers, or raises
+:class:`~levels.errors.InputFileError` naming file, line and field. It refuses
+binary data, text that is not UTF-8, over-long lines and ragged rows.
+``#`` lines before the header and blank lines are skipped (but counted).
+
+Writing: :func:`format_table` renders rows as CSV (``#`` provenance lines, then a
+header), JSON (``{"provenance": {...}, "rows": [...]}``) or ECSV 1.0 (the
+Enhanced Character Separated Values format of the astropy project, an open
+specification: a YAML header in ``#`` lines). :func:`write_atomic` writes a file
+through a temporary file and a rename, so a reader never sees half a file.
+"""
+
+from __future__ import annotations
+
+import csv
+import io
+import json
+import math
+import os
+import tempfile
+from collections.abc import Iterable, Mapping, Sequence
+from dataclasses import dataclass
+from pathlib import Path
+
+from levels.errors import InputFileError, Problem
+
+MAX_LINE_BYTES = 1 << 20
+MAX_FILE_BYTES = 512 << 20
+MAX_PROBLEMS = 100
+FORMATS = ("csv", "json", "ecsv")
+
+
+@dataclass(frozen=True)
+class DelimitedTable:
+    """A parsed table: source name, header line number, columns and rows with line numbers."""
+
+    source: str
+    header_line: int
+    columns: tuple[str, ...]
+    rows: tuple[tuple[int, dict[str, str]], ...]
+
+
+def read_source(path_or_bytes: str | os.PathLike | bytes, source: str | None = None) -> tuple[str, bytes]:
+    """Load the raw bytes of a file (or take given bytes) with the name used in messages."""
+    if isinstance(path_or_bytes, (bytes, bytearray)):
+        return source or "<upload>", bytes(path_or_bytes)
+    path = Path(path_or_bytes)
+    name = source or path.name
+    try:
+        size = path.stat().st_size
+    except OSError as exc:
+        raise InputFileError([Problem(name, None, None, f"cannot read the file: {exc.strerror}")]) from None
+    if size > MAX_FILE_BYTES:
+        raise InputFileError([Problem(name, None, None, f"file is {size} bytes, more than the {MAX_FILE_BYTES} bytes accepted")])
+    try:
+        return name, path.read_bytes()
+    except OSError as exc:
+        raise InputFileError([Problem(name, None, None, f"cannot read the file: {exc.strerror}")]) from None
+
+
+def decode_lines(source: str, data: bytes) -> list[str]:
+    """Split bytes into text lines, refusing binary data, non-UTF-8 text and over-long lines."""
+    if not data.strip():
+        raise InputFileError([Problem(source, None, None, "the file is empty; expected a header line")])
+    if data.startswith(b"\xef\xbb\xbf"):
+        data = data[3:]
+    if data.startswith((b"\xff\xfe", b"\xfe\xff")):
+        raise InputFileError([Problem(source, 1, None, "the file is UTF-16 text; save it as UTF-8")])
+    raw_lines = data.split(b"\n")
+    problems = []
+    lines = []
+    for number, raw in enumerate(raw_lines, start=1):
+        if len(raw) > MAX_LINE_BYTES:
+            problems.append(Problem(source, number, None, f"line is {len(raw)} bytes long, more than {MAX_LINE_BYTES}"))
+            break
+        if b"\x00" in raw:
+            problems.append(Problem(source, number, None, "binary data (NUL byte); expected UTF-8 text"))
+            break
+        try:
+            text = raw.decode("utf-8")
+        except UnicodeDecodeError as exc:
+            problems.append(Problem(
+                source, number, None,
+                f"not UTF-8 text (byte 0x{raw[exc.start]:02x} at column {exc.start + 1}); save the file as UTF-8",
+            ))
+            break
+        lines.append(text.rstrip("\r"))
+    if problems:
+        raise InputFileError(problems)
+    return lines
+
+
+def read_delimited(path_or_bytes: str | os.PathLike | bytes, *, source: str | None = None,
+                   known_columns: Sequence[str] | None = None,
+                   required_columns: Sequence[str] = ()) -> DelimitedTable:
+    """Read a comma-separated file with a header line.
+
+    Parameters
+    ----------
+    path_or_bytes : path or bytes
+        The file, or its content.
+    source : str, optional
+        Name used in messages (default: the file name).
+    known_columns : sequence of str, optional
+        If given, any other column is an error.
+    required_columns : sequence of str
+        Columns that must be present.
+
+    Raises
+    ------
+    InputFileError
+        With every problem found (up to a limit), each naming file, line and field.
+    """
+    name, data = read_source(path_or_bytes, source)
+    lines = decode_lines(name, data)
+    index = 0
+    while index < len(lines) and (not lines[index].strip() or lines[index].lstrip().startswith("#")):
+        index += 1
+    if index == len(lines):
+        raise InputFileError([Problem(name, None, None, "no header line; the file holds only comments or blank lines")])
+    header_line = index + 1
+    header = [cell.strip() for cell in next(csv.reader([lines[index]]))]
+    problems = _check_header(name, header_line, header, known_columns, required_columns)
+    if problems:
+        raise InputFileError(problems)
+    rows = []
+    for offset, text in enumerate(lines[index + 1:], start=index + 2):
+        if not text.strip() or text.lstrip().startswith("#"):
+            continue
+        try:
+            cells = next(csv.reader([text]))
+        except csv.Error as exc:
+            problems.append(Problem(name, offset, None, f"malformed CSV: {exc}"))
+            continue
+        if len(cells) != len(header):
+            problems.append(Problem(name, offset, None, f"expected {len(header)} fields as in the header, found {len(cells)}"))
+            if len(problems) >= MAX_PROBLEMS:
+                break
+            continue
+        rows.append((offset, {col: cell.strip() for col, cell in zip(header, cells)}))
+    if problems:
+        raise InputFileError(problems)
+    if not rows:
+        raise InputFileError([Problem(name, header_line, None, "the header is not followed by any data row")])
+    return DelimitedTable(name, header_line, tuple(header), tuple(rows))
+
+
+def _check_header(name: str, line: int, header: list[str], known: Sequence[str] | None,
+                  required: Sequence[str]) -> list[Problem]:
+    problems = []
+    seen = set()
+    for col in header:
+        if not col:
+            problems.append(Problem(name, line, None, "the header has an empty column name"))
+        elif col in seen:
+            problems.append(Problem(name, line, col, "column appears twice in the header"))
+        seen.add(col)
+    if known is not None:
+        for col in header:
+            if col and col not in known:
+                problems.append(Problem(name, line, col, f"unknown column; known columns are {', '.join(known)}"))
+    for col in required:
+        if col not in seen:
+            problems.append(Problem(name, line, col, "required column is missing from the header"))
+    return problems
+
+
+# ----------------------------------------------------------------- writing
+
+def _cell(value) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, float):
+        if math.isnan(value):
+            return ""
+        return repr(value)
+    return str(value)
+
+
+def _json_value(value):
+    if isinstance(value, float) and not math.isfinite(value):
+        return None
+    if hasattr(value, "item"):
+        return _json_value(value.item())
+    return value
+
+
+def provenance_lines(provenance: Mapping[str, object]) -> list[str]:
+    """``key: value`` lines of a provenance mapping, in order."""
+    return [f"{key}: {value}" for key, value in provenance.items()]
+
+
+def format_table(rows: Iterable[Mapping[str, object]], columns: Sequence[str], fmt: str,
+                 provenance: Mapping[str, object], units: Mapping[str, str] | None = None) -> str:
+    """Render rows in CSV, JSON or ECSV with the provenance header.
+
+    Parameters
+    ----------
+    rows : iterable of mappings
+        Each row maps column name to value (missing or None = empty).
+    columns : sequence of str
+        Column order (the contract).
+    fmt : {"csv", "json", "ecsv"}
+    provenance : mapping
+        Tool version, store, datasets, query, air formula ...: written as ``#``
+        lines (CSV), a ``provenance`` object (JSON) or ECSV ``meta``.
+    units : mapping, optional
+        Unit per column, written into the ECSV header.
+    """
+    rows = list(rows)
+    if fmt == "csv":
+        out = io.StringIO()
+        for line in provenance_lines(provenance):
+            out.write(f"# {line}\n")
+        writer = csv.writer(out, lineterminator="\n")
+        writer.writerow(columns)
+        for row in rows:
+            writer.writerow([_cell(row.get(c)) for c in columns])
+        return out.getvalue()
+    if fmt == "json":
+        payload = {
+            "provenance": {k: _json_value(v) for k, v in provenance.items()},
+            "columns": list(columns),
+            "rows": [{c: _json_value(row.get(c)) for c in columns} for row in rows],
+        }
+        return json.dumps(payload, ensure_ascii=False, indent=1) + "\n"
+    if fmt == "ecsv":
+        return _format_ecsv(rows, columns, provenance, units or {})
+    raise ValueError(f"unknown format {fmt!r}; choose one of {', '.join(FORMATS)}")
+
+
+def _ecsv_type(values: list) -> str:
+    present = [v for v in values if v is not None and not (isinstance(v, float) and math.isnan(v))]
+    if present and all(isinstance(v, bool) for v in present):
+        return "bool"
+    if present and all(isinstance(v, int) and not isinstance(v, bool) for v in present):
+        return "int64"
+    if present and all(isinstance(v, (int, float)) and not isinstance(v, bool) for v in present):
+        return "float64"
+    return "string"
+
+
+def _yaml_scalar(value) -> str:
+    return json.dumps(_json_value(value), ensure_ascii=False)
+
+
+def _format_ecsv(rows: list, columns: Sequence[str], provenance: Mapping[str, object],
+                 units: Mapping[str, str]) -> str:
+    out = io.StringIO()
+    out.write("# %ECSV 1.0\n# ---\n# delimiter: ','\n# datatype:\n")
+    for col in columns:
+        dtype = _ecsv_type([row.get(col) for row in rows])
+        unit = units.get(col)
+        entry = f"# - {{name: {col}, datatype: {dtype}"
+        if unit:
+            entry += f", unit: {_yaml_scalar(unit)}"
+        out.write(entry + "}\n")
+    out.write("# meta:\n")
+    for key, value in provenance.items():
+        out.write(f"#   {key}: {_yaml_scalar(value)}\n")
+    writer = csv.writer(out, lineterminator="\n")
+    writer.writerow(columns)
+    for row in rows:
+        writer.writerow([_cell(row.get(c)) for c in columns])
+    return out.getvalue()
+
+
+def write_atomic(path: str | os.PathLike, content: str) -> None:
+    """Write text to ``path`` through a temporary file in the same folder and a rename."""
+    target = Path(path)
+    target.parent.mkdir(parents=True, exist_ok=True)
+    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
+            handle.write(content)
+            handle.flush()
+            os.fsync(handle.fileno())
+        os.replace(tmp, target)
+    except BaseException:
+        with __import__("contextlib").suppress(OSError):
+            os.unlink(tmp)
+        raise
+
+
+def format_text_table(rows: Sequence[Mapping[str, object]], columns: Sequence[str],
+                      headings: Mapping[str, str] | None = None, max_rows: int | None = None) -> str:
+    """An aligned plain-text table for people (numbers right-aligned)."""
+    headings = headings or {}
+    shown = list(rows if max_rows is None else rows[:max_rows])
+    cells = [[_human(row.get(c)) for c in columns] for row in shown]
+    titles = [headings.get(c, c) for c in columns]
+    widths = [max([len(t)] + [len(r[i]) for r in cells]) for i, t in enumerate(titles)]
+    numeric = [all(_is_number(row.get(c)) for row in shown if row.get(c) is not None) for c in columns]
+    def fmt(values):
+        return "  ".join(v.rjust(w) if num else v.ljust(w) for v, w, num in zip(values, widths, numeric)).rstrip()
+    out = [fmt(titles), fmt(["-" * w for w in widths])]
+    out.extend(fmt(r) for r in cells)
+    if max_rows is not None and len(rows) > max_rows:
+        out.append(f"... {len(rows) - max_rows} more rows (use --format csv or --output for all)")
+    return "\n".join(out) + "\n"
+
+
+def _is_number(value) -> bool:
+    return isinstance(value, (int, float)) and not isinstance(value, bool)
+
+
+def _human(value) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, float):
+        if math.isnan(value):
+            return ""
+        if value != 0 and (abs(value) >= 1e7 or abs(value) < 1e-3):
+            return f"{value:.4e}"
+        return f"{value:.6g}" if abs(value) < 1e3 else f"{value:.4f}".rstrip("0").rstrip(".")
+    return str(value)

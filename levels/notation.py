@@ -1,0 +1,515 @@
+"""Spectrum notation, J values, term symbols, configurations and level labels.
+
+Conventions of the trade (no single paper; the notation of atomic spectroscopy
+textbooks such as Cowan, *The Theory of Atomic Structure and Spectra*, 1981):
+
+* a spectrum is an element symbol and a Roman numeral one more than the ion
+  charge: ``H I`` (neutral hydrogen), ``He II`` (He+), ``U XCII`` (U91+);
+  ion notation ``C+5``, ``C5+``, ``C^5+`` is accepted on input. ``D`` and ``T``
+  stand for hydrogen-2 and hydrogen-3.
+* J is stored as the integer ``two_j`` = 2J.
+* an LS term is multiplicity 2S+1, an L letter and ``°`` for odd parity
+  (``2P°``; ``o`` is accepted on input).
+* a configuration lists subshells ``n l^k`` separated by ``.`` (``1s2.2s2.2p6.3s``);
+  a noble-gas core in brackets (``[Ne].3s``) is accepted.
+
+Beyond the letters in use (l <= 19, L <= 19) this module writes the number in
+brackets, ``45[27]`` for n = 45, l = 27; ``2[27]`` for a doublet with L = 27.
+"""
+
+from __future__ import annotations
+
+import re
+from dataclasses import dataclass
+from fractions import Fraction
+
+from levels.errors import NotationError
+
+#: element symbols, index = Z (index 0 unused)
+ELEMENTS: tuple[str, ...] = (
+    "",
+    "H", "He", "Li", "Be", "B", "C", "N", "O", "F", "Ne",
+    "Na", "Mg", "Al", "Si", "P", "S", "Cl", "Ar", "K", "Ca",
+    "Sc", "Ti", "V", "Cr", "Mn", "Fe", "Co", "Ni", "Cu", "Zn",
+    "Ga", "Ge", "As", "Se", "Br", "Kr", "Rb", "Sr", "Y", "Zr",
+    "Nb", "Mo", "Tc", "Ru", "Rh", "Pd", "Ag", "Cd", "In", "Sn",
+    "Sb", "Te", "I", "Xe", "Cs", "Ba", "La", "Ce", "Pr", "Nd",
+    "Pm", "Sm", "Eu", "Gd", "Tb", "Dy", "Ho", "Er", "Tm", "Yb",
+    "Lu", "Hf", "Ta", "W", "Re", "Os", "Ir", "Pt", "Au", "Hg",
+    "Tl", "Pb", "Bi", "Po", "At", "Rn", "Fr", "Ra", "Ac", "Th",
+    "Pa", "U", "Np", "Pu", "Am", "Cm", "Bk", "Cf", "Es", "Fm",
+    "Md", "No", "Lr", "Rf", "Db", "Sg", "Bh", "Hs", "Mt", "Ds",
+    "Rg", "Cn", "Nh", "Fl", "Mc", "Lv", "Ts", "Og",
+)
+Z_MAX = len(ELEMENTS) - 1
+_Z_OF = {symbol: z for z, symbol in enumerate(ELEMENTS) if symbol}
+#: hydrogen isotopes written with their own symbol
+ISOTOPE_SYMBOLS = {"D": (1, 2), "T": (1, 3)}
+
+#: orbital letters for l = 0..19 (lower case; term letters are upper case)
+L_LETTERS = "spdfghiklmnoqrtuvwxy"
+_L_OF = {letter: l for l, letter in enumerate(L_LETTERS)}
+
+_ROMAN = (
+    (100, "C"), (90, "XC"), (50, "L"), (40, "XL"), (10, "X"), (9, "IX"),
+    (5, "V"), (4, "IV"), (1, "I"),
+)
+
+
+def element_symbol(z: int) -> str:
+    """Symbol of element ``z`` (1..118)."""
+    if not isinstance(z, int) or not 1 <= z <= Z_MAX:
+        raise NotationError(f"atomic number {z!r} is outside 1..{Z_MAX}")
+    return ELEMENTS[z]
+
+
+def atomic_number(symbol: str) -> int:
+    """Atomic number of an element symbol (case as written: ``Fe``, not ``FE``)."""
+    if symbol in _Z_OF:
+        return _Z_OF[symbol]
+    if symbol in ISOTOPE_SYMBOLS:
+        return ISOTOPE_SYMBOLS[symbol][0]
+    raise NotationError(f"unknown element symbol {symbol!r}")
+
+
+def to_roman(number: int) -> str:
+    """Roman numeral of a positive integer (``92`` -> ``XCII``)."""
+    if not isinstance(number, int) or number < 1 or number > 399:
+        raise NotationError(f"spectrum number {number!r} is outside 1..399")
+    out = []
+    for value, letters in _ROMAN:
+        while number >= value:
+            out.append(letters)
+            number -= value
+    return "".join(out)
+
+
+def from_roman(text: str) -> int:
+    """Integer of a canonical Roman numeral; non-canonical forms (``IIII``) are refused."""
+    if not text or any(ch not in "IVXLC" for ch in text):
+        raise NotationError(f"{text!r} is not a Roman numeral")
+    total, i = 0, 0
+    for value, letters in _ROMAN:
+        while text.startswith(letters, i):
+            total += value
+            i += len(letters)
+    if i != len(text) or total == 0 or to_roman(total) != text:
+        raise NotationError(f"{text!r} is not a canonical Roman numeral")
+    return total
+
+
+@dataclass(frozen=True, order=True)
+class Spectrum:
+    """An atom or ion: atomic number and charge, optionally one isotope.
+
+    ``mass_number`` is ``None`` when not given (the store then takes the most
+    abundant isotope); ``D`` and ``T`` set it to 2 and 3.
+    """
+
+    z: int
+    charge: int
+    mass_number: int | None = None
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.z, int) or not 1 <= self.z <= Z_MAX:
+            raise NotationError(f"atomic number {self.z!r} is outside 1..{Z_MAX}")
+        if not isinstance(self.charge, int) or not 0 <= self.charge <= self.z - 1:
+            raise NotationError(
+                f"charge {self.charge!r} is outside 0..{self.z - 1} for {ELEMENTS[self.z]} "
+                "(a species must keep at least one electron)"
+            )
+        if self.mass_number is not None and (
+            not isinstance(self.mass_number, int) or not self.z <= self.mass_number <= 300
+        ):
+            raise NotationError(f"mass number {self.mass_number!r} is impossible for Z = {self.z}")
+
+    @property
+    def electrons(self) -> int:
+        """Number of bound electrons."""
+        return self.z - self.charge
+
+    @property
+    def symbol(self) -> str:
+        """Element symbol, ``D``/``T`` for hydrogen-2/3."""
+        if self.z == 1 and self.mass_number in (2, 3):
+            return "D" if self.mass_number == 2 else "T"
+        return ELEMENTS[self.z]
+
+    @property
+    def name(self) -> str:
+        """Spectrum notation, ``He II``."""
+        return f"{self.symbol} {to_roman(self.charge + 1)}"
+
+    @property
+    def url_name(self) -> str:
+        """Spectrum notation with ``_`` for the space, for URLs (``He_II``)."""
+        return self.name.replace(" ", "_")
+
+    def __str__(self) -> str:
+        return self.name
+
+
+_SPECTRUM_ROMAN = re.compile(r"^([A-Z][a-z]?)[ _]+([IVXLC]+)$")
+_SPECTRUM_ION = re.compile(r"^([A-Z][a-z]?)(?:\^?([+-])(\d*)|\^?(\d+)([+-]))?$")
+
+
+def parse_spectrum(text: str) -> Spectrum:
+    """Parse spectrum or ion notation.
+
+    Parameters
+    ----------
+    text : str
+        ``"H I"``, ``"He II"``, ``"Fe XXVI"``, ``"U XCII"``, ``"He_II"``,
+        ``"C+5"``, ``"C5+"``, ``"C^5+"``, ``"Na"`` (neutral), ``"D I"``.
+
+    Returns
+    -------
+    Spectrum
+
+    Raises
+    ------
+    NotationError
+        Naming the offending part (unknown symbol, bad numeral, impossible charge).
+
+    Examples
+    --------
+    >>> parse_spectrum("C5+").name
+    'C VI'
+    >>> parse_spectrum("U XCII")
+    Spectrum(z=92, charge=91, mass_number=None)
+    """
+    if not isinstance(text, str):
+        raise NotationError(f"spectrum must be text, got {type(text).__name__}")
+    stripped = text.strip()
+    if not stripped:
+        raise NotationError("empty spectrum; write it like 'He II' or 'C5+'")
+    match = _SPECTRUM_ROMAN.match(stripped)
+    if match:
+        symbol, numeral = match.groups()
+        z, mass = _symbol_z_mass(symbol, text)
+        try:
+            number = from_roman(numeral)
+        except NotationError as exc:
+            raise NotationError(f"spectrum {text!r}: {exc}") from None
+        return _make_spectrum(z, number - 1, mass, text)
+    match = _SPECTRUM_ION.match(stripped)
+    if match:
+        symbol, sign_a, digits_a, digits_b, sign_b = match.groups()
+        z, mass = _symbol_z_mass(symbol, text)
+        if sign_a is not None:
+            sign, digits = sign_a, digits_a
+        elif sign_b is not None:
+            sign, digits = sign_b, digits_b
+        else:
+            return _make_spectrum(z, 0, mass, text)
+        if sign == "-":
+            raise NotationError(f"spectrum {text!r}: negative ions are not supported")
+        charge = int(digits) if digits else 1
+        return _make_spectrum(z, charge, mass, text)
+    raise NotationError(
+        f"{text!r} is not spectrum notation; write it like 'He II', 'Fe XXVI' or 'C5+'"
+    )
+
+
+def _symbol_z_mass(symbol: str, text: str) -> tuple[int, int | None]:
+    if symbol in ISOTOPE_SYMBOLS:
+        return ISOTOPE_SYMBOLS[symbol]
+    if symbol in _Z_OF:
+        return _Z_OF[symbol], None
+    raise NotationError(f"spectrum {text!r}: unknown element symbol {symbol!r}")
+
+
+def _make_spectrum(z: int, charge: int, mass: int | None, text: str) -> Spectrum:
+    try:
+        return Spectrum(z, charge, mass)
+    except NotationError as exc:
+        raise NotationError(f"spectrum {text!r}: {exc}") from None
+
+
+def format_spectrum(z: int, charge: int, mass_number: int | None = None) -> str:
+    """Spectrum notation of (Z, charge): ``format_spectrum(26, 25)`` -> ``'Fe XXVI'``."""
+    return Spectrum(z, charge, mass_number).name
+
+
+# ----------------------------------------------------------------- J values
+
+def parse_j(text: str | float | int) -> int:
+    """Parse a J value and return ``two_j`` = 2J.
+
+    Accepts ``"3/2"``, ``"1.5"``, ``"2"``, ``1.5``. A value that is not a
+    non-negative whole or half integer raises :class:`NotationError`
+    (``'5/3' is not a whole or half-integer``).
+
+    Examples
+    --------
+    >>> parse_j("3/2"), parse_j("1.5"), parse_j("0")
+    (3, 3, 0)
+    """
+    if isinstance(text, bool):
+        raise NotationError(f"{text!r} is not a J value")
+    if isinstance(text, (int, float)):
+        raw = repr(text)
+        value = Fraction(text).limit_denominator(1000) if isinstance(text, float) else Fraction(text)
+        if isinstance(text, float) and float(value) != text:
+            raise NotationError(f"{raw!r} is not a whole or half-integer")
+    else:
+        raw = text.strip()
+        try:
+            if "/" in raw:
+                num, den = raw.split("/", 1)
+                if not re.fullmatch(r"\d+", num.strip()) or not re.fullmatch(r"\d+", den.strip()):
+                    raise ValueError
+                value = Fraction(int(num), int(den))
+            else:
+                if not re.fullmatch(r"\d+(\.\d*)?|\.\d+", raw):
+                    raise ValueError
+                value = Fraction(raw)
+        except (ValueError, ZeroDivisionError):
+            raise NotationError(f"{raw!r} is not a J value (write 3/2, 1.5 or 2)") from None
+    if value < 0:
+        raise NotationError(f"{raw!r}: J cannot be negative")
+    doubled = value * 2
+    if doubled.denominator != 1:
+        raise NotationError(f"{raw!r} is not a whole or half-integer")
+    return int(doubled)
+
+
+def format_j(two_j: int) -> str:
+    """Text of J from ``two_j``: 3 -> ``'3/2'``, 4 -> ``'2'``."""
+    if not isinstance(two_j, int) or isinstance(two_j, bool) or two_j < 0:
+        raise NotationError(f"two_j {two_j!r} must be a non-negative integer")
+    return str(two_j // 2) if two_j % 2 == 0 else f"{two_j}/2"
+
+
+# ----------------------------------------------------------------- terms
+
+@dataclass(frozen=True)
+class Term:
+    """An LS term: multiplicity 2S+1, total orbital L, parity (+1 even, -1 odd)."""
+
+    multiplicity: int
+    L: int
+    parity: int
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.multiplicity, int) or self.multiplicity < 1:
+            raise NotationError(f"multiplicity {self.multiplicity!r} must be a positive integer")
+        if not isinstance(self.L, int) or self.L < 0:
+            raise NotationError(f"L {self.L!r} must be a non-negative integer")
+        if self.parity not in (1, -1):
+            raise NotationError(f"parity {self.parity!r} must be +1 or -1")
+
+    @property
+    def two_s(self) -> int:
+        """2S = multiplicity - 1."""
+        return self.multiplicity - 1
+
+    def allows_two_j(self, two_j: int) -> bool:
+        """Whether J is one of |L-S| .. L+S."""
+        two_l = 2 * self.L
+        return abs(two_l - self.two_s) <= two_j <= two_l + self.two_s and (two_j - two_l - self.two_s) % 2 == 0
+
+    def __str__(self) -> str:
+        return format_term(self)
+
+
+def l_letter(l: int, upper: bool = False) -> str:
+    """Letter of orbital angular momentum ``l`` (``3`` -> ``'f'``), bracketed past 19."""
+    if not isinstance(l, int) or l < 0:
+        raise NotationError(f"l {l!r} must be a non-negative integer")
+    if l < len(L_LETTERS):
+        letter = L_LETTERS[l]
+        return letter.upper() if upper else letter
+    return f"[{l}]"
+
+
+def _l_from_letter(text: str, context: str) -> int:
+    lower = text.lower()
+    if lower in _L_OF:
+        return _L_OF[lower]
+    match = re.fullmatch(r"\[(\d+)\]", text)
+    if match:
+        return int(match.group(1))
+    raise NotationError(f"{context}: {text!r} is not an orbital letter ({L_LETTERS})")
+
+
+_TERM = re.compile(r"^(\d+)([A-Z]|\[\d+\])(°|o|\*)?$")
+
+
+def parse_term(text: str) -> Term | None:
+    """Parse an LS term (``2P``, ``3D°``, ``2Po``); blank text gives ``None``.
+
+    Examples
+    --------
+    >>> parse_term("2P°")
+    Term(multiplicity=2, L=1, parity=-1)
+    >>> str(parse_term("3Do"))
+    '3D°'
+    """
+    if not isinstance(text, str):
+        raise NotationError(f"term must be text, got {type(text).__name__}")
+    stripped = text.strip()
+    if not stripped:
+        return None
+    match = _TERM.match(stripped)
+    if not match:
+        raise NotationError(
+            f"{text!r} is not an LS term; write multiplicity, L letter and ° for odd parity, like '2P°'"
+        )
+    mult, letter, odd = match.groups()
+    if letter == "J":
+        raise NotationError(f"term {text!r}: J is not an L letter")
+    L = _l_from_letter(letter, f"term {text!r}")
+    return Term(int(mult), L, -1 if odd else 1)
+
+
+def format_term(term: Term | None) -> str:
+    """Text of a term with the trade's ``°`` on odd parity; ``None`` gives ``''``."""
+    if term is None:
+        return ""
+    return f"{term.multiplicity}{l_letter(term.L, upper=True)}{'°' if term.parity == -1 else ''}"
+
+
+# ----------------------------------------------------------------- configurations
+
+_CORES: dict[str, tuple[tuple[int, int, int], ...]] = {}
+
+
+def _core(*shells: str) -> tuple[tuple[int, int, int], ...]:
+    out = []
+    for shell in shells:
+        out.append((int(shell[0]), _L_OF[shell[1]], int(shell[2:])))
+    return tuple(out)
+
+
+_CORES["He"] = _core("1s2")
+_CORES["Ne"] = _CORES["He"] + _core("2s2", "2p6")
+_CORES["Ar"] = _CORES["Ne"] + _core("3s2", "3p6")
+_CORES["Kr"] = _CORES["Ar"] + _core("3d10", "4s2", "4p6")
+_CORES["Xe"] = _CORES["Kr"] + _core("4d10", "5s2", "5p6")
+_CORES["Rn"] = _CORES["Xe"] + _core("4f14", "5d10", "6s2", "6p6")
+
+_SUBSHELL = re.compile(r"^(\d+)([a-z]|\[\d+\])(\d*)$")
+
+
+@dataclass(frozen=True)
+class Configuration:
+    """An electron configuration: ``(n, l, occupancy)`` per subshell, in written order.
+
+    ``core`` keeps a bracketed noble-gas core as written (``"Ne"``) so it is
+    formatted back the same way.
+    """
+
+    subshells: tuple[tuple[int, int, int], ...]
+    core: str | None = None
+
+    @property
+    def all_subshells(self) -> tuple[tuple[int, int, int], ...]:
+        """Subshells including the expanded core."""
+        return (_CORES[self.core] if self.core else ()) + self.subshells
+
+    @property
+    def electrons(self) -> int:
+        """Number of electrons, core included."""
+        return sum(k for _, _, k in self.all_subshells)
+
+    @property
+    def parity(self) -> int:
+        """(-1)^(sum of l over all electrons): +1 even, -1 odd."""
+        return -1 if sum(l * k for _, l, k in self.all_subshells) % 2 else 1
+
+    @property
+    def outer(self) -> tuple[int, int, int]:
+        """The last subshell written (the running electron of a series)."""
+        shells = self.all_subshells
+        if not shells:
+            raise NotationError("empty configuration has no outer subshell")
+        return shells[-1]
+
+    def __str__(self) -> str:
+        return format_configuration(self)
+
+
+def parse_configuration(text: str) -> Configuration:
+    """Parse a configuration (``1s2.2s2.2p6.3s``, ``3d``, ``[Ne].3s``, ``2p5 3p``).
+
+    Raises
+    ------
+    NotationError
+        Naming the subshell that is malformed or over-full, or an l >= n.
+
+    Examples
+    --------
+    >>> parse_configuration("1s2.2s2.2p6.3s").parity
+    1
+    >>> parse_configuration("2p").parity
+    -1
+    """
+    if not isinstance(text, str):
+        raise NotationError(f"configuration must be text, got {type(text).__name__}")
+    stripped = text.strip()
+    if not stripped:
+        raise NotationError("empty configuration")
+    core = None
+    rest = stripped
+    match = re.match(r"^\[([A-Z][a-z])\]\.?\s*", rest)
+    if match:
+        core = match.group(1)
+        if core not in _CORES:
+            raise NotationError(f"configuration {text!r}: unknown core [{core}]")
+        rest = rest[match.end():]
+    parts = [p for p in re.split(r"[.\s]+", rest) if p]
+    if not parts and core is None:
+        raise NotationError(f"configuration {text!r} has no subshells")
+    subshells = []
+    seen = {(n, l) for n, l, _ in (_CORES[core] if core else ())}
+    for part in parts:
+        m = _SUBSHELL.match(part)
+        if not m:
+            raise NotationError(f"configuration {text!r}: {part!r} is not a subshell like '2p6'")
+        n = int(m.group(1))
+        l = _l_from_letter(m.group(2), f"configuration {text!r}")
+        k = int(m.group(3)) if m.group(3) else 1
+        if n < 1:
+            raise NotationError(f"configuration {text!r}: {part!r} has n < 1")
+        if l >= n:
+            raise NotationError(f"configuration {text!r}: {part!r} has l >= n")
+        if not 1 <= k <= 4 * l + 2:
+            raise NotationError(f"configuration {text!r}: {part!r} holds {k} electrons, at most {4 * l + 2}")
+        if (n, l) in seen:
+            raise NotationError(f"configuration {text!r}: subshell {part!r} appears twice")
+        seen.add((n, l))
+        subshells.append((n, l, k))
+    return Configuration(tuple(subshells), core)
+
+
+def format_configuration(config: Configuration) -> str:
+    """Text of a configuration; occupancy 1 is not written (``2p6.3s``)."""
+    parts = [f"[{config.core}]"] if config.core else []
+    for n, l, k in config.subshells:
+        parts.append(f"{n}{l_letter(l)}{'' if k == 1 else k}")
+    return ".".join(parts)
+
+
+def level_label(configuration: str, term: str, two_j: int) -> str:
+    """Level label ``<configuration> <term><J>``, e.g. ``'3d 2D5/2'``."""
+    j_text = format_j(two_j)
+    return f"{configuration} {term}{j_text}" if term else f"{configuration} J={j_text}"
+
+
+def label_pattern_to_regex(pattern: str) -> re.Pattern[str]:
+    """Compile a series pattern where ``n`` stands for the running principal number.
+
+    ``"ns 2S1/2"`` matches ``"5s 2S1/2"``; the principal number is captured as group ``n``.
+    Only an ``n`` that starts the configuration (or follows a ``.``) is the running number.
+    """
+    if not isinstance(pattern, str) or "n" not in pattern:
+        raise NotationError(f"series pattern {pattern!r} must contain 'n' for the running principal number")
+    config, _, rest = pattern.strip().partition(" ")
+    head, dot, last = config.rpartition(".")
+    if not last.startswith("n"):
+        raise NotationError(f"series pattern {pattern!r}: the last subshell must start with 'n', like 'ns'")
+    regex = re.escape(head + dot) + r"(?P<n>\d+)" + re.escape(last[1:])
+    if rest:
+        regex += re.escape(" " + rest)
+    return re.compile("^" + regex + "$")

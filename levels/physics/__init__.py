@@ -1,0 +1,1 @@
+"""Pure physics: numpy/scipy functions on numbers and arrays; no store, no web."""

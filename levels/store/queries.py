@@ -1,0 +1,238 @@
+"""Queries and writes on the store (the only module besides ``database`` that speaks SQL).
+
+All functions take an open :class:`~sqlalchemy.orm.Session`; the caller owns
+the transaction (see :func:`levels.store.database.run_in_transaction`).
+"""
+
+from __future__ import annotations
+
+import getpass
+import json
+from collections.abc import Iterable, Sequence
+
+from sqlalchemy import delete, func, insert, select
+from sqlalchemy.orm import Session
+
+from levels.errors import AlreadyExistsError, NotFoundError
+from levels.isotopes import default_isotope, isotope
+from levels.notation import Spectrum
+from levels.store.schema import (
+    AuditEntry,
+    Dataset,
+    IonizationLimit,
+    Level,
+    Line,
+    Sample,
+    Species,
+    utcnow,
+)
+
+KIND_RANK = {"measured": 0, "imported": 1, "computed": 2}
+
+
+def current_actor() -> str:
+    """The OS user running this process (the default author of writes)."""
+    try:
+        return getpass.getuser()
+    except Exception:  # getpass raises several kinds when no user database entry exists
+        return "unknown"
+
+
+def record_audit(session: Session, action: str, target: str, detail: dict | None = None,
+                 actor: str | None = None) -> None:
+    """Append one audit entry in the caller's transaction."""
+    session.add(AuditEntry(at=utcnow(), actor=actor or current_actor(), action=action, target=target,
+                           detail_json=json.dumps(detail or {}, sort_keys=True, default=str)))
+
+
+# ----------------------------------------------------------------- species
+
+def find_species(session: Session, spectrum: Spectrum) -> Species | None:
+    """The stored species for a spectrum, or None.
+
+    Without a mass number, the default isotope is preferred; if it is absent and
+    exactly one isotope of that ion is stored, that one is taken.
+    """
+    if spectrum.mass_number is not None:
+        return session.scalars(select(Species).where(
+            Species.z == spectrum.z, Species.charge == spectrum.charge,
+            Species.mass_number == spectrum.mass_number)).one_or_none()
+    rows = session.scalars(select(Species).where(Species.z == spectrum.z, Species.charge == spectrum.charge)
+                           .order_by(Species.mass_number)).all()
+    if not rows:
+        return None
+    default_a = default_isotope(spectrum.z).mass_number
+    for row in rows:
+        if row.mass_number == default_a:
+            return row
+    return rows[0] if len(rows) == 1 else None
+
+
+def require_species(session: Session, spectrum: Spectrum) -> Species:
+    """Like :func:`find_species` but raise :class:`NotFoundError`."""
+    species = find_species(session, spectrum)
+    if species is None:
+        raise NotFoundError(f"no species {spectrum.name} in the store")
+    return species
+
+
+def get_or_create_species(session: Session, spectrum: Spectrum) -> Species:
+    """The stored species, created (default isotope if none given) when absent."""
+    found = find_species(session, spectrum)
+    if found is not None:
+        return found
+    mass_number = spectrum.mass_number or default_isotope(spectrum.z).mass_number
+    isotope(spectrum.z, mass_number)  # raises NotFoundError for an unknown isotope
+    named = Spectrum(spectrum.z, spectrum.charge, mass_number)
+    species = Species(z=spectrum.z, charge=spectrum.charge, mass_number=mass_number,
+                      name=named.name if spectrum.z == 1 else spectrum.name)
+    session.add(species)
+    session.flush()
+    return species
+
+
+def species_spectrum(species: Species) -> Spectrum:
+    """The Spectrum of a stored species."""
+    return Spectrum(species.z, species.charge, species.mass_number)
+
+
+# ----------------------------------------------------------------- samples and datasets
+
+def find_dataset(session: Session, name: str) -> Dataset | None:
+    """A dataset by name, or None."""
+    return session.scalars(select(Dataset).where(Dataset.name == name)).one_or_none()
+
+
+def require_dataset(session: Session, name_or_id: str | int) -> Dataset:
+    """A dataset by name or numeric id, or :class:`NotFoundError`."""
+    dataset = None
+    if isinstance(name_or_id, int) or (isinstance(name_or_id, str) and name_or_id.isdigit()):
+        dataset = session.get(Dataset, int(name_or_id))
+    if dataset is None and isinstance(name_or_id, str):
+        dataset = find_dataset(session, name_or_id)
+    if dataset is None:
+        raise NotFoundError(f"no dataset {name_or_id!r} in the store")
+    return dataset
+
+
+def create_dataset(session: Session, *, name: str, kind: str, method: str = "", method_version: str = "",
+                   citation: str = "", author: str | None = None, description: str = "",
+                   options: dict | None = None, sample: Sample | None = None) -> Dataset:
+    """Add a dataset; its name must be new."""
+    if find_dataset(session, name) is not None:
+        raise AlreadyExistsError(f"a dataset named {name!r} already exists")
+    dataset = Dataset(name=name, kind=kind, method=method, method_version=method_version, citation=citation,
+                      author=author or current_actor(), description=description,
+                      options_json=json.dumps(options or {}, sort_keys=True), created_at=utcnow(),
+                      sample=sample, retracted=0)
+    session.add(dataset)
+    session.flush()
+    return dataset
+
+
+def find_sample(session: Session, name: str) -> Sample | None:
+    """A sample by name, or None."""
+    return session.scalars(select(Sample).where(Sample.name == name)).one_or_none()
+
+
+def get_or_create_sample(session: Session, name: str, **conditions) -> Sample:
+    """The sample of that name, created with ``conditions`` when absent."""
+    sample = find_sample(session, name)
+    if sample is None:
+        sample = Sample(name=name, created_at=utcnow(), **conditions)
+        session.add(sample)
+        session.flush()
+    return sample
+
+
+def delete_dataset(session: Session, dataset: Dataset) -> None:
+    """Delete a dataset with its lines, levels and limits (used when a computed set is replaced)."""
+    session.execute(delete(Line).where(Line.dataset_id == dataset.id))
+    session.execute(delete(IonizationLimit).where(IonizationLimit.dataset_id == dataset.id))
+    session.execute(delete(Level).where(Level.dataset_id == dataset.id))
+    session.delete(dataset)
+    session.flush()
+
+
+# ----------------------------------------------------------------- bulk writes
+
+def insert_rows(session: Session, model, rows: Sequence[dict], *, returning_ids: bool = False,
+                chunk: int = 5000) -> list[int]:
+    """Insert many rows of ``model`` with executemany; return their ids in order if asked."""
+    ids: list[int] = []
+    for start in range(0, len(rows), chunk):
+        part = rows[start:start + chunk]
+        if not part:
+            continue
+        if returning_ids:
+            result = session.execute(insert(model).returning(model.id, sort_by_parameter_order=True), part)
+            ids.extend(result.scalars().all())
+        else:
+            session.execute(insert(model), part)
+    return ids
+
+
+# ----------------------------------------------------------------- reads
+
+def visible_datasets(session: Session, names: Sequence[str] | None = None,
+                     include_retracted: bool = False) -> list[Dataset]:
+    """Datasets in precedence order.
+
+    With ``names``, exactly those (in the given order; retracted ones only if named).
+    Without, every non-retracted dataset: measured first, then imported, then
+    computed, newest first within a kind.
+    """
+    if names:
+        return [require_dataset(session, name) for name in names]
+    query = select(Dataset)
+    if not include_retracted:
+        query = query.where(Dataset.retracted == 0)
+    datasets = session.scalars(query).all()
+    return sorted(datasets, key=lambda d: (KIND_RANK.get(d.kind, 9), -d.created_at.timestamp(), -d.id))
+
+
+def levels_by_precedence(session: Session, species: Species, datasets: Sequence[Dataset]) -> list[Level]:
+    """Levels of a species, one per state: the first dataset in ``datasets`` that has the state wins."""
+    if not datasets:
+        return []
+    rank = {d.id: i for i, d in enumerate(datasets)}
+    rows = session.scalars(select(Level).where(Level.species_id == species.id,
+                                               Level.dataset_id.in_(list(rank)))).all()
+    chosen: dict[tuple, Level] = {}
+    for level in sorted(rows, key=lambda lv: rank[lv.dataset_id]):
+        chosen.setdefault((level.configuration, level.term, level.two_j), level)
+    return sorted(chosen.values(), key=lambda lv: (lv.energy_cm1, lv.label))
+
+
+def species_counts(session: Session, dataset_ids: Iterable[int]) -> dict[int, dict]:
+    """Per species id: number of levels, lines and the dataset names, over the given datasets."""
+    ids = list(dataset_ids)
+    out: dict[int, dict] = {}
+    if not ids:
+        return out
+    for species_id, count in session.execute(
+            select(Level.species_id, func.count()).where(Level.dataset_id.in_(ids)).group_by(Level.species_id)):
+        out.setdefault(species_id, {"levels": 0, "lines": 0, "datasets": set()})["levels"] = count
+    for species_id, count in session.execute(
+            select(Line.species_id, func.count()).where(Line.dataset_id.in_(ids)).group_by(Line.species_id)):
+        out.setdefault(species_id, {"levels": 0, "lines": 0, "datasets": set()})["lines"] = count
+    for species_id, name in session.execute(
+            select(Level.species_id, Dataset.name).join(Dataset, Dataset.id == Level.dataset_id)
+            .where(Level.dataset_id.in_(ids)).distinct()):
+        out.setdefault(species_id, {"levels": 0, "lines": 0, "datasets": set()})["datasets"].add(name)
+    return out
+
+
+def ionization_limit(session: Session, species: Species, datasets: Sequence[Dataset]) -> IonizationLimit | None:
+    """The ionization limit of a species from the first dataset in precedence order that has one."""
+    rank = {d.id: i for i, d in enumerate(datasets)}
+    if not rank:
+        return None
+    rows = session.scalars(select(IonizationLimit).where(IonizationLimit.species_id == species.id,
+                                                         IonizationLimit.dataset_id.in_(list(rank)))).all()
+    return min(rows, key=lambda r: rank[r.dataset_id]) if rows else None
+
+
+def all_species(session: Session) -> list[Species]:
+    """Every stored species, by Z, charge and mass number."""
+    return list(session.scalars(select(Species).order_by(Species.z, Species.charge, Species.mass_number)))
