@@ -226,17 +226,8 @@ def _level_insert_row(rec: level_io.LevelRecord, dataset_id: int, species_id: in
 
 
 def detect_file_kind(columns: Sequence[str], source: str, header_line: int) -> str:
-    """``"levels"``, ``"lines"`` or ``"peaks"`` from a file's header."""
-    cols = set(columns)
-    if "energy_cm1" in cols:
-        return "levels"
-    if "wavelength_nm" in cols and ("lower" in cols or "upper" in cols):
-        return "lines"
-    if "peak_nm" in cols or "wavelength_nm" in cols:
-        return "peaks"
-    raise InputFileError([Problem(source, header_line, None,
-                                  "cannot tell the kind of file from its header: a levels file needs "
-                                  "energy_cm1, a lines file wavelength_nm with lower and upper")])
+    """``"lines"`` when the header has ``wavelength_nm``, else ``"levels"`` (the default kind)."""
+    return "lines" if "wavelength_nm" in set(columns) else "levels"
 
 
 def _checked_columns(table, known: Sequence[str], required: Sequence[str]):

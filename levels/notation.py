@@ -254,6 +254,8 @@ def parse_j(text: str | float | int) -> int:
             raise NotationError(f"{raw!r} is not a whole or half-integer")
     else:
         raw = text.strip()
+        if raw.startswith("-"):
+            raise NotationError(f"{raw!r}: J cannot be negative")
         try:
             if "/" in raw:
                 num, den = raw.split("/", 1)
