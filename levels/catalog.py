@@ -8,6 +8,8 @@ audit entry. Neither the CLI nor the web site talks to SQL or to each other.
 
 from __future__ import annotations
 
+import json
+import math
 import os
 from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
@@ -16,7 +18,7 @@ from pathlib import Path
 from sqlalchemy.orm import Session
 
 from levels import __version__
-from levels.errors import InputFileError, Problem
+from levels.errors import AlreadyExistsError, InputFileError, PhysicsInputError, Problem
 from levels.io import records as level_io
 from levels.io.tables import read_delimited
 from levels.notation import Spectrum, format_j, parse_spectrum
@@ -27,8 +29,48 @@ SPECIES_COLUMNS = ("spectrum", "z", "charge", "mass_number", "levels", "lines", 
                    "ionization_unc_cm1", "datasets")
 LEVEL_COLUMNS = level_io.LEVEL_COLUMNS
 LEVEL_UNITS = {"energy_cm1": "cm-1", "unc_cm1": "cm-1", "lifetime_s": "s"}
+LINE_COLUMNS = ("spectrum", "lower", "upper", "lower_cm1", "upper_cm1", "wavenumber_cm1", "vacuum_nm", "air_nm",
+                "multipole", "a_per_s", "f_abs", "line_strength_au", "g_lower", "g_upper", "unc_nm", "dataset")
+EMISSION_COLUMNS = LINE_COLUMNS + ("rel_intensity", "photon_share")
+LINE_UNITS = {"lower_cm1": "cm-1", "upper_cm1": "cm-1", "wavenumber_cm1": "cm-1", "vacuum_nm": "nm", "air_nm": "nm",
+              "a_per_s": "s-1", "line_strength_au": "e2 a0^2", "unc_nm": "nm"}
+LINE_HEADINGS = {"lower_cm1": "lower [cm-1]", "upper_cm1": "upper [cm-1]", "wavenumber_cm1": "σ [cm-1]",
+                 "vacuum_nm": "λ vac [nm]", "air_nm": "λ air [nm]", "a_per_s": "A [s-1]", "f_abs": "f",
+                 "line_strength_au": "S [au]", "unc_nm": "unc [nm]"}
+MULTIPOLE_CODES = ("E1", "M1", "E2", "M2", "E3", "2E1")
 SAMPLE_CONDITION_FIELDS = ("description", "gas_fill", "pressure_pa", "current_a", "instrument", "te_k", "ne_m3",
                            "tgas_k", "path_length_m")
+
+
+@dataclass(frozen=True)
+class LineQuery:
+    """A line-list request: species (None = all), window, medium, filters, order and page."""
+
+    spectrum: str | None = None
+    from_nm: float | None = None
+    to_nm: float | None = None
+    medium: str = "vacuum"
+    multipoles: tuple[str, ...] | None = None
+    min_a: float | None = None
+    max_upper_cm1: float | None = None
+    datasets: tuple[str, ...] | None = None
+    order: str = "wavelength"
+    limit: int | None = None
+    offset: int = 0
+
+    def describe(self) -> str:
+        """The query in words for export headers."""
+        parts = [f"lines {self.spectrum or '(all species)'}"]
+        if self.from_nm is not None or self.to_nm is not None:
+            parts.append(f"window {self.from_nm or 0:g}-{self.to_nm if self.to_nm is not None else 'inf'} nm {self.medium}")
+        if self.multipoles:
+            parts.append("multipoles " + ",".join(self.multipoles))
+        if self.min_a is not None:
+            parts.append(f"A >= {self.min_a:g} s-1")
+        if self.max_upper_cm1 is not None:
+            parts.append(f"upper <= {self.max_upper_cm1:g} cm-1")
+        parts.append(f"order {self.order}")
+        return "; ".join(parts)
 
 
 @dataclass
@@ -144,6 +186,111 @@ class Catalog:
 
         return self.read(work)
 
+    # ------------------------------------------------------------- lines
+    def line_rows(self, query: LineQuery) -> tuple[list[dict], int]:
+        """Stored lines matching ``query`` (rows carry LINE_COLUMNS plus ids), and the total count."""
+        if query.medium not in ("vacuum", "air"):
+            raise PhysicsInputError(f"medium must be 'vacuum' or 'air', not {query.medium!r}")
+        if query.from_nm is not None and query.to_nm is not None and query.from_nm > query.to_nm:
+            raise PhysicsInputError(f"empty window: from {query.from_nm:g} nm is above to {query.to_nm:g} nm")
+        for name in ("from_nm", "to_nm", "min_a", "max_upper_cm1"):
+            value = getattr(query, name)
+            if value is not None and not math.isfinite(value):
+                raise PhysicsInputError(f"{name} must be a finite number")
+        if query.multipoles:
+            unknown = [m for m in query.multipoles if m not in MULTIPOLE_CODES]
+            if unknown:
+                raise PhysicsInputError(f"unknown multipole {unknown[0]!r}; use {', '.join(MULTIPOLE_CODES)}")
+
+        def work(session: Session):
+            chosen = queries.visible_datasets(session, query.datasets)
+            species_ids = None
+            if query.spectrum is not None:
+                species_ids = [queries.require_species(session, parse_spectrum(query.spectrum)).id]
+            window = {}
+            if query.medium == "air":
+                window = dict(from_air_nm=query.from_nm, to_air_nm=query.to_nm)
+            else:
+                window = dict(from_vacuum_nm=query.from_nm, to_vacuum_nm=query.to_nm)
+            return queries.select_lines(
+                session, dataset_ids=[d.id for d in chosen], species_ids=species_ids,
+                multipoles=query.multipoles, min_a=query.min_a, max_upper_cm1=query.max_upper_cm1,
+                order=query.order, limit=query.limit, offset=query.offset, **window)
+
+        return self.read(work)
+
+    # ------------------------------------------------------------- datasets
+    def dataset_info(self, name_or_id: str | int) -> dict:
+        """A dataset's record with its counts of levels and lines."""
+
+        def work(session: Session) -> dict:
+            ds = queries.require_dataset(session, name_or_id)
+            return dataset_summary(session, ds)
+
+        return self.read(work)
+
+    def dataset_rows(self, include_retracted: bool = False) -> list[dict]:
+        """Every dataset in precedence order with counts."""
+
+        def work(session: Session) -> list[dict]:
+            return [dataset_summary(session, ds)
+                    for ds in queries.visible_datasets(session, include_retracted=include_retracted)]
+
+        return self.read(work)
+
+    # ------------------------------------------------------------- samples
+    def create_sample(self, name: str, **conditions) -> dict:
+        """Create a lab sample with its conditions (SAMPLE_CONDITION_FIELDS); the name must be new."""
+        unknown = set(conditions) - set(SAMPLE_CONDITION_FIELDS)
+        if unknown:
+            raise ValueError(f"unknown sample fields: {', '.join(sorted(unknown))}")
+        if not name or not name.strip() or len(name) > 200:
+            raise InputFileError([Problem("<form>", None, "name", "a sample name of 1 to 200 characters is required")])
+
+        def work(session: Session) -> dict:
+            if queries.find_sample(session, name.strip()) is not None:
+                raise AlreadyExistsError(f"a sample named {name.strip()!r} already exists")
+            sample = queries.get_or_create_sample(session, name.strip(), **conditions)
+            queries.record_audit(session, "create-sample", f"sample {sample.name}", dict(conditions), actor=self.actor)
+            return sample_summary(sample)
+
+        return self.write(work)
+
+    def sample_rows(self) -> list[dict]:
+        """Every sample with its conditions and dataset names."""
+        from sqlalchemy import select
+
+        def work(session: Session) -> list[dict]:
+            return [sample_summary(s) for s in session.scalars(select(Sample).order_by(Sample.name))]
+
+        return self.read(work)
+
+    def add_levels(self, dataset: str | int, records: Sequence[level_io.LevelRecord], *, source: str = "<form>") -> int:
+        """Add validated levels to an existing measured or imported dataset (one transaction)."""
+
+        def work(session: Session) -> int:
+            ds = queries.require_dataset(session, dataset)
+            if ds.kind == "computed":
+                raise PhysicsInputError(f"dataset {ds.name!r} is computed; add measured levels to a measured dataset")
+            rows = [_level_insert_row(rec, ds.id, queries.get_or_create_species(session, rec.spectrum).id)
+                    for rec in records]
+            queries.insert_rows(session, Level, rows)
+            queries.record_audit(session, "add-levels", f"dataset {ds.name}", {"source": source, "levels": len(rows)},
+                                 actor=self.actor)
+            return len(rows)
+
+        return self.write(work)
+
+    def preview_levels(self, content: bytes, source: str) -> tuple[list[level_io.LevelRecord], list[Problem]]:
+        """Parse and validate an uploaded levels file without writing: (records, problems)."""
+        try:
+            table = read_delimited(content, source=source)
+            records = level_io.validate_levels(
+                _checked_columns(table, level_io.LEVEL_COLUMNS, level_io.LEVEL_REQUIRED), source=source)
+        except InputFileError as exc:
+            return [], exc.problems
+        return records, []
+
     # ------------------------------------------------------------- import
     def import_file(self, path: str | os.PathLike, *, sample: str | None = None, dataset: str | None = None,
                     kind: str = "measured", citation: str = "", description: str = "",
@@ -203,6 +350,32 @@ class Catalog:
                                 species=names, levels=len(rows))
 
         return self.write(work)
+
+
+def sample_summary(sample: Sample) -> dict:
+    """A sample as a mapping with its conditions and dataset names."""
+    out = {"id": sample.id, "name": sample.name}
+    for name in SAMPLE_CONDITION_FIELDS:
+        out[name] = getattr(sample, name)
+    out["created_at"] = sample.created_at.isoformat() if sample.created_at else None
+    out["datasets"] = [d.name for d in sample.datasets]
+    return out
+
+
+def dataset_summary(session: Session, ds: Dataset) -> dict:
+    """A dataset as a mapping (for reports and the API)."""
+    from sqlalchemy import func, select
+
+    from levels.store.schema import Line
+
+    return {
+        "id": ds.id, "name": ds.name, "kind": ds.kind, "method": ds.method, "method_version": ds.method_version,
+        "citation": ds.citation, "author": ds.author, "description": ds.description,
+        "options": json.loads(ds.options_json or "{}"), "created_at": ds.created_at.isoformat(),
+        "sample": ds.sample.name if ds.sample else None, "retracted": bool(ds.retracted),
+        "levels": session.scalar(select(func.count()).select_from(Level).where(Level.dataset_id == ds.id)),
+        "lines": session.scalar(select(func.count()).select_from(Line).where(Line.dataset_id == ds.id)),
+    }
 
 
 def level_row(spectrum_name: str, level: Level, dataset_name: str) -> dict:

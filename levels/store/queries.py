@@ -236,3 +236,86 @@ def ionization_limit(session: Session, species: Species, datasets: Sequence[Data
 def all_species(session: Session) -> list[Species]:
     """Every stored species, by Z, charge and mass number."""
     return list(session.scalars(select(Species).order_by(Species.z, Species.charge, Species.mass_number)))
+
+
+# ----------------------------------------------------------------- lines
+
+LINE_ORDERS = ("wavelength", "strength", "-wavelength", "a")
+
+
+def _line_filters(query, *, lower, upper, species_ids, dataset_ids, from_vacuum_nm, to_vacuum_nm,
+                  from_air_nm, to_air_nm, multipoles, min_a, max_upper_cm1):
+    from sqlalchemy import and_, or_
+
+    query = query.where(Line.dataset_id.in_(list(dataset_ids)))
+    if species_ids is not None:
+        query = query.where(Line.species_id.in_(list(species_ids)))
+    if from_vacuum_nm is not None:
+        query = query.where(Line.vacuum_nm >= from_vacuum_nm)
+    if to_vacuum_nm is not None:
+        query = query.where(Line.vacuum_nm <= to_vacuum_nm)
+    if from_air_nm is not None:
+        query = query.where(or_(Line.air_nm >= from_air_nm, and_(Line.air_nm.is_(None), Line.vacuum_nm >= from_air_nm)))
+    if to_air_nm is not None:
+        query = query.where(or_(Line.air_nm <= to_air_nm, and_(Line.air_nm.is_(None), Line.vacuum_nm <= to_air_nm)))
+    if multipoles:
+        query = query.where(Line.multipole.in_(list(multipoles)))
+    if min_a is not None:
+        query = query.where(Line.a_per_s >= min_a)
+    if max_upper_cm1 is not None:
+        query = query.where(upper.energy_cm1 <= max_upper_cm1)
+    return query
+
+
+def select_lines(session: Session, *, dataset_ids: Sequence[int], species_ids: Sequence[int] | None = None,
+                 from_vacuum_nm: float | None = None, to_vacuum_nm: float | None = None,
+                 from_air_nm: float | None = None, to_air_nm: float | None = None,
+                 multipoles: Sequence[str] | None = None, min_a: float | None = None,
+                 max_upper_cm1: float | None = None, order: str = "wavelength",
+                 limit: int | None = None, offset: int = 0) -> tuple[list[dict], int]:
+    """Stored lines with their levels, filtered, sorted and paged; also the total count.
+
+    All values are bound parameters; ``order`` is one of :data:`LINE_ORDERS`.
+    """
+    from sqlalchemy.orm import aliased
+
+    if order not in LINE_ORDERS:
+        raise ValueError(f"order must be one of {', '.join(LINE_ORDERS)}")
+    lower, upper = aliased(Level), aliased(Level)
+    filters = dict(lower=lower, upper=upper, species_ids=species_ids, dataset_ids=dataset_ids,
+                   from_vacuum_nm=from_vacuum_nm, to_vacuum_nm=to_vacuum_nm, from_air_nm=from_air_nm,
+                   to_air_nm=to_air_nm, multipoles=multipoles, min_a=min_a, max_upper_cm1=max_upper_cm1)
+    base = (select(Line.id).join(upper, upper.id == Line.upper_id))
+    total = session.scalar(select(func.count()).select_from(_line_filters(base, **filters).subquery()))
+    query = (select(Line, lower, upper, Species.name, Dataset.name)
+             .join(lower, lower.id == Line.lower_id).join(upper, upper.id == Line.upper_id)
+             .join(Species, Species.id == Line.species_id).join(Dataset, Dataset.id == Line.dataset_id))
+    query = _line_filters(query, **filters)
+    if order == "wavelength":
+        query = query.order_by(Line.vacuum_nm, Line.id)
+    elif order == "-wavelength":
+        query = query.order_by(Line.vacuum_nm.desc(), Line.id)
+    elif order == "strength":
+        query = query.order_by(Line.line_strength_au.desc().nulls_last(), Line.vacuum_nm)
+    else:
+        query = query.order_by(Line.a_per_s.desc().nulls_last(), Line.vacuum_nm)
+    if limit is not None:
+        query = query.limit(limit)
+    if offset:
+        query = query.offset(offset)
+    rows = [line_row(line, lo, up, species_name, dataset_name)
+            for line, lo, up, species_name, dataset_name in session.execute(query)]
+    return rows, int(total or 0)
+
+
+def line_row(line: Line, lower: Level, upper: Level, spectrum: str, dataset: str) -> dict:
+    """A stored line as a row of the line-list contract."""
+    return {
+        "id": line.id, "spectrum": spectrum, "lower": lower.label, "upper": upper.label,
+        "lower_cm1": lower.energy_cm1, "upper_cm1": upper.energy_cm1, "wavenumber_cm1": line.wavenumber_cm1,
+        "vacuum_nm": line.vacuum_nm, "air_nm": line.air_nm, "multipole": line.multipole,
+        "a_per_s": line.a_per_s, "f_abs": line.f_abs, "line_strength_au": line.line_strength_au,
+        "g_lower": lower.two_j + 1, "g_upper": upper.two_j + 1, "unc_nm": line.unc_nm, "dataset": dataset,
+        "observed_nm": line.observed_nm, "medium": line.medium, "intensity": line.intensity, "note": line.note,
+        "lower_id": lower.id, "upper_id": upper.id,
+    }
