@@ -11,10 +11,11 @@ from __future__ import annotations
 import json
 import math
 import os
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
+import numpy as np
 from sqlalchemy.orm import Session
 
 from levels import __version__
@@ -23,7 +24,7 @@ from levels.io import records as level_io
 from levels.io.tables import read_delimited
 from levels.notation import Spectrum, format_j, parse_spectrum
 from levels.store import database, queries
-from levels.store.schema import Dataset, Level, Sample
+from levels.store.schema import Dataset, IonizationLimit, Level, Sample
 
 SPECIES_COLUMNS = ("spectrum", "z", "charge", "mass_number", "levels", "lines", "ionization_cm1",
                    "ionization_unc_cm1", "datasets")
@@ -38,6 +39,8 @@ LINE_HEADINGS = {"lower_cm1": "lower [cm-1]", "upper_cm1": "upper [cm-1]", "wave
                  "vacuum_nm": "λ vac [nm]", "air_nm": "λ air [nm]", "a_per_s": "A [s-1]", "f_abs": "f",
                  "line_strength_au": "S [au]", "unc_nm": "unc [nm]"}
 MULTIPOLE_CODES = ("E1", "M1", "E2", "M2", "E3", "2E1")
+#: default refusal limit of a computed dataset's rows (2 GB)
+DEFAULT_MAX_STORE_BYTES = 2_000_000_000
 SAMPLE_CONDITION_FIELDS = ("description", "gas_fill", "pressure_pa", "current_a", "instrument", "te_k", "ne_m3",
                            "tgas_k", "path_length_m")
 
@@ -238,6 +241,96 @@ class Catalog:
 
         return self.read(work)
 
+    # ------------------------------------------------------------- hydrogenic
+    def compute_hydrogenic(self, spectrum: str | Spectrum, *, mass_number: int | None = None, n_max: int = 20,
+                           fine_structure: bool = True, corrections=None,
+                           max_store_bytes: int = DEFAULT_MAX_STORE_BYTES,
+                           progress: Callable[[str, int, int], None] | None = None) -> dict:
+        """Compute a one-electron ion into a computed dataset (re-running replaces it in one transaction).
+
+        Parameters
+        ----------
+        spectrum : str or Spectrum
+            A one-electron ion: ``H I``, ``D I``, ``He II``, ... ``U XCII``.
+        mass_number : int, optional
+            Isotope (default: the spectrum's own, D/T, or the most abundant).
+        n_max : int
+            Highest principal quantum number (1..1000).
+        fine_structure : bool
+            Levels n l j (True) or nl terms (False).
+        corrections : levels.physics.dirac.Corrections, optional
+            Corrections applied (default all).
+        max_store_bytes : int
+            Refuse a computation whose rows would need more than this.
+        progress : callable, optional
+            ``progress(stage, done, total)`` for a progress bar.
+
+        Returns
+        -------
+        dict
+            dataset name and id, counts of levels and lines, ionization energy (cm-1), corrections.
+        """
+        from levels.isotopes import isotope
+        from levels.physics import dirac, hydrogenic
+
+        spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
+        if spec.electrons != 1:
+            raise PhysicsInputError(
+                f"{spec.name} has {spec.electrons} electrons; 'hydrogenic' computes one-electron ions only "
+                f"(for {spec.symbol} that is {Spectrum(spec.z, spec.z - 1).name})")
+        a = mass_number or spec.mass_number
+        iso = isotope(spec.z, a)
+        if not isinstance(n_max, int) or n_max < 1:
+            raise PhysicsInputError(f"n_max must be a whole number >= 1, got {n_max!r}")
+        if n_max > hydrogenic.N_MAX_LIMIT:
+            raise PhysicsInputError(f"n_max = {n_max} is above the supported {hydrogenic.N_MAX_LIMIT}")
+        hydrogenic.check_size(n_max, fine_structure, max_store_bytes)
+        corrections = corrections or dirac.Corrections()
+        notify = progress or (lambda stage, done, total: None)
+        notify("computing", 0, 1)
+        model = hydrogenic.compute(spec.z, nuclear_mass_u=iso.nuclear_mass_u, n_max=n_max,
+                                   fine_structure=fine_structure, corrections=corrections,
+                                   mass_number=iso.mass_number)
+        notify("computing", 1, 1)
+        species_spec = Spectrum(spec.z, spec.charge, iso.mass_number)
+        name = f"hydrogenic {species_spec.name} A={iso.mass_number}" + ("" if fine_structure else " nl")
+        level_rows = _hydrogenic_level_rows(model)
+        lines = model.lines
+
+        def work(session: Session) -> dict:
+            old = queries.find_dataset(session, name)
+            if old is not None:
+                queries.delete_dataset(session, old)
+            ds = queries.create_dataset(
+                session, name=name, kind="computed", method=hydrogenic.METHOD,
+                method_version=f"{hydrogenic.METHOD_VERSION} (levels {__version__})",
+                citation="computed by levels: Dirac energies with recoil and QED corrections (see levels.physics.dirac)",
+                author=self.actor, options=model.options,
+                description=f"{species_spec.name} (A = {iso.mass_number}) to n = {n_max}"
+                            + (" with fine structure" if fine_structure else ", nl terms"))
+            species = queries.get_or_create_species(session, species_spec)
+            for row in level_rows:
+                row["dataset_id"], row["species_id"] = ds.id, species.id
+            ids = np.asarray(queries.insert_rows(session, Level, level_rows, returning_ids=True), dtype=np.int64)
+            total = len(lines["upper"])
+            columns = _hydrogenic_line_columns(ds.id, species.id, ids, lines)
+            chunk = 20000
+            for start in range(0, total, chunk):
+                queries.insert_line_columns(session, columns, start, min(start + chunk, total))
+                notify("storing lines", min(start + chunk, total), total)
+            session.add(IonizationLimit(dataset_id=ds.id, species_id=species.id, energy_cm1=model.ionization_cm1,
+                                        unc_cm1=None, method=hydrogenic.METHOD))
+            queries.record_audit(session, "compute-hydrogenic", f"dataset {ds.name}",
+                                 {"levels": len(level_rows), "lines": total, "n_max": n_max,
+                                  "fine_structure": fine_structure, "corrections": corrections.as_dict()},
+                                 actor=self.actor)
+            return {"dataset": ds.name, "dataset_id": ds.id, "spectrum": species_spec.name,
+                    "mass_number": iso.mass_number, "levels": len(level_rows), "lines": total,
+                    "ionization_cm1": model.ionization_cm1, "corrections": corrections.as_dict(),
+                    "charge_radius_fm": model.charge_radius_fm, "radius_source": model.radius_source}
+
+        return self.write(work)
+
     # ------------------------------------------------------------- samples
     def create_sample(self, name: str, **conditions) -> dict:
         """Create a lab sample with its conditions (SAMPLE_CONDITION_FIELDS); the name must be new."""
@@ -352,6 +445,41 @@ class Catalog:
         return self.write(work)
 
 
+def _hydrogenic_level_rows(model) -> list[dict]:
+    from levels.notation import l_letter
+
+    rows = []
+    odd = model.l % 2 == 1
+    for i in range(len(model.n)):
+        n, l, two_j = int(model.n[i]), int(model.l[i]), int(model.two_j[i])
+        config = f"{n}{l_letter(l)}"
+        term = f"2{l_letter(l, upper=True)}{'°' if odd[i] else ''}"
+        resolved = two_j >= 0
+        rows.append({
+            "label": f"{config} {term}{format_j(two_j)}" if resolved else f"{config} {term}",
+            "configuration": config, "term": term, "two_j": two_j if resolved else None, "g": int(model.g[i]),
+            "parity": -1 if odd[i] else 1, "energy_cm1": float(model.energy_cm1[i]), "unc_cm1": None,
+            "multiplicity": 2, "big_l": l, "n": n, "l": l,
+            "lifetime_s": float(model.lifetime_s[i]) if np.isfinite(model.lifetime_s[i]) else None,
+            "lande_g": float(model.lande_g[i]) if np.isfinite(model.lande_g[i]) else None,
+        })
+    return rows
+
+
+def _hydrogenic_line_columns(dataset_id: int, species_id: int, level_ids: np.ndarray, lines: dict) -> dict:
+    """Column arrays of the computed lines, ready for :func:`queries.insert_line_columns`."""
+    count = len(lines["upper"])
+    air = np.asarray(lines["air_nm"], dtype=float)
+    return {
+        "dataset_id": np.full(count, dataset_id), "species_id": np.full(count, species_id),
+        "lower_id": level_ids[lines["lower"]], "upper_id": level_ids[lines["upper"]],
+        "multipole": np.full(count, "E1", dtype=object), "wavenumber_cm1": lines["wavenumber_cm1"],
+        "vacuum_nm": lines["vacuum_nm"], "air_nm": np.where(np.isfinite(air), air, np.nan),
+        "a_per_s": lines["a_per_s"], "f_abs": lines["f_abs"], "line_strength_au": lines["S"],
+        "unc_nm": np.full(count, np.nan),
+    }
+
+
 def sample_summary(sample: Sample) -> dict:
     """A sample as a mapping with its conditions and dataset names."""
     out = {"id": sample.id, "name": sample.name}
@@ -382,8 +510,8 @@ def level_row(spectrum_name: str, level: Level, dataset_name: str) -> dict:
     """A level as a row of the level contract (LEVEL_COLUMNS)."""
     return {
         "spectrum": spectrum_name, "label": level.label, "configuration": level.configuration,
-        "term": level.term, "j": format_j(level.two_j), "parity": level.parity,
-        "energy_cm1": level.energy_cm1, "unc_cm1": level.unc_cm1, "g": level.two_j + 1,
+        "term": level.term, "j": "" if level.two_j is None else format_j(level.two_j), "parity": level.parity,
+        "energy_cm1": level.energy_cm1, "unc_cm1": level.unc_cm1, "g": level.g,
         "n": level.n, "l": level.l, "lifetime_s": level.lifetime_s, "lande_g": level.lande_g,
         "dataset": dataset_name,
     }
@@ -392,7 +520,8 @@ def level_row(spectrum_name: str, level: Level, dataset_name: str) -> dict:
 def _level_insert_row(rec: level_io.LevelRecord, dataset_id: int, species_id: int) -> dict:
     return {
         "dataset_id": dataset_id, "species_id": species_id, "label": rec.label,
-        "configuration": rec.configuration, "term": rec.term, "two_j": rec.two_j, "parity": rec.parity,
+        "configuration": rec.configuration, "term": rec.term, "two_j": rec.two_j, "g": rec.two_j + 1,
+        "parity": rec.parity,
         "energy_cm1": rec.energy_cm1, "unc_cm1": rec.unc_cm1, "multiplicity": rec.multiplicity,
         "big_l": rec.big_l, "n": rec.n, "l": rec.l, "lifetime_s": rec.lifetime_s, "lande_g": rec.lande_g,
     }

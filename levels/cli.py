@@ -198,6 +198,82 @@ def import_(obj: Context, file: str, sample: str | None, dataset: str | None, ki
                f"{report.dataset!r} (id {report.dataset_id})" + (f" of sample {report.sample!r}" if report.sample else ""))
 
 
+class _Progress:
+    """A click progress bar per stage, shown only on a terminal."""
+
+    def __init__(self, enabled: bool):
+        self.enabled = enabled
+        self.bars: dict[str, object] = {}
+        self.done: dict[str, int] = {}
+
+    def __call__(self, stage: str, done: int, total: int) -> None:
+        if not self.enabled or total <= 0:
+            return
+        if stage not in self.bars:
+            bar = click.progressbar(length=total, label=stage, file=sys.stderr)
+            bar.__enter__()
+            self.bars[stage], self.done[stage] = bar, 0
+        bar = self.bars[stage]
+        bar.update(done - self.done[stage])
+        self.done[stage] = done
+        if done >= total:
+            bar.__exit__(None, None, None)
+
+    def close(self) -> None:
+        for bar in self.bars.values():
+            bar.__exit__(None, None, None)
+        self.bars.clear()
+
+
+def _progress() -> _Progress:
+    return _Progress(sys.stderr.isatty())
+
+
+@main.command()
+@click.argument("spectrum")
+@click.option("--mass-number", type=int, help="Isotope mass number (default: D/T from the symbol, else the most abundant).")
+@click.option("--n-max", type=int, default=20, show_default=True, help="Highest principal quantum number (1..1000).")
+@click.option("--fine-structure/--no-fine-structure", default=True, show_default=True,
+              help="Levels n l j, or nl terms with the j components merged.")
+@click.option("--no-qed", is_flag=True, help="Leave out self energy, vacuum polarisation and higher-order terms.")
+@click.option("--no-recoil", is_flag=True, help="Infinitely heavy nucleus.")
+@click.option("--no-finite-size", is_flag=True, help="Point nucleus.")
+@click.option("--max-store-gb", type=float, default=2.0, show_default=True,
+              help="Refuse a computation whose rows would need more than this.")
+@click.pass_obj
+@reports_errors
+def hydrogenic(obj: Context, spectrum: str, mass_number: int | None, n_max: int, fine_structure: bool,
+               no_qed: bool, no_recoil: bool, no_finite_size: bool, max_store_gb: float) -> None:
+    """Compute a one-electron ion (H I, D I, He II, ... U XCII) into the store.
+
+    Energies: Dirac with recoil, QED (self energy, vacuum polarisation) and
+    finite nuclear size; all E1 lines with line strength, f and A; lifetimes
+    (2s with its two-photon decay) and Landé g. Re-running replaces the
+    computed dataset in one transaction.
+
+    \b
+    Example:
+      levels hydrogenic "He II" --n-max 30
+      levels hydrogenic "D I" --no-fine-structure
+    """
+    from levels.physics.dirac import Corrections
+
+    corrections = Corrections(recoil=not no_recoil, self_energy=not no_qed, vacuum_polarization=not no_qed,
+                              finite_size=not no_finite_size, higher_order=not no_qed)
+    progress = _progress()
+    try:
+        report = obj.catalog.compute_hydrogenic(spectrum, mass_number=mass_number, n_max=n_max,
+                                                fine_structure=fine_structure, corrections=corrections,
+                                                max_store_bytes=int(max_store_gb * 1e9), progress=progress)
+    finally:
+        progress.close()
+    applied = ", ".join(k for k, v in report["corrections"].items() if v) or "none"
+    click.echo(f"computed {report['spectrum']} (A = {report['mass_number']}): {report['levels']} levels, "
+               f"{report['lines']} E1 lines into dataset {report['dataset']!r}")
+    click.echo(f"ionization energy {report['ionization_cm1']:.6f} cm-1; corrections: {applied}; "
+               f"nuclear radius {report['charge_radius_fm']:.4f} fm ({report['radius_source']})")
+
+
 def run() -> None:  # pragma: no cover - console entry for ``python -m levels``
     main()
 

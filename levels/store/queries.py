@@ -172,6 +172,35 @@ def insert_rows(session: Session, model, rows: Sequence[dict], *, returning_ids:
     return ids
 
 
+LINE_INSERT_COLUMNS = ("dataset_id", "species_id", "lower_id", "upper_id", "multipole", "wavenumber_cm1",
+                       "vacuum_nm", "air_nm", "a_per_s", "f_abs", "line_strength_au", "unc_nm")
+
+
+def insert_line_columns(session: Session, columns: dict, start: int, stop: int) -> None:
+    """Insert lines given as column arrays (rows ``start:stop``) with one driver-level executemany.
+
+    This is the bulk path for computed datasets (hundreds of thousands of rows):
+    values go straight to the driver as bound parameters (qmark or format style),
+    NaN becomes NULL, ``medium`` and ``note`` take ''.
+    """
+    import numpy as np
+
+    parts = []
+    for name in LINE_INSERT_COLUMNS:
+        values = np.asarray(columns[name])[start:stop]
+        if values.dtype.kind == "f":
+            listed = values.tolist()
+            parts.append([None if v != v else v for v in listed])
+        else:
+            parts.append(values.tolist())
+    blanks = [""] * (stop - start)
+    rows = list(zip(*parts, blanks, blanks))
+    names = LINE_INSERT_COLUMNS + ("medium", "note")
+    mark = "?" if session.get_bind().dialect.paramstyle == "qmark" else "%s"
+    sql = f"INSERT INTO {Line.__tablename__} ({', '.join(names)}) VALUES ({', '.join([mark] * len(names))})"
+    session.connection().exec_driver_sql(sql, rows)
+
+
 # ----------------------------------------------------------------- reads
 
 def visible_datasets(session: Session, names: Sequence[str] | None = None,
@@ -315,7 +344,7 @@ def line_row(line: Line, lower: Level, upper: Level, spectrum: str, dataset: str
         "lower_cm1": lower.energy_cm1, "upper_cm1": upper.energy_cm1, "wavenumber_cm1": line.wavenumber_cm1,
         "vacuum_nm": line.vacuum_nm, "air_nm": line.air_nm, "multipole": line.multipole,
         "a_per_s": line.a_per_s, "f_abs": line.f_abs, "line_strength_au": line.line_strength_au,
-        "g_lower": lower.two_j + 1, "g_upper": upper.two_j + 1, "unc_nm": line.unc_nm, "dataset": dataset,
+        "g_lower": lower.g, "g_upper": upper.g, "unc_nm": line.unc_nm, "dataset": dataset,
         "observed_nm": line.observed_nm, "medium": line.medium, "intensity": line.intensity, "note": line.note,
         "lower_id": lower.id, "upper_id": upper.id,
     }

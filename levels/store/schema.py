@@ -141,7 +141,8 @@ class Level(Base):
     __table_args__ = (
         UniqueConstraint("dataset_id", "species_id", "configuration", "term", "two_j", name="uq_levels_state"),
         UniqueConstraint("dataset_id", "species_id", "label", name="uq_levels_label"),
-        CheckConstraint("two_j >= 0", name="two_j_nonneg"),
+        CheckConstraint("two_j IS NULL OR two_j >= 0", name="two_j_nonneg"),
+        CheckConstraint("g >= 1 AND (two_j IS NULL OR g = two_j + 1)", name="g_matches_j"),
         CheckConstraint("parity IN (1, -1)", name="parity_sign"),
         CheckConstraint(_finite("energy_cm1"), name="energy_finite"),
         CheckConstraint(_finite("unc_cm1", True) + " AND (unc_cm1 IS NULL OR unc_cm1 >= 0)", name="unc_valid"),
@@ -159,7 +160,10 @@ class Level(Base):
     label: Mapped[str] = mapped_column(String(200))
     configuration: Mapped[str] = mapped_column(String(200))
     term: Mapped[str] = mapped_column(String(32), default="")
-    two_j: Mapped[int] = mapped_column(Integer)
+    #: 2J; NULL for a term whose J components are not resolved (then ``g`` is the term's weight)
+    two_j: Mapped[Optional[int]] = mapped_column(Integer)
+    #: statistical weight: 2J + 1 for a level, (2S+1)(2L+1) for an unresolved term
+    g: Mapped[int] = mapped_column(Integer)
     parity: Mapped[int] = mapped_column(Integer)
     energy_cm1: Mapped[float] = mapped_column(Float)
     unc_cm1: Mapped[Optional[float]] = mapped_column(Float)
@@ -174,11 +178,6 @@ class Level(Base):
 
     dataset: Mapped[Dataset] = relationship(back_populates="levels")
     species: Mapped[Species] = relationship(back_populates="levels")
-
-    @property
-    def g(self) -> int:
-        """Statistical weight 2J + 1."""
-        return self.two_j + 1
 
 
 class Line(Base):

@@ -95,7 +95,7 @@ def _raw_level(catalog, **overrides):
         ds = Dataset(name="raw", kind="measured")
         session.add_all([sp, ds])
         session.flush()
-        row = dict(dataset_id=ds.id, species_id=sp.id, label="x", configuration="3s", term="2S", two_j=1,
+        row = dict(dataset_id=ds.id, species_id=sp.id, label="x", configuration="3s", term="2S", two_j=1, g=2,
                    parity=1, energy_cm1=0.0)
         row.update(overrides)
         session.execute(insert(Level), [row])
@@ -104,7 +104,7 @@ def _raw_level(catalog, **overrides):
 
 
 @pytest.mark.parametrize("overrides", [
-    {"two_j": -1}, {"parity": 0}, {"energy_cm1": math.inf}, {"energy_cm1": -math.inf}, {"energy_cm1": math.nan},
+    {"two_j": -1, "g": 0}, {"g": 3}, {"parity": 0}, {"energy_cm1": math.inf}, {"energy_cm1": -math.inf}, {"energy_cm1": math.nan},
     {"unc_cm1": -1.0}, {"species_id": 999}, {"dataset_id": 999},
 ])
 def test_schema_constraints_refuse_bad_rows(catalog, overrides):
@@ -119,7 +119,7 @@ def test_unique_state_per_dataset_in_schema(catalog):
         ds = session.scalars(select(Dataset)).one()
         sp = session.scalars(select(Species)).one()
         session.execute(insert(Level), [dict(dataset_id=ds.id, species_id=sp.id, label="y", configuration="3s",
-                                             term="2S", two_j=1, parity=1, energy_cm1=1.0)])
+                                             term="2S", two_j=1, g=2, parity=1, energy_cm1=1.0)])
     with pytest.raises(AlreadyExistsError):
         database.run_in_transaction(catalog.engine, again)
 

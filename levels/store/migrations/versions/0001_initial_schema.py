@@ -2,7 +2,7 @@
 
 Revision ID: 0001
 Revises: 
-Create Date: 2026-12-01 21:51:58.478468
+Create Date: 2026-12-01 22:01:26.048525
 """
 
 from alembic import op
@@ -102,7 +102,8 @@ def upgrade() -> None:
     sa.Column('label', sa.String(length=200), nullable=False),
     sa.Column('configuration', sa.String(length=200), nullable=False),
     sa.Column('term', sa.String(length=32), nullable=False),
-    sa.Column('two_j', sa.Integer(), nullable=False),
+    sa.Column('two_j', sa.Integer(), nullable=True),
+    sa.Column('g', sa.Integer(), nullable=False),
     sa.Column('parity', sa.Integer(), nullable=False),
     sa.Column('energy_cm1', sa.Float(), nullable=False),
     sa.Column('unc_cm1', sa.Float(), nullable=True),
@@ -113,12 +114,13 @@ def upgrade() -> None:
     sa.Column('lifetime_s', sa.Float(), nullable=True),
     sa.Column('lande_g', sa.Float(), nullable=True),
     sa.CheckConstraint('energy_cm1 > -1e300 AND energy_cm1 < 1e300', name=op.f('ck_levels_energy_finite')),
+    sa.CheckConstraint('g >= 1 AND (two_j IS NULL OR g = two_j + 1)', name=op.f('ck_levels_g_matches_j')),
     sa.CheckConstraint('l IS NULL OR l >= 0', name=op.f('ck_levels_l_nonneg')),
     sa.CheckConstraint('lande_g IS NULL OR (lande_g > -1e300 AND lande_g < 1e300)', name=op.f('ck_levels_lande_finite')),
     sa.CheckConstraint('lifetime_s IS NULL OR (lifetime_s > 0)', name=op.f('ck_levels_lifetime_positive')),
     sa.CheckConstraint('n IS NULL OR n >= 1', name=op.f('ck_levels_n_positive')),
     sa.CheckConstraint('parity IN (1, -1)', name=op.f('ck_levels_parity_sign')),
-    sa.CheckConstraint('two_j >= 0', name=op.f('ck_levels_two_j_nonneg')),
+    sa.CheckConstraint('two_j IS NULL OR two_j >= 0', name=op.f('ck_levels_two_j_nonneg')),
     sa.CheckConstraint('unc_cm1 IS NULL OR (unc_cm1 > -1e300 AND unc_cm1 < 1e300) AND (unc_cm1 IS NULL OR unc_cm1 >= 0)', name=op.f('ck_levels_unc_valid')),
     sa.ForeignKeyConstraint(['dataset_id'], ['datasets.id'], name=op.f('fk_levels_dataset_id_datasets'), ondelete='CASCADE'),
     sa.ForeignKeyConstraint(['species_id'], ['species.id'], name=op.f('fk_levels_species_id_species'), ondelete='RESTRICT'),
