@@ -24,7 +24,7 @@ from levels.io import records as level_io
 from levels.io.tables import read_delimited
 from levels.notation import Spectrum, format_j, parse_spectrum
 from levels.store import database, queries
-from levels.store.schema import Dataset, IonizationLimit, Level, Sample
+from levels.store.schema import Dataset, IonizationLimit, Level, Sample, Species
 
 SPECIES_COLUMNS = ("spectrum", "z", "charge", "mass_number", "levels", "lines", "ionization_cm1",
                    "ionization_unc_cm1", "datasets")
@@ -65,7 +65,8 @@ class LineQuery:
         """The query in words for export headers."""
         parts = [f"lines {self.spectrum or '(all species)'}"]
         if self.from_nm is not None or self.to_nm is not None:
-            parts.append(f"window {self.from_nm or 0:g}-{self.to_nm if self.to_nm is not None else 'inf'} nm {self.medium}")
+            upper = "inf" if self.to_nm is None else f"{self.to_nm:.10g}"
+            parts.append(f"window {self.from_nm or 0:.10g}-{upper} nm {self.medium}")
         if self.multipoles:
             parts.append("multipoles " + ",".join(self.multipoles))
         if self.min_a is not None:
@@ -192,18 +193,7 @@ class Catalog:
     # ------------------------------------------------------------- lines
     def line_rows(self, query: LineQuery) -> tuple[list[dict], int]:
         """Stored lines matching ``query`` (rows carry LINE_COLUMNS plus ids), and the total count."""
-        if query.medium not in ("vacuum", "air"):
-            raise PhysicsInputError(f"medium must be 'vacuum' or 'air', not {query.medium!r}")
-        if query.from_nm is not None and query.to_nm is not None and query.from_nm > query.to_nm:
-            raise PhysicsInputError(f"empty window: from {query.from_nm:g} nm is above to {query.to_nm:g} nm")
-        for name in ("from_nm", "to_nm", "min_a", "max_upper_cm1"):
-            value = getattr(query, name)
-            if value is not None and not math.isfinite(value):
-                raise PhysicsInputError(f"{name} must be a finite number")
-        if query.multipoles:
-            unknown = [m for m in query.multipoles if m not in MULTIPOLE_CODES]
-            if unknown:
-                raise PhysicsInputError(f"unknown multipole {unknown[0]!r}; use {', '.join(MULTIPOLE_CODES)}")
+        _check_line_query(query)
 
         def work(session: Session):
             chosen = queries.visible_datasets(session, query.datasets)
@@ -221,6 +211,58 @@ class Catalog:
                 order=query.order, limit=query.limit, offset=query.offset, **window)
 
         return self.read(work)
+
+    def species_lines(self, query: LineQuery, *, multipoles: Sequence[str] = ("E1",),
+                      air_formula: str = "iau2000") -> tuple[list[dict], dict]:
+        """Every line of one species that the selection rules allow between its levels (the engine).
+
+        Levels come from the precedence of datasets (``query.datasets`` or the default);
+        wavenumbers, vacuum and air wavelengths and their uncertainties follow from the
+        levels (Ritz). Rates stored for the same pair (same two levels and multipole) in
+        a visible dataset are kept; otherwise A, f and S stay empty. Stored lines between
+        the chosen levels that the J rules cannot build (terms without J) are added.
+
+        Returns
+        -------
+        (rows, info)
+            Rows with LINE_COLUMNS (plus ``note``), filtered, sorted and paged as asked;
+            ``info`` has ``total``, ``datasets``, ``without_rates`` and ``air_formula``.
+        """
+        if query.spectrum is None:
+            raise PhysicsInputError("the line engine works on one species; give a spectrum")
+        _check_line_query(query)
+        for m in multipoles:
+            if m not in ("E1", "M1", "E2"):
+                raise PhysicsInputError(f"the engine builds E1, M1 and E2 lines, not {m!r}")
+        window = _vacuum_window(query, air_formula)
+        spec = parse_spectrum(query.spectrum)
+
+        def work(session: Session):
+            species = queries.require_species(session, spec)
+            chosen = queries.visible_datasets(session, query.datasets)
+            levels = queries.levels_by_precedence(session, species, chosen)
+            stored = queries.stored_lines_between(session, [lv.id for lv in levels], [d.id for d in chosen])
+            return species.name, chosen, levels, stored
+
+        name, chosen, levels, stored = self.read(work)
+        rows = engine_rows(name, levels, stored, {d.id: d.name for d in chosen}, multipoles=multipoles,
+                           window=window, max_upper_cm1=query.max_upper_cm1, air_formula=air_formula)
+        if query.min_a is not None:
+            rows = [r for r in rows if r["a_per_s"] is not None and r["a_per_s"] >= query.min_a]
+        rows = _sort_rows(rows, query.order)
+        info = {"total": len(rows), "datasets": [d.name for d in chosen],
+                "without_rates": sum(1 for r in rows if r["a_per_s"] is None), "air_formula": air_formula}
+        stop = None if query.limit is None else query.offset + query.limit
+        return rows[query.offset:stop], info
+
+    def recompute_lines(self, spectrum: str) -> int:
+        """Rebuild the stored derived E1 lines of a species from its levels (default precedence)."""
+        spec = parse_spectrum(spectrum)
+
+        def work(session: Session) -> int:
+            return _store_derived_lines(session, queries.require_species(session, spec), self.actor)
+
+        return self.write(work)
 
     # ------------------------------------------------------------- datasets
     def dataset_info(self, name_or_id: str | int) -> dict:
@@ -368,6 +410,9 @@ class Catalog:
             rows = [_level_insert_row(rec, ds.id, queries.get_or_create_species(session, rec.spectrum).id)
                     for rec in records]
             queries.insert_rows(session, Level, rows)
+            session.flush()
+            for species_id in {row["species_id"] for row in rows}:
+                _store_derived_lines(session, session.get(Species, species_id), self.actor)
             queries.record_audit(session, "add-levels", f"dataset {ds.name}", {"source": source, "levels": len(rows)},
                                  actor=self.actor)
             return len(rows)
@@ -435,14 +480,182 @@ class Catalog:
                     species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
                 rows.append(_level_insert_row(rec, ds.id, species_ids[rec.spectrum]))
             queries.insert_rows(session, Level, rows)
+            session.flush()
+            derived = sum(_store_derived_lines(session, session.get(Species, sid), self.actor)
+                          for sid in species_ids.values())
             names = sorted({s.name for s in species_ids})
             queries.record_audit(session, "import-levels", f"dataset {ds.name}",
                                  {"source": source, "levels": len(rows), "species": names,
                                   "sample": sample}, actor=self.actor)
             return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
-                                species=names, levels=len(rows))
+                                species=names, levels=len(rows), lines=derived)
 
         return self.write(work)
+
+
+DERIVED_METHOD = "ritz-combination"
+
+
+def derived_dataset_name(spectrum_name: str, mass_number: int) -> str:
+    """Name of the dataset holding a species' lines derived from its levels."""
+    return f"derived lines {spectrum_name} A={mass_number}"
+
+
+def _store_derived_lines(session: Session, species: Species, actor: str) -> int:
+    """Replace the species' derived dataset with the E1 lines its levels imply and no dataset stores.
+
+    Runs inside the caller's transaction, so an import and its lines land together.
+    """
+    from levels.physics.combination import build_lines
+
+    name = derived_dataset_name(species.name, species.mass_number)
+    old = queries.find_dataset(session, name)
+    if old is not None:
+        queries.delete_dataset(session, old)
+    chosen = [d for d in queries.visible_datasets(session) if d.method != DERIVED_METHOD]
+    levels = [lv for lv in queries.levels_by_precedence(session, species, chosen) if lv.two_j is not None]
+    if len(levels) < 2:
+        return 0
+    lines = build_lines(np.array([lv.energy_cm1 for lv in levels]),
+                        np.array([np.nan if lv.unc_cm1 is None else lv.unc_cm1 for lv in levels]),
+                        np.array([lv.two_j for lv in levels]), np.array([lv.parity for lv in levels]))
+    ids = np.array([lv.id for lv in levels], dtype=np.int64)
+    stored = queries.stored_lines_between(session, ids.tolist(), [d.id for d in chosen])
+    have = {(ln.lower_id, ln.upper_id) for ln in stored if ln.multipole == "E1"}
+    lower_ids, upper_ids = ids[lines.lower], ids[lines.upper]
+    keep = np.array([(int(a), int(b)) not in have for a, b in zip(lower_ids, upper_ids)], dtype=bool)
+    if not keep.any():
+        return 0
+    ds = queries.create_dataset(session, name=name, kind="computed", method=DERIVED_METHOD,
+                                method_version=f"levels {__version__}", author=actor,
+                                citation="Ritz combination of stored levels (levels.physics.combination)",
+                                description=f"E1 lines implied by the stored levels of {species.name}",
+                                options={"air_formula": "iau2000", "multipoles": ["E1"]})
+    count = int(keep.sum())
+    air = lines.air_nm[keep]
+    columns = {
+        "dataset_id": np.full(count, ds.id), "species_id": np.full(count, species.id),
+        "lower_id": lower_ids[keep], "upper_id": upper_ids[keep], "multipole": np.full(count, "E1", dtype=object),
+        "wavenumber_cm1": lines.wavenumber_cm1[keep], "vacuum_nm": lines.vacuum_nm[keep],
+        "air_nm": np.where(np.isfinite(air), air, np.nan), "a_per_s": np.full(count, np.nan),
+        "f_abs": np.full(count, np.nan), "line_strength_au": np.full(count, np.nan), "unc_nm": lines.unc_nm[keep],
+    }
+    queries.insert_line_columns(session, columns, 0, count)
+    return count
+
+
+def _check_line_query(query: LineQuery) -> None:
+    if query.medium not in ("vacuum", "air"):
+        raise PhysicsInputError(f"medium must be 'vacuum' or 'air', not {query.medium!r}")
+    for name in ("from_nm", "to_nm", "min_a", "max_upper_cm1"):
+        value = getattr(query, name)
+        if value is not None and not math.isfinite(value):
+            raise PhysicsInputError(f"{name} must be a finite number")
+    for name in ("from_nm", "to_nm"):
+        value = getattr(query, name)
+        if value is not None and value <= 0:
+            raise PhysicsInputError(f"{name} must be a positive wavelength, got {value:g} nm")
+    if query.from_nm is not None and query.to_nm is not None and query.from_nm > query.to_nm:
+        raise PhysicsInputError(f"empty window: from {query.from_nm:g} nm is above to {query.to_nm:g} nm")
+    if query.multipoles:
+        unknown = [m for m in query.multipoles if m not in MULTIPOLE_CODES]
+        if unknown:
+            raise PhysicsInputError(f"unknown multipole {unknown[0]!r}; use {', '.join(MULTIPOLE_CODES)}")
+    if query.order not in queries.LINE_ORDERS:
+        raise PhysicsInputError(f"order must be one of {', '.join(queries.LINE_ORDERS)}")
+    if query.limit is not None and query.limit < 0 or query.offset < 0:
+        raise PhysicsInputError("limit and offset must not be negative")
+
+
+def _vacuum_window(query: LineQuery, air_formula: str) -> tuple[float, float]:
+    """The query window as vacuum wavenumbers (cm-1): (min, max)."""
+    from levels.physics import air
+
+    lo, hi = query.from_nm, query.to_nm
+    if query.medium == "air":
+        # air wavelengths exist above 200 nm only; below, the window is in vacuum by convention
+        if lo is not None and lo > 200.0:
+            lo = float(air.air_to_vacuum(lo, air_formula))
+        if hi is not None and hi > 200.0:
+            hi = float(air.air_to_vacuum(hi, air_formula))
+    max_sigma = 1e7 / lo if lo else math.inf
+    min_sigma = 1e7 / hi if hi else 0.0
+    return min_sigma, max_sigma
+
+
+def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, dataset_names: Mapping[int, str], *,
+                multipoles: Sequence[str], window: tuple[float, float], max_upper_cm1: float | None,
+                air_formula: str) -> list[dict]:
+    """Rows of the engine's lines, with stored rates merged (see :meth:`Catalog.species_lines`)."""
+    from levels.physics.combination import build_lines
+
+    resolved = [lv for lv in levels if lv.two_j is not None]
+    index = {lv.id: i for i, lv in enumerate(resolved)}
+    by_pair = {(ln.lower_id, ln.upper_id, ln.multipole): ln for ln in stored}
+    rows: list[dict] = []
+    seen: set[tuple] = set()
+    if resolved:
+        lines = build_lines(
+            np.array([lv.energy_cm1 for lv in resolved]),
+            np.array([np.nan if lv.unc_cm1 is None else lv.unc_cm1 for lv in resolved]),
+            np.array([lv.two_j for lv in resolved]), np.array([lv.parity for lv in resolved]),
+            multipoles=multipoles, two_s=np.array([-1 if lv.multiplicity is None else lv.multiplicity - 1
+                                                   for lv in resolved]),
+            min_wavenumber_cm1=window[0], max_wavenumber_cm1=window[1],
+            max_upper_cm1=math.inf if max_upper_cm1 is None else max_upper_cm1, air_formula=air_formula)
+        for k in range(len(lines)):
+            lo, up = resolved[int(lines.lower[k])], resolved[int(lines.upper[k])]
+            multipole = str(lines.multipole[k])
+            known = by_pair.get((lo.id, up.id, multipole))
+            seen.add((lo.id, up.id, multipole))
+            rows.append(_engine_row(spectrum, lo, up, multipole, float(lines.wavenumber_cm1[k]),
+                                    float(lines.vacuum_nm[k]), float(lines.air_nm[k]), float(lines.unc_nm[k]),
+                                    known, dataset_names, bool(lines.intercombination[k])))
+    del index
+    level_by_id = {lv.id: lv for lv in levels}
+    for ln in stored:
+        key = (ln.lower_id, ln.upper_id, ln.multipole)
+        if key in seen or ln.multipole not in multipoles:
+            continue
+        sigma = ln.wavenumber_cm1
+        if not window[0] <= sigma <= window[1]:
+            continue
+        lo, up = level_by_id[ln.lower_id], level_by_id[ln.upper_id]
+        if max_upper_cm1 is not None and up.energy_cm1 > max_upper_cm1:
+            continue
+        rows.append(_engine_row(spectrum, lo, up, ln.multipole, sigma, ln.vacuum_nm,
+                                math.nan if ln.air_nm is None else ln.air_nm,
+                                math.nan if ln.unc_nm is None else ln.unc_nm, ln, dataset_names, False))
+    return rows
+
+
+def _engine_row(spectrum, lo, up, multipole, sigma, vacuum, air_nm, unc_nm, known, dataset_names, inter) -> dict:
+    notes = []
+    if inter:
+        notes.append("intercombination")
+    if known is None:
+        notes.append("rates unknown")
+    return {
+        "spectrum": spectrum, "lower": lo.label, "upper": up.label, "lower_cm1": lo.energy_cm1,
+        "upper_cm1": up.energy_cm1, "wavenumber_cm1": sigma, "vacuum_nm": vacuum,
+        "air_nm": None if not math.isfinite(air_nm) else air_nm, "multipole": multipole,
+        "a_per_s": known.a_per_s if known is not None else None,
+        "f_abs": known.f_abs if known is not None else None,
+        "line_strength_au": known.line_strength_au if known is not None else None,
+        "g_lower": lo.g, "g_upper": up.g, "unc_nm": None if not math.isfinite(unc_nm) else unc_nm,
+        "dataset": dataset_names.get(known.dataset_id if known is not None else up.dataset_id, ""),
+        "note": "; ".join(notes), "lower_id": lo.id, "upper_id": up.id,
+        "lower_lifetime_s": lo.lifetime_s, "upper_lifetime_s": up.lifetime_s,
+    }
+
+
+def _sort_rows(rows: list[dict], order: str) -> list[dict]:
+    if order == "wavelength":
+        return sorted(rows, key=lambda r: r["vacuum_nm"])
+    if order == "-wavelength":
+        return sorted(rows, key=lambda r: -r["vacuum_nm"])
+    field_name = "line_strength_au" if order == "strength" else "a_per_s"
+    return sorted(rows, key=lambda r: (r[field_name] is None, -(r[field_name] or 0.0), r["vacuum_nm"]))
 
 
 def _hydrogenic_level_rows(model) -> list[dict]:

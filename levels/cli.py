@@ -196,6 +196,84 @@ def import_(obj: Context, file: str, sample: str | None, dataset: str | None, ki
     report = obj.catalog.import_file(file, sample=sample, dataset=dataset, kind=kind, citation=citation)
     click.echo(f"imported {report.levels} levels of {', '.join(report.species)} into {report.kind} dataset "
                f"{report.dataset!r} (id {report.dataset_id})" + (f" of sample {report.sample!r}" if report.sample else ""))
+    if report.lines:
+        click.echo(f"derived {report.lines} E1 lines from the levels (Ritz wavelengths; rates unknown until measured)")
+
+
+def _wavelength_option(value: str | None, name: str) -> float | None:
+    from levels.units import wavelength_nm
+
+    return None if value is None else wavelength_nm(value)
+
+
+def _energy_cm1_option(value: str | None) -> float | None:
+    from levels.units import CM1_J, parse_quantity
+
+    return None if value is None else parse_quantity(value, "energy", default_unit="cm-1") / CM1_J
+
+
+def _multipoles_option(value: str) -> tuple[str, ...]:
+    items = tuple(m.strip().upper() for m in value.split(",") if m.strip())
+    if not items:
+        raise click.BadParameter("give at least one of E1, M1, E2")
+    return items
+
+
+@main.command()
+@click.argument("spectrum", required=False)
+@click.option("--from", "from_", metavar="WAVELENGTH", help="Window start, with unit (400nm, 4000A).")
+@click.option("--to", metavar="WAVELENGTH", help="Window end, with unit.")
+@click.option("--medium", type=click.Choice(["vacuum", "air"]), default="air", show_default=True,
+              help="Medium of the window (lines below 200 nm are always in vacuum).")
+@click.option("--multipole", default="E1", show_default=True, help="Comma list of E1, M1, E2 (forbidden lines on request).")
+@click.option("--min-a", type=float, help="Smallest Einstein A, s-1 (lines without a known A are left out).")
+@click.option("--max-upper", metavar="ENERGY", help="Highest upper-level energy (50000cm-1, 6.2eV).")
+@click.option("--dataset", "datasets", multiple=True, metavar="NAME", help="Datasets in order of precedence (repeat).")
+@click.option("--sort", "order", type=click.Choice(["wavelength", "strength", "a"]), default="wavelength", show_default=True)
+@click.option("--air-formula", type=click.Choice(["iau2000", "edlen1966", "ciddor1996"]), default="iau2000",
+              show_default=True)
+@click.option("--limit", type=int, help="At most this many lines.")
+@click.option("--format", "fmt", type=click.Choice(TABLE_FORMATS), default="table", show_default=True)
+@click.option("--output", type=click.Path(dir_okay=False), help="Write to this file (atomically) instead of printing.")
+@click.pass_obj
+@reports_errors
+def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None, medium: str, multipole: str,
+          min_a: float | None, max_upper: str | None, datasets: tuple[str, ...], order: str, air_formula: str,
+          limit: int | None, fmt: str, output: str | None) -> None:
+    """Line list of SPECTRUM: every line its levels allow, with Ritz wavelengths and known rates.
+
+    Without SPECTRUM, search the stored lines of all species in the window (a line finder).
+    Air wavelengths are empty below 200 nm (vacuum ultraviolet is quoted in vacuum).
+
+    \b
+    Example:
+      levels lines "H I" --from 400nm --to 700nm --medium air --format csv
+      levels lines "Li I" --multipole E1,M1,E2 --output li-lines.ecsv --format ecsv
+      levels lines --from 486nm --to 487nm
+    """
+    from levels.catalog import LINE_COLUMNS, LINE_HEADINGS, LINE_UNITS, LineQuery
+    from levels.physics.air import formula_description
+
+    query = LineQuery(spectrum=spectrum, from_nm=_wavelength_option(from_, "--from"),
+                      to_nm=_wavelength_option(to, "--to"), medium=medium,
+                      multipoles=_multipoles_option(multipole), min_a=min_a,
+                      max_upper_cm1=_energy_cm1_option(max_upper), datasets=tuple(datasets) or None,
+                      order=order, limit=limit)
+    if spectrum is None:
+        if query.from_nm is None or query.to_nm is None:
+            raise click.UsageError("without SPECTRUM, give a window with --from and --to")
+        rows, total = obj.catalog.line_rows(query)
+        used = sorted({r["dataset"] for r in rows})
+        info = {"total": total, "without_rates": sum(1 for r in rows if r["a_per_s"] is None)}
+    else:
+        rows, info = obj.catalog.species_lines(query, multipoles=query.multipoles, air_formula=air_formula)
+        used = info["datasets"]
+    provenance = obj.catalog.provenance(query.describe(), used, air_formula=formula_description(air_formula),
+                                        lines=f"{len(rows)} of {info['total']}",
+                                        rates=f"{info['without_rates']} lines without known rates (A, f, S empty)")
+    emit(rows, LINE_COLUMNS, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS)
+    if fmt == "table" and info["without_rates"]:
+        click.echo(f"{info['without_rates']} of {len(rows)} lines have no known rates (A, f, S left empty)", err=True)
 
 
 class _Progress:

@@ -337,6 +337,19 @@ def select_lines(session: Session, *, dataset_ids: Sequence[int], species_ids: S
     return rows, int(total or 0)
 
 
+def stored_lines_between(session: Session, level_ids: Sequence[int], dataset_ids: Sequence[int]) -> list[Line]:
+    """Stored lines of the given datasets whose both levels are among ``level_ids``."""
+    if not level_ids or not dataset_ids:
+        return []
+    wanted = set(level_ids)
+    rows = []
+    ids = list(wanted)
+    for start in range(0, len(ids), 5000):
+        part = ids[start:start + 5000]
+        rows.extend(session.scalars(select(Line).where(Line.upper_id.in_(part), Line.dataset_id.in_(list(dataset_ids)))))
+    return [ln for ln in rows if ln.lower_id in wanted]
+
+
 def line_row(line: Line, lower: Level, upper: Level, spectrum: str, dataset: str) -> dict:
     """A stored line as a row of the line-list contract."""
     return {

@@ -7,7 +7,7 @@ import pytest
 from sqlalchemy import func, insert, select, text
 from sqlalchemy.exc import IntegrityError
 
-from levels.catalog import LEVEL_COLUMNS, SPECIES_COLUMNS, Catalog
+from levels.catalog import LEVEL_COLUMNS, SPECIES_COLUMNS, Catalog, LineQuery
 from levels.errors import AlreadyExistsError, NotFoundError, StoreError
 from levels.store import database
 from levels.store.schema import AuditEntry, Dataset, Level, Sample, Species
@@ -53,7 +53,7 @@ def test_import_writes_sample_dataset_and_audit(catalog):
     catalog.import_file(DEMO, sample="demo-1")
 
     def look(session):
-        ds = session.scalars(select(Dataset)).one()
+        ds = session.scalars(select(Dataset).where(Dataset.kind == "measured")).one()
         sample = session.scalars(select(Sample)).one()
         audit = session.scalars(select(AuditEntry)).all()
         return ds.kind, ds.sample_id == sample.id, ds.author, [(a.action, a.actor) for a in audit]
@@ -61,6 +61,14 @@ def test_import_writes_sample_dataset_and_audit(catalog):
     kind, linked, author, audit = catalog.read(look)
     assert kind == "measured" and linked and author == "pytest"
     assert audit == [("import-levels", "pytest")]
+
+
+def test_import_derives_the_e1_lines_of_the_new_levels(catalog):
+    report = catalog.import_file(DEMO, sample="demo-1")
+    rows, total = catalog.line_rows(LineQuery(spectrum="Li I"))
+    assert total == report.lines > 0
+    assert all(r["multipole"] == "E1" and r["a_per_s"] is None for r in rows)
+    assert all(r["upper_cm1"] > r["lower_cm1"] for r in rows)
 
 
 def test_second_import_gets_a_new_dataset_name_and_explicit_clash_is_refused(catalog):
