@@ -445,14 +445,96 @@ class Catalog:
         raw = content if content is not None else path
         table = read_delimited(raw, source=name)
         kind_of_file = detect_file_kind(table.columns, name, table.header_line)
-        if kind_of_file != "levels":
-            raise InputFileError([Problem(name, table.header_line, None,
-                                          f"{kind_of_file} files are not importable yet")])
+        if kind_of_file == "lines":
+            line_records = level_io.validate_lines(
+                _checked_columns(table, level_io.LINE_FILE_COLUMNS, level_io.LINE_FILE_REQUIRED), source=name)
+            return self.import_line_records(line_records, source=name, sample=sample, dataset=dataset, kind=kind,
+                                            citation=citation, description=description,
+                                            sample_conditions=sample_conditions)
         records = level_io.validate_levels(
             _checked_columns(table, level_io.LEVEL_COLUMNS, level_io.LEVEL_REQUIRED),
             source=name, default_dataset=dataset)
         return self.import_level_records(records, source=name, sample=sample, kind=kind, citation=citation,
                                          description=description, sample_conditions=sample_conditions)
+
+    def import_line_records(self, records: Sequence[level_io.LineRecord], *, source: str, sample: str | None = None,
+                            dataset: str | None = None, kind: str = "measured", citation: str = "",
+                            description: str = "", sample_conditions: Mapping[str, object] | None = None,
+                            air_formula: str = "iau2000") -> ImportReport:
+        """Write validated measured lines as one new dataset; labels resolve to stored levels."""
+        from levels import lab
+
+        if not records:
+            raise InputFileError([Problem(source, None, None, "no lines to import")])
+
+        def work(session: Session) -> ImportReport:
+            name = dataset or _free_dataset_name(session, source, sample)
+            sample_row = None
+            if sample:
+                sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
+            ds = queries.create_dataset(session, name=name, kind=kind, citation=citation, author=self.actor,
+                                        description=description or f"lines imported from {source}",
+                                        method="file import", sample=sample_row,
+                                        options={"air_formula": air_formula})
+            count = lab.store_measured_lines(session, records, ds.id, source, air_formula)
+            names = sorted({r.spectrum.name for r in records})
+            queries.record_audit(session, "import-lines", f"dataset {ds.name}",
+                                 {"source": source, "lines": count, "species": names, "sample": sample},
+                                 actor=self.actor)
+            return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
+                                species=names, lines=count)
+
+        return self.write(work)
+
+    # ------------------------------------------------------------- lab workflow
+    def fit_limit(self, spectrum: str, patterns: Sequence[str], *, datasets: Sequence[str] | None = None,
+                  n_defect_terms: int = 2, n_min: int | None = None, save: bool = True) -> dict:
+        """Fit a series limit (extended Ritz formula); optionally store it as its own dataset."""
+        from levels import lab
+
+        spec = parse_spectrum(spectrum)
+        if not patterns:
+            raise PhysicsInputError("give at least one --series pattern, like 'ns 2S1/2'")
+
+        def work(session: Session) -> dict:
+            report = lab.fit_limit(session, spec, patterns, datasets=datasets, n_defect_terms=n_defect_terms,
+                                   n_min=n_min)
+            if save:
+                species = queries.require_species(session, spec)
+                name = f"series limit {species.name} A={species.mass_number}"
+                lab.save_limit(session, species, report, self.actor, name)
+                queries.record_audit(session, "fit-limit", f"dataset {name}",
+                                     {"patterns": list(patterns), "limit_cm1": report["limit_cm1"]}, actor=self.actor)
+                report["saved_as"] = name
+            return report
+
+        return self.write(work) if save else self.read(work)
+
+    def optimize_levels(self, dataset: str | int, *, fix: str | None = None) -> dict:
+        """Least-squares level energies from a dataset's measured lines (report only, nothing written)."""
+        from levels import lab
+
+        return self.read(lambda session: lab.optimize(session, dataset, fix_label=fix))
+
+    def identify_peaks(self, spectra: Sequence[str], peaks_path, *, tolerance_nm: float,
+                       content: bytes | None = None, source: str | None = None, max_candidates: int = 3) -> list[dict]:
+        """Match a peaks file against the lines (engine) of one or more species."""
+        from levels import lab
+
+        peaks = level_io.read_peaks_file(content if content is not None else peaks_path,
+                                         source=source or (Path(peaks_path).name if peaks_path else None))
+        lo = min(p.peak_nm for p in peaks) - 10 * tolerance_nm - 1.0
+        hi = max(p.peak_nm for p in peaks) + 10 * tolerance_nm + 1.0
+        candidates: list[dict] = []
+        for spectrum in spectra:
+            rows, _ = self.species_lines(LineQuery(spectrum=spectrum, from_nm=max(lo, 1e-3), to_nm=hi, medium="vacuum"),
+                                         multipoles=("E1", "M1", "E2"))
+            rows_air, _ = self.species_lines(LineQuery(spectrum=spectrum, from_nm=max(lo, 1e-3), to_nm=hi,
+                                                       medium="air"), multipoles=("E1", "M1", "E2"))
+            seen = {(r["lower_id"], r["upper_id"], r["multipole"]) for r in rows}
+            candidates.extend(rows)
+            candidates.extend(r for r in rows_air if (r["lower_id"], r["upper_id"], r["multipole"]) not in seen)
+        return lab.identify(peaks, candidates, tolerance_nm=tolerance_nm, max_candidates=max_candidates)
 
     def import_level_records(self, records: Sequence[level_io.LevelRecord], *, source: str,
                              sample: str | None = None, kind: str = "measured", citation: str = "",
@@ -731,12 +813,17 @@ def level_row(spectrum_name: str, level: Level, dataset_name: str) -> dict:
 
 
 def _level_insert_row(rec: level_io.LevelRecord, dataset_id: int, species_id: int) -> dict:
+    lande = rec.lande_g
+    if lande is None and rec.multiplicity is not None:
+        from levels.physics.lande import lande_g_ls
+
+        lande = float(lande_g_ls(rec.multiplicity - 1, rec.big_l, rec.two_j))
     return {
         "dataset_id": dataset_id, "species_id": species_id, "label": rec.label,
         "configuration": rec.configuration, "term": rec.term, "two_j": rec.two_j, "g": rec.two_j + 1,
         "parity": rec.parity,
         "energy_cm1": rec.energy_cm1, "unc_cm1": rec.unc_cm1, "multiplicity": rec.multiplicity,
-        "big_l": rec.big_l, "n": rec.n, "l": rec.l, "lifetime_s": rec.lifetime_s, "lande_g": rec.lande_g,
+        "big_l": rec.big_l, "n": rec.n, "l": rec.l, "lifetime_s": rec.lifetime_s, "lande_g": lande,
     }
 
 

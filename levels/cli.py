@@ -183,20 +183,24 @@ def show(obj: Context, spectrum: str, datasets: tuple[str, ...], fmt: str, outpu
 @click.pass_obj
 @reports_errors
 def import_(obj: Context, file: str, sample: str | None, dataset: str | None, kind: str, citation: str) -> None:
-    """Import measured levels from FILE as a new dataset, all-or-nothing.
+    """Import measured levels or lines from FILE as a new dataset, all-or-nothing.
 
-    FILE is a CSV with a header naming the columns spectrum, configuration,
-    term, j, energy_cm1 (required) and label, parity, unc_cm1, g, n, l,
-    lifetime_s, lande_g, dataset (optional). Lines starting with # are comments.
+    The kind is told by the header. A levels file names the columns spectrum,
+    configuration, term, j, energy_cm1 (required) and label, parity, unc_cm1,
+    g, n, l, lifetime_s, lande_g, dataset (optional). A lines file names
+    spectrum, lower, upper, wavelength_nm, medium, unc_nm (required) and
+    intensity, a_per_s, f_abs, multipole, note; lower and upper are labels of
+    levels already in the store. Lines starting with # are comments.
 
     \b
     Example:
       levels import seed_data/demo/sample-li-cell.csv --sample demo-1
     """
     report = obj.catalog.import_file(file, sample=sample, dataset=dataset, kind=kind, citation=citation)
-    click.echo(f"imported {report.levels} levels of {', '.join(report.species)} into {report.kind} dataset "
+    what = f"{report.levels} levels" if report.levels else f"{report.lines} lines"
+    click.echo(f"imported {what} of {', '.join(report.species)} into {report.kind} dataset "
                f"{report.dataset!r} (id {report.dataset_id})" + (f" of sample {report.sample!r}" if report.sample else ""))
-    if report.lines:
+    if report.levels and report.lines:
         click.echo(f"derived {report.lines} E1 lines from the levels (Ritz wavelengths; rates unknown until measured)")
 
 
@@ -274,6 +278,145 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     emit(rows, LINE_COLUMNS, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS)
     if fmt == "table" and info["without_rates"]:
         click.echo(f"{info['without_rates']} of {len(rows)} lines have no known rates (A, f, S left empty)", err=True)
+
+
+REPORT_FORMATS = ("table", "json")
+
+
+def _echo_json(payload: dict, output: str | None) -> None:
+    text = json.dumps(payload, indent=1, ensure_ascii=False, default=_json_default) + "\n"
+    if output:
+        write_atomic(output, text)
+        click.echo(f"wrote {output}", err=True)
+    else:
+        click.echo(text, nl=False)
+
+
+def _json_default(value):
+    if hasattr(value, "item"):
+        return value.item()
+    if hasattr(value, "tolist"):
+        return value.tolist()
+    return str(value)
+
+
+def _warnings(items) -> None:
+    for text in items:
+        click.echo(f"warning: {text}", err=True)
+
+
+@main.command()
+@click.argument("spectrum")
+@click.option("--series", "patterns", multiple=True, required=True, metavar="PATTERN",
+              help="Level-label pattern with n for the running number, e.g. 'ns 2S1/2' (repeat to fit a shared limit).")
+@click.option("--n-min", type=int, help="Use only levels with n >= this.")
+@click.option("--defect-terms", type=int, default=2, show_default=True, help="Quantum-defect terms per series.")
+@click.option("--dataset", "datasets", multiple=True, metavar="NAME", help="Datasets in order of precedence.")
+@click.option("--no-save", is_flag=True, help="Do not store the fitted limit.")
+@click.option("--format", "fmt", type=click.Choice(REPORT_FORMATS), default="table", show_default=True)
+@click.option("--output", type=click.Path(dir_okay=False), help="Write the JSON report to this file.")
+@click.pass_obj
+@reports_errors
+def limit(obj: Context, spectrum: str, patterns: tuple[str, ...], n_min: int | None, defect_terms: int,
+          datasets: tuple[str, ...], no_save: bool, fmt: str, output: str | None) -> None:
+    """Fit a Rydberg series of SPECTRUM and report the series (ionization) limit.
+
+    The extended Ritz formula E_n = E_lim - Z_c^2 R_M / (n - d)^2, with the
+    quantum defect d = d0 + d2/(n - d0)^2 + ..., is fitted by weighted least
+    squares to the levels whose labels match each pattern; R_M is the Rydberg
+    constant of the species' isotope. The fit is stored as a dataset of its own
+    (unless --no-save) so the species table shows it.
+
+    \b
+    Example:
+      levels limit "Li I" --series "ns 2S1/2" --series "nd 2D5/2" --n-min 4
+    """
+    report = obj.catalog.fit_limit(spectrum, list(patterns), datasets=list(datasets) or None,
+                                   n_defect_terms=defect_terms, n_min=n_min, save=not no_save)
+    if fmt == "json" or output:
+        _echo_json(report, output)
+    else:
+        click.echo(f"{report['spectrum']}: series limit {report['limit_cm1']:.4f} ± {report['limit_unc_cm1']:.4f} cm-1 "
+                   f"(chi2 {report['chi2']:.2f} for {report['dof']} degrees of freedom)")
+        if report["stored_limit_cm1"] is not None:
+            diff = report["limit_cm1"] - report["stored_limit_cm1"]
+            click.echo(f"stored limit {report['stored_limit_cm1']:.4f} cm-1; fitted minus stored {diff:+.4f} cm-1")
+        for entry in report["series"]:
+            defects = ", ".join(f"{d:.6f}" for d in entry["quantum_defects"])
+            worst = max((abs(r) for r in entry["residuals_cm1"]), default=0.0)
+            click.echo(f"  {entry['pattern']}: {entry['n_used']} levels, n = {min(entry['n_values'])}.."
+                       f"{max(entry['n_values'])}, quantum defects [{defects}], largest residual {worst:.4f} cm-1")
+        if report.get("saved_as"):
+            click.echo(f"stored as dataset {report['saved_as']!r}")
+    _warnings(report["warnings"])
+
+
+@main.command()
+@click.argument("dataset")
+@click.option("--fix", metavar="LABEL", help="Reference level held at its stored energy (default: the lowest).")
+@click.option("--format", "fmt", type=click.Choice(REPORT_FORMATS), default="table", show_default=True)
+@click.option("--output", type=click.Path(dir_okay=False), help="Write the JSON report to this file.")
+@click.pass_obj
+@reports_errors
+def optimize(obj: Context, dataset: str, fix: str | None, fmt: str, output: str | None) -> None:
+    """Least-squares level energies from the measured lines of DATASET (Ritz principle).
+
+    Each line's vacuum wavenumber is the difference of its two levels; the
+    levels are found by weighted linear least squares with one level fixed.
+    Lines more than 3 sigma off are flagged 'outlier'; levels fixed by a single
+    line 'single-line level'. Nothing is written.
+
+    \b
+    Example:
+      levels optimize demo-1/lines-run-3 --fix "1s2.2s 2S1/2"
+    """
+    report = obj.catalog.optimize_levels(dataset, fix=fix)
+    if fmt == "json" or output:
+        _echo_json(report, output)
+    else:
+        click.echo(format_text_table(report["levels"], ("label", "energy_cm1", "unc_cm1", "n_lines", "stored_cm1", "flag"),
+                                     headings={"energy_cm1": "energy [cm-1]", "unc_cm1": "unc [cm-1]",
+                                               "stored_cm1": "stored [cm-1]"}), nl=False)
+        click.echo()
+        click.echo(format_text_table(report["lines"], ("lower", "upper", "observed_nm", "medium", "residual_cm1", "flag"),
+                                     headings={"observed_nm": "observed [nm]", "residual_cm1": "obs-Ritz [cm-1]"}),
+                   nl=False)
+        click.echo(f"chi2 {report['chi2']:.3f} for {report['dof']} degrees of freedom; fixed level {report['fixed']}")
+    _warnings(report["warnings"])
+
+
+@main.command()
+@click.argument("spectra")
+@click.argument("peaks_file", type=click.Path(exists=True, dir_okay=False))
+@click.option("--tolerance", default="0.005nm", show_default=True, help="Match window, with unit.")
+@click.option("--candidates", type=int, default=3, show_default=True, help="Candidates listed per peak.")
+@click.option("--format", "fmt", type=click.Choice(TABLE_FORMATS), default="table", show_default=True)
+@click.option("--output", type=click.Path(dir_okay=False), help="Write to this file (atomically) instead of printing.")
+@click.pass_obj
+@reports_errors
+def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, candidates: int, fmt: str,
+             output: str | None) -> None:
+    """Name the peaks of a measured spectrum from the lines of SPECTRA (comma list).
+
+    PEAKS_FILE is a CSV with peak_nm (required) and medium (air or vacuum,
+    default air), unc_nm, intensity, note. Candidates are ranked by distance
+    and, where rates are known, expected strength; unmatched and ambiguous
+    peaks say so.
+
+    \b
+    Example:
+      levels identify "H I,D I" peaks.csv --tolerance 0.01nm
+    """
+    from levels.lab import IDENTIFY_COLUMNS
+    from levels.units import wavelength_nm
+
+    names = [s.strip() for s in spectra.split(",") if s.strip()]
+    rows = obj.catalog.identify_peaks(names, peaks_file, tolerance_nm=wavelength_nm(tolerance),
+                                      max_candidates=candidates)
+    provenance = obj.catalog.provenance(f"identify {', '.join(names)} in {peaks_file}; tolerance {tolerance}")
+    emit(rows, IDENTIFY_COLUMNS, fmt, provenance, output=output,
+         units={"peak_nm": "nm", "line_nm": "nm", "delta_nm": "nm", "a_per_s": "s-1"},
+         headings={"peak_nm": "peak [nm]", "line_nm": "line [nm]", "delta_nm": "Δ [nm]", "a_per_s": "A [s-1]"})
 
 
 class _Progress:

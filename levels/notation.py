@@ -503,7 +503,8 @@ def label_pattern_to_regex(pattern: str) -> re.Pattern[str]:
     """Compile a series pattern where ``n`` stands for the running principal number.
 
     ``"ns 2S1/2"`` matches ``"5s 2S1/2"``; the principal number is captured as group ``n``.
-    Only an ``n`` that starts the configuration (or follows a ``.``) is the running number.
+    Only an ``n`` that starts the last subshell is the running number; a pattern without
+    inner subshells (``"ns 2S1/2"``) also matches labels with a core (``"1s2.5s 2S1/2"``).
     """
     if not isinstance(pattern, str) or "n" not in pattern:
         raise NotationError(f"series pattern {pattern!r} must contain 'n' for the running principal number")
@@ -511,7 +512,8 @@ def label_pattern_to_regex(pattern: str) -> re.Pattern[str]:
     head, dot, last = config.rpartition(".")
     if not last.startswith("n"):
         raise NotationError(f"series pattern {pattern!r}: the last subshell must start with 'n', like 'ns'")
-    regex = re.escape(head + dot) + r"(?P<n>\d+)" + re.escape(last[1:])
+    prefix = re.escape(head + dot) if head else r"(?:[^ ]*\.)?"
+    regex = prefix + r"(?P<n>\d+)" + re.escape(last[1:])
     if rest:
         regex += re.escape(" " + rest)
     return re.compile("^" + regex + "$")

@@ -156,5 +156,6 @@ def test_level_label_and_series_pattern():
     regex = label_pattern_to_regex("ns 2S1/2")
     match = regex.match("15s 2S1/2")
     assert match and match.group("n") == "15"
-    assert regex.match("1s2.15s 2S1/2") is None
+    assert regex.match("1s2.15s 2S1/2").group("n") == "15"
+    assert regex.match("15p 2P°1/2") is None
     assert label_pattern_to_regex("1s2.ns 2S1/2").match("1s2.7s 2S1/2").group("n") == "7"

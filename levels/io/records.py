@@ -279,3 +279,129 @@ def read_levels_file(path_or_bytes: str | os.PathLike | bytes, *, source: str | 
     table = read_delimited(path_or_bytes, source=source, known_columns=LEVEL_COLUMNS,
                            required_columns=LEVEL_REQUIRED)
     return validate_levels(table.rows, source=table.source, default_dataset=default_dataset)
+
+
+# ----------------------------------------------------------------- measured lines
+
+LINE_FILE_COLUMNS = ("spectrum", "lower", "upper", "wavelength_nm", "medium", "unc_nm", "intensity", "a_per_s",
+                     "f_abs", "multipole", "note")
+LINE_FILE_REQUIRED = ("spectrum", "lower", "upper", "wavelength_nm", "medium", "unc_nm")
+#: wavelengths accepted, nm (1 pm to 1 m)
+WAVELENGTH_RANGE_NM = (1e-3, 1e9)
+
+
+@dataclass(frozen=True)
+class LineRecord:
+    """A validated measured line; ``lower``/``upper`` are level labels still to be resolved."""
+
+    spectrum: Spectrum
+    lower: str
+    upper: str
+    wavelength_nm: float
+    medium: str
+    unc_nm: float
+    intensity: float | None = None
+    a_per_s: float | None = None
+    f_abs: float | None = None
+    multipole: str = "E1"
+    note: str = ""
+    line: int | None = None
+
+
+def validate_line(fields: Mapping[str, object], *, source: str,
+                  line: int | None = None) -> tuple[LineRecord | None, list[Problem]]:
+    """Validate one measured line row (labels are checked against levels later)."""
+    row = _Row(source, line, fields)
+    spectrum = None
+    try:
+        spectrum = parse_spectrum(row.text("spectrum"))
+    except NotationError as exc:
+        row.fail("spectrum", str(exc))
+    lower, upper = row.text("lower"), row.text("upper")
+    if not lower:
+        row.fail("lower", "a level label is required")
+    if not upper:
+        row.fail("upper", "a level label is required")
+    if lower and upper and lower == upper:
+        row.fail("upper", "a line needs two different levels")
+    wavelength = row.number("wavelength_nm", required=True, strictly_positive=True, maximum=WAVELENGTH_RANGE_NM[1])
+    if wavelength is not None and wavelength < WAVELENGTH_RANGE_NM[0]:
+        row.fail("wavelength_nm", f"{wavelength!r} nm is below the accepted {WAVELENGTH_RANGE_NM[0]} nm")
+        wavelength = None
+    medium = row.text("medium").lower()
+    if medium not in ("air", "vacuum"):
+        row.fail("medium", f"{row.text('medium')!r} is not a medium; write air or vacuum")
+    elif medium == "air" and wavelength is not None and wavelength < 200.0:
+        row.fail("medium", f"air wavelengths are defined above 200 nm; {wavelength:g} nm must be given in vacuum")
+    unc = row.number("unc_nm", required=True, strictly_positive=True)
+    intensity = row.number("intensity", minimum=0.0)
+    a_value = row.number("a_per_s", minimum=0.0)
+    f_value = row.number("f_abs", minimum=0.0)
+    multipole = (row.text("multipole") or "E1").upper()
+    if multipole not in ("E1", "M1", "E2"):
+        row.fail("multipole", f"{row.text('multipole')!r} is not one of E1, M1, E2")
+    note = row.text("note")
+    if row.problems:
+        return None, row.problems
+    return LineRecord(spectrum, lower, upper, wavelength, medium, unc, intensity, a_value, f_value, multipole,
+                      note, line), []
+
+
+def validate_lines(items: Iterable[tuple[int | None, Mapping[str, object]]], *, source: str) -> list[LineRecord]:
+    """Validate many measured lines; refuse duplicates; raise InputFileError listing every problem."""
+    records, problems = [], []
+    seen: dict[tuple, int | None] = {}
+    for line, fields in items:
+        record, row_problems = validate_line(fields, source=source, line=line)
+        problems.extend(row_problems)
+        if record is not None:
+            key = (record.spectrum, record.lower, record.upper, record.multipole)
+            if key in seen:
+                problems.append(Problem(source, line, "upper", f"duplicate line {record.lower} - {record.upper}, "
+                                                               f"first given on line {seen[key]}"))
+            else:
+                seen[key] = line
+                records.append(record)
+        if len(problems) >= MAX_PROBLEMS:
+            break
+    if problems:
+        raise InputFileError(problems)
+    return records
+
+
+# ----------------------------------------------------------------- peaks
+
+PEAK_COLUMNS = ("peak_nm", "medium", "unc_nm", "intensity", "note")
+
+
+@dataclass(frozen=True)
+class PeakRecord:
+    """A measured peak to identify."""
+
+    peak_nm: float
+    medium: str
+    unc_nm: float | None
+    intensity: float | None
+    note: str
+    line: int | None
+
+
+def read_peaks_file(path_or_bytes: str | os.PathLike | bytes, *, source: str | None = None,
+                    default_medium: str = "air") -> list[PeakRecord]:
+    """Read a peaks CSV (``peak_nm`` required; ``medium, unc_nm, intensity, note`` optional)."""
+    table = read_delimited(path_or_bytes, source=source, known_columns=PEAK_COLUMNS, required_columns=("peak_nm",))
+    peaks, problems = [], []
+    for line, fields in table.rows:
+        row = _Row(table.source, line, fields)
+        value = row.number("peak_nm", required=True, strictly_positive=True, maximum=WAVELENGTH_RANGE_NM[1])
+        medium = (row.text("medium") or default_medium).lower()
+        if medium not in ("air", "vacuum"):
+            row.fail("medium", f"{row.text('medium')!r} is not a medium; write air or vacuum")
+        unc = row.number("unc_nm", strictly_positive=True)
+        intensity = row.number("intensity", minimum=0.0)
+        problems.extend(row.problems)
+        if not row.problems:
+            peaks.append(PeakRecord(value, medium, unc, intensity, row.text("note"), line))
+    if problems:
+        raise InputFileError(problems)
+    return peaks

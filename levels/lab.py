@@ -1,0 +1,269 @@
+"""Lab-sample workflow on the store: measured lines, series limits, level optimisation, line identification.
+
+These are catalog operations (units of work on one store) kept in their own
+module so :mod:`levels.catalog` stays readable; :class:`levels.catalog.Catalog`
+exposes them as methods. Physics comes from :mod:`levels.physics` (series,
+ritz, air); reading and validation from :mod:`levels.io`.
+"""
+
+from __future__ import annotations
+
+import math
+from collections.abc import Sequence
+
+import numpy as np
+from sqlalchemy.orm import Session
+
+from levels.errors import InputFileError, NotFoundError, PhysicsInputError, Problem
+from levels.io import records as io_records
+from levels.isotopes import isotope
+from levels.notation import label_pattern_to_regex
+from levels.physics import air, ritz, series
+from levels.store import queries
+from levels.store.schema import IonizationLimit, Level, Line, Species
+
+IDENTIFY_COLUMNS = ("peak_nm", "medium", "rank", "spectrum", "lower", "upper", "line_nm", "delta_nm", "a_per_s", "note")
+
+
+def vacuum_of(wavelength_nm: float, medium: str, formula: str = "iau2000") -> float:
+    """Vacuum wavelength (nm) of a wavelength given in air or vacuum."""
+    if medium == "vacuum":
+        return wavelength_nm
+    return float(air.air_to_vacuum(wavelength_nm, formula))
+
+
+# ----------------------------------------------------------------- measured lines
+
+def store_measured_lines(session: Session, records: Sequence[io_records.LineRecord], dataset_id: int,
+                         source: str, air_formula: str = "iau2000") -> int:
+    """Resolve labels against the store's levels and write the lines (caller's transaction).
+
+    Raises
+    ------
+    InputFileError
+        Unknown labels, an E1 claim between levels of equal parity, a lower
+        level above the upper one - every problem listed, nothing written.
+    """
+    problems: list[Problem] = []
+    chosen = queries.visible_datasets(session)
+    by_species: dict = {}
+    rows = []
+    for rec in records:
+        if rec.spectrum not in by_species:
+            species = queries.find_species(session, rec.spectrum)
+            levels = queries.levels_by_precedence(session, species, chosen) if species else []
+            by_species[rec.spectrum] = (species, {lv.label: lv for lv in levels})
+        species, labels = by_species[rec.spectrum]
+        if species is None:
+            problems.append(Problem(source, rec.line, "spectrum", f"no levels of {rec.spectrum.name} in the store; "
+                                                                  "import its levels first"))
+            continue
+        lower, upper = labels.get(rec.lower), labels.get(rec.upper)
+        for field, label, level in (("lower", rec.lower, lower), ("upper", rec.upper, upper)):
+            if level is None:
+                problems.append(Problem(source, rec.line, field, f"no level labelled {label!r} of {rec.spectrum.name} "
+                                                                 "in the store"))
+        if lower is None or upper is None:
+            continue
+        if rec.multipole == "E1" and lower.parity == upper.parity:
+            problems.append(Problem(source, rec.line, "multipole", f"an E1 line needs a change of parity; "
+                                                                   f"{rec.lower} and {rec.upper} have the same parity"))
+            continue
+        if rec.multipole in ("M1", "E2") and lower.parity != upper.parity:
+            problems.append(Problem(source, rec.line, "multipole", f"an {rec.multipole} line keeps parity; "
+                                                                   f"{rec.lower} and {rec.upper} differ"))
+            continue
+        if lower.energy_cm1 >= upper.energy_cm1:
+            problems.append(Problem(source, rec.line, "lower", f"level {rec.lower} ({lower.energy_cm1:g} cm-1) is not "
+                                                               f"below {rec.upper} ({upper.energy_cm1:g} cm-1)"))
+            continue
+        vacuum = vacuum_of(rec.wavelength_nm, rec.medium, air_formula)
+        air_nm = float(air.vacuum_to_air(vacuum, air_formula)) if vacuum > 200.0 else None
+        unc_vacuum = rec.unc_nm * vacuum / rec.wavelength_nm
+        rows.append({
+            "dataset_id": dataset_id, "species_id": species.id, "lower_id": lower.id, "upper_id": upper.id,
+            "multipole": rec.multipole, "wavenumber_cm1": 1e7 / vacuum, "vacuum_nm": vacuum,
+            "air_nm": air_nm if air_nm is not None and math.isfinite(air_nm) else None,
+            "a_per_s": rec.a_per_s, "f_abs": rec.f_abs, "line_strength_au": None, "unc_nm": unc_vacuum,
+            "observed_nm": rec.wavelength_nm, "medium": rec.medium, "intensity": rec.intensity, "note": rec.note,
+        })
+    if problems:
+        raise InputFileError(problems)
+    queries.insert_rows(session, Line, rows)
+    return len(rows)
+
+
+# ----------------------------------------------------------------- series limits
+
+def fit_limit(session: Session, spectrum, patterns: Sequence[str], *, datasets: Sequence[str] | None = None,
+              n_defect_terms: int = 2, n_min: int | None = None) -> dict:
+    """Fit one shared series limit to the levels matching ``patterns`` (``n`` = running number).
+
+    Returns the design's report: ``limit_cm1``, ``limit_unc_cm1``, ``series`` (pattern, n_used,
+    quantum_defects, residuals_cm1), ``warnings``, plus the stored limit of the species for comparison.
+    """
+    species = queries.require_species(session, spectrum)
+    chosen = queries.visible_datasets(session, datasets)
+    levels = queries.levels_by_precedence(session, species, chosen)
+    data, warnings = [], []
+    for pattern in patterns:
+        regex = label_pattern_to_regex(pattern)
+        matched = []
+        for lv in levels:
+            m = regex.match(lv.label)
+            if m:
+                n = int(m.group("n"))
+                if n_min is None or n >= n_min:
+                    matched.append((n, lv))
+        if not matched:
+            raise NotFoundError(f"no level of {species.name} matches the series pattern {pattern!r}")
+        matched.sort(key=lambda item: item[0])
+        unc = [lv.unc_cm1 for _, lv in matched]
+        if any(u is None or u <= 0 for u in unc):
+            warnings.append(f"series {pattern!r}: some levels have no uncertainty; they are given 0.001 cm-1 "
+                            "(the fit is then unweighted and its limit uncertainty is not meaningful)")
+        data.append((pattern, np.array([n for n, _ in matched]), np.array([lv.energy_cm1 for _, lv in matched]),
+                     np.array([1e-3 if (u is None or u <= 0) else u for u in unc])))
+    nuclear_mass = isotope(species.z, species.mass_number).nuclear_mass_u
+    rydberg = series.rydberg_constant_cm1(nuclear_mass)
+    fit = series.fit_series_limit([(n, e, u) for _, n, e, u in data], rydberg_cm1=rydberg,
+                                  core_charge=species.charge + 1, n_defect_terms=n_defect_terms)
+    stored = queries.ionization_limit(session, species, [d for d in chosen if d.method != "extended-ritz-fit"])
+    report = {
+        "spectrum": species.name,
+        "limit_cm1": fit.limit_cm1, "limit_unc_cm1": fit.limit_unc_cm1,
+        "series": [{"pattern": pattern, "n_used": int(fit.n_used[i]) if fit.n_used else int(n.size),
+                    "n_values": n.tolist(), "quantum_defects": [float(x) for x in fit.quantum_defects[i]],
+                    "residuals_cm1": [float(x) for x in fit.residuals_cm1[i]]}
+                   for i, (pattern, n, _, _) in enumerate(data)],
+        "chi2": fit.chi2, "dof": fit.dof, "rydberg_cm1": rydberg, "core_charge": species.charge + 1,
+        "stored_limit_cm1": stored.energy_cm1 if stored else None,
+        "stored_limit_unc_cm1": stored.unc_cm1 if stored else None,
+        "warnings": warnings + list(fit.warnings),
+    }
+    return report
+
+
+def save_limit(session: Session, species: Species, report: dict, actor: str, dataset_name: str) -> None:
+    """Store a fitted limit as its own computed dataset (replacing an earlier fit of that name)."""
+    old = queries.find_dataset(session, dataset_name)
+    if old is not None:
+        queries.delete_dataset(session, old)
+    ds = queries.create_dataset(session, name=dataset_name, kind="computed", method="extended-ritz-fit",
+                                author=actor, options={"series": [s["pattern"] for s in report["series"]]},
+                                citation="extended Ritz formula fit (levels.physics.series)",
+                                description=f"series limit of {species.name} fitted to stored levels")
+    session.add(IonizationLimit(dataset_id=ds.id, species_id=species.id, energy_cm1=report["limit_cm1"],
+                                unc_cm1=report["limit_unc_cm1"], method="extended-ritz-fit"))
+
+
+# ----------------------------------------------------------------- level optimisation
+
+def optimize(session: Session, dataset: str | int, *, fix_label: str | None = None) -> dict:
+    """Least-squares level energies from the measured lines of a dataset (Ritz principle)."""
+    ds = queries.require_dataset(session, dataset)
+    lines = session.query(Line).filter(Line.dataset_id == ds.id).order_by(Line.id).all()
+    lines = [ln for ln in lines if ln.observed_nm is not None]
+    if not lines:
+        raise PhysicsInputError(f"dataset {ds.name!r} has no measured lines to optimise levels from")
+    level_ids = sorted({ln.lower_id for ln in lines} | {ln.upper_id for ln in lines})
+    levels = {lv.id: lv for lv in session.query(Level).filter(Level.id.in_(level_ids)).all()}
+    order = sorted(level_ids, key=lambda i: (levels[i].energy_cm1, levels[i].label))
+    index = {level_id: k for k, level_id in enumerate(order)}
+    if fix_label is None:
+        fixed = 0
+    else:
+        matches = [k for k, level_id in enumerate(order) if levels[level_id].label == fix_label]
+        if not matches:
+            raise NotFoundError(f"no level labelled {fix_label!r} among the levels of the lines of {ds.name!r}")
+        fixed = matches[0]
+    sigma = np.array([ln.wavenumber_cm1 for ln in lines])
+    unc_sigma = np.array([sigma[k] * ln.unc_nm / ln.vacuum_nm for k, ln in enumerate(lines)])
+    fit = ritz.optimize_levels([index[ln.lower_id] for ln in lines], [index[ln.upper_id] for ln in lines],
+                               sigma, unc_sigma, len(order), fixed_index=fixed,
+                               fixed_energy_cm1=levels[order[fixed]].energy_cm1)
+    return {
+        "dataset": ds.name,
+        "levels": [{"label": levels[level_id].label, "energy_cm1": _finite(fit.energy_cm1[k]),
+                    "unc_cm1": _finite(fit.unc_cm1[k]), "n_lines": int(fit.n_lines[k]),
+                    "stored_cm1": levels[level_id].energy_cm1, "flag": str(fit.level_flags[k])}
+                   for k, level_id in enumerate(order)],
+        "lines": [{"lower": levels[ln.lower_id].label, "upper": levels[ln.upper_id].label,
+                   "observed_nm": ln.observed_nm, "medium": ln.medium, "residual_cm1": _finite(fit.residual_cm1[k]),
+                   "flag": str(fit.line_flags[k])} for k, ln in enumerate(lines)],
+        "chi2": fit.chi2, "dof": fit.dof, "fixed": levels[order[fixed]].label,
+        "warnings": _labelled_warnings(fit, [levels[i].label for i in order],
+                                       [f"{levels[ln.lower_id].label} - {levels[ln.upper_id].label}" for ln in lines]),
+    }
+
+
+def _labelled_warnings(fit, level_labels: list[str], line_labels: list[str]) -> list[str]:
+    """The fit's warnings with level and line labels instead of indices."""
+    out = [w for w in fit.warnings if "level(s)" not in w and "line(s)" not in w]
+
+    def listed(labels: list[str]) -> str:
+        return ", ".join(labels[:8]) + (f" and {len(labels) - 8} more" if len(labels) > 8 else "")
+
+    for flag, text in (("disconnected", "not connected to the fixed level by any chain of lines (energies left empty)"),
+                       ("single-line level", "determined by a single line")):
+        hit = [level_labels[k] for k, f in enumerate(fit.level_flags) if f == flag]
+        if hit:
+            out.append(f"{len(hit)} level(s) {text}: {listed(hit)}")
+    outliers = [line_labels[k] for k, f in enumerate(fit.line_flags) if f == "outlier"]
+    if outliers:
+        out.append(f"{len(outliers)} line(s) more than 3 sigma from their Ritz wavenumber: {listed(outliers)}")
+    return out
+
+
+def _finite(value) -> float | None:
+    value = float(value)
+    return value if math.isfinite(value) else None
+
+
+# ----------------------------------------------------------------- identification
+
+def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict], *, tolerance_nm: float,
+             max_candidates: int = 3, air_formula: str = "iau2000") -> list[dict]:
+    """Match peaks to lines; rank candidates by distance and expected strength.
+
+    ``candidates`` are line rows (LINE_COLUMNS). A peak is compared in its own
+    medium. A line is a candidate when within ``max(tolerance, 3 * peak unc)``;
+    candidates are ranked by |delta| over the window, less a strength bonus
+    log10(g_u A) normalised over the candidates when rates exist. A peak with
+    no candidate is ``unmatched``; with several within the peak's own
+    uncertainty (or tolerance), ``ambiguous``.
+    """
+    if not tolerance_nm > 0:
+        raise PhysicsInputError("tolerance must be a positive wavelength")
+    vacuum = np.array([r["vacuum_nm"] for r in candidates], dtype=float)
+    air_nm = np.array([r["air_nm"] if r["air_nm"] is not None else r["vacuum_nm"] for r in candidates], dtype=float)
+    order_v, order_a = np.argsort(vacuum), np.argsort(air_nm)
+    out = []
+    for peak in peaks:
+        values, order = (air_nm, order_a) if peak.medium == "air" and peak.peak_nm > 200 else (vacuum, order_v)
+        window = max(tolerance_nm, 3 * peak.unc_nm) if peak.unc_nm else tolerance_nm
+        sorted_values = values[order]
+        lo = np.searchsorted(sorted_values, peak.peak_nm - window, "left")
+        hi = np.searchsorted(sorted_values, peak.peak_nm + window, "right")
+        hits = order[lo:hi]
+        if hits.size == 0:
+            out.append({"peak_nm": peak.peak_nm, "medium": peak.medium, "rank": None, "spectrum": None,
+                        "lower": None, "upper": None, "line_nm": None, "delta_nm": None, "a_per_s": None,
+                        "note": "unmatched"})
+            continue
+        delta = values[hits] - peak.peak_nm
+        strength = np.array([math.log10(candidates[i]["a_per_s"] * candidates[i]["g_upper"])
+                             if candidates[i]["a_per_s"] else np.nan for i in hits])
+        score = np.abs(delta) / window
+        if np.isfinite(strength).any():
+            top = np.nanmax(strength)
+            score = score + 0.1 * np.where(np.isfinite(strength), np.clip(top - strength, 0, 10), 10)
+        ranked = hits[np.argsort(score, kind="stable")][:max_candidates]
+        close = int((np.abs(delta) <= (peak.unc_nm or tolerance_nm)).sum())
+        note = "ambiguous" if close > 1 else ""
+        for rank, i in enumerate(ranked, start=1):
+            row = candidates[i]
+            out.append({"peak_nm": peak.peak_nm, "medium": peak.medium, "rank": rank, "spectrum": row["spectrum"],
+                        "lower": row["lower"], "upper": row["upper"], "line_nm": float(values[i]),
+                        "delta_nm": float(values[i] - peak.peak_nm), "a_per_s": row["a_per_s"], "note": note})
+    return out

@@ -1,0 +1,919 @@
+"""Energy levels of one-electron (hydrogen-like) ions.
+
+The energy of a state (n, l, j) of a one-electron ion of nuclear charge Z and
+nuclear mass m_N is assembled as in the CODATA adjustments (Mohr, Taylor & Newell
+2008, section IV.A "Electronic atoms"; the same formulas are repeated in the 2010,
+2014 and 2018 adjustments):
+
+* the Dirac eigenvalue of a point nucleus, f(n, j);
+* recoil: the reduced mass, the Barker-Glover term and the (Zα)^5 Salpeter
+  relativistic recoil, higher-order recoil, radiative recoil and the nuclear self
+  energy;
+* the one-loop self energy to order α(Zα)^6 with Bethe logarithms;
+* vacuum polarisation (Uehling to α(Zα)^6, Wichmann-Kroll, muon and hadron loops);
+* two-loop corrections B40, B50, B6k;
+* the finite size of the nucleus, to first order in the difference between the
+  potential of a uniformly charged sphere and a point charge, with the
+  point-nucleus Dirac-Coulomb density at small r (all orders in Zα), scaled for
+  s1/2 and p1/2 states by the ratio of Shabaev's (1993) 1s formula to the
+  first-order 1s value (this accounts for the change of the wavefunction inside
+  the nucleus: 30 % of the shift at Z = 92); the nuclear polarisation of H and D.
+
+Energies are measured from the ionization limit (nucleus and electron at rest,
+infinitely apart), so bound states are negative. Every coefficient that was
+written down from memory, rather than read from the paper in hand, says so
+beside it; the tests check the resulting energies against measurements and
+reference values.
+
+Validity: the QED terms are the first terms of the expansion in Zα. They are
+accurate for light ions (the tests check hydrogen to the kHz level, and He+ to
+Ne9+ to better than 1e-6); the truncation error of the self energy grows with Z
+(about 5 % of the self energy at Z = 20, 20 % at Z = 30) and above Z ≈ 40 the
+expansion no longer describes the self energy at all. At Z = 92 the error of the
+1s binding energy is then of order 1 keV (1e-2 of the binding energy). The
+Dirac, recoil, vacuum-polarisation and finite-size parts stay valid at high Z to
+within a few per cent of their own size.
+
+References
+----------
+P. J. Mohr, B. N. Taylor and D. B. Newell, "CODATA recommended values of the
+fundamental physical constants: 2006", Rev. Mod. Phys. 80, 633-730 (2008),
+section IV.A.1, eqs. (25)-(64).
+
+P. J. Mohr, B. N. Taylor and D. B. Newell, "CODATA recommended values of the
+fundamental physical constants: 2010", Rev. Mod. Phys. 84, 1527-1605 (2012).
+
+G. W. F. Drake and R. A. Swainson, "Bethe logarithms for hydrogen up to n = 20,
+and approximations for two-electron atoms", Phys. Rev. A 41, 1243-1246 (1990).
+
+V. B. Berestetskii, E. M. Lifshitz and L. P. Pitaevskii, "Quantum
+Electrodynamics", 2nd ed. (Pergamon, 1982), §36 (Dirac-Coulomb wavefunctions).
+
+V. M. Shabaev, "Finite nuclear size corrections to the energy levels of the
+multicharged ions", J. Phys. B 26, 1103-1108 (1993) (the leading term used here).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import asdict, dataclass
+from typing import Literal
+
+import numpy as np
+import scipy.constants as sc
+from scipy.special import gammaln
+
+from levels.errors import PhysicsInputError, QuantumNumberError
+from levels.physics import nuclear as _nuclear
+from levels.physics.nuclear import charge_radius_fm
+from levels.units import ALPHA, CM1_HZ, LAMBDA_C_BAR, M_E_U, R_INF_C_HZ
+
+__all__ = [
+    "Corrections",
+    "MEC2_HZ",
+    "bethe_logarithm",
+    "charge_radius_fm",
+    "dirac_point_energy",
+    "ionization_energy_cm1",
+    "ionization_energy_hz",
+    "level_contributions_hz",
+    "level_energies_cm1",
+    "level_energies_hz",
+]
+
+#: electron rest energy in Hz, m_e c^2 / h = 2 R_inf c / alpha^2 (CODATA via scipy)
+MEC2_HZ = 2.0 * R_INF_C_HZ / ALPHA**2
+
+_PI = math.pi
+_LN2 = math.log(2.0)
+_ZETA3 = 1.2020569031595942  # Riemann zeta(3)
+_EULER = float(np.euler_gamma)
+#: electron-to-muon mass ratio (CODATA via scipy)
+_ME_OVER_MMU = 1.0 / sc.physical_constants["muon-electron mass ratio"][0]
+#: hadronic vacuum polarisation relative to the muon loop, 0.671(15)
+#: (Friar, Martorell & Sprung 1999, Phys. Rev. A 59, 4061; as used by CODATA 2006, from memory)
+_HADRONIC_OVER_MUON_VP = 0.671
+
+
+@dataclass(frozen=True)
+class Corrections:
+    """Which corrections to the point-nucleus Dirac energy are applied.
+
+    Attributes
+    ----------
+    recoil : bool
+        Finite nuclear mass: reduced mass, Barker-Glover term (and, with
+        ``higher_order``, the Salpeter (Zα)^5 recoil, higher-order and radiative
+        recoil and the nuclear self energy). Off means an infinitely heavy nucleus.
+    self_energy : bool
+        One-loop self energy, A41, A40 and A50 (with ``higher_order`` also A62,
+        A61, A60 and the two-loop B coefficients).
+    vacuum_polarization : bool
+        Uehling term, V40 and V50 (with ``higher_order`` also V61, V60,
+        Wichmann-Kroll and the muon and hadron loops).
+    finite_size : bool
+        Finite nuclear charge radius (leading non-relativistic formula for s
+        states; with ``higher_order`` the relativistic first-order formula for all
+        states).
+    higher_order : bool
+        The higher-order terms named above.
+
+    Examples
+    --------
+    >>> Corrections.none().as_dict()["recoil"]
+    False
+    >>> Corrections(finite_size=False).finite_size
+    False
+    """
+
+    recoil: bool = True
+    self_energy: bool = True
+    vacuum_polarization: bool = True
+    finite_size: bool = True
+    higher_order: bool = True
+
+    def as_dict(self) -> dict[str, bool]:
+        """Return the switches as a plain ``{name: bool}`` dictionary."""
+        return asdict(self)
+
+    @classmethod
+    def none(cls) -> Corrections:
+        """All corrections off: the Dirac energy of a point nucleus of infinite mass."""
+        return cls(
+            recoil=False,
+            self_energy=False,
+            vacuum_polarization=False,
+            finite_size=False,
+            higher_order=False,
+        )
+
+
+# --------------------------------------------------------------------------------------
+# Bethe logarithms
+# --------------------------------------------------------------------------------------
+
+#: ln k0(n, l) for n = 1..8, all l < n.
+#: Drake & Swainson 1990, Phys. Rev. A 41, 1243, Table I (values from memory, 9 decimals).
+_BETHE_TABLE: dict[int, tuple[float, ...]] = {
+    1: (2.984128556,),
+    2: (2.811769893, -0.030016709),
+    3: (2.767663612, -0.038190229, -0.005232148),
+    4: (2.749811840, -0.041954895, -0.006740939, -0.001733661),
+    5: (2.740823727, -0.044034696, -0.007600751, -0.002202168, -0.000772099),
+    6: (2.735664207, -0.045312198, -0.008147204, -0.002502180, -0.000962798, -0.000407926),
+    7: (2.732429130, -0.046155178, -0.008519223, -0.002709096, -0.001094473, -0.000499701, -0.000240908),
+    8: (
+        2.730267261,
+        -0.046741353,
+        -0.008785042,
+        -0.002859223,
+        -0.001190995,
+        -0.000566308,
+        -0.000290295,
+        -0.000153637,
+    ),
+}
+_BETHE_NMAX = max(_BETHE_TABLE)
+_BETHE_ARRAY = np.full((_BETHE_NMAX + 1, _BETHE_NMAX), np.nan)
+for _n, _row in _BETHE_TABLE.items():
+    _BETHE_ARRAY[_n, : len(_row)] = _row
+
+
+def _bethe_fit(ns: tuple[int, ...], l: int) -> np.ndarray:
+    """Coefficients (a, b, c) of ln k0 = a + b/n^2 + c/n^3 through the tabulated ns."""
+    rows = [[1.0, n**-2.0, n**-3.0][: len(ns)] for n in ns]
+    coef = np.linalg.solve(np.array(rows), np.array([_BETHE_ARRAY[n, l] for n in ns]))
+    return np.concatenate([coef, np.zeros(3 - len(coef))])
+
+
+#: extrapolation coefficients per l for n > 8: three-point fit (n = 6, 7, 8) for
+#: l <= 5, two-point fit (n = 7, 8) in 1/n^2 for l = 6
+_BETHE_FIT = np.array([_bethe_fit((6, 7, 8), l) for l in range(6)] + [_bethe_fit((7, 8), 6)])
+#: circular-state power law: ln k0(l+1, l) ~ (l+1)^-p, p from ln k0(7, 6) and ln k0(8, 7)
+_BETHE_CIRC_P = math.log(_BETHE_TABLE[7][6] / _BETHE_TABLE[8][7]) / math.log(8.0 / 7.0)
+
+
+def bethe_logarithm(n, l) -> np.ndarray:
+    """Bethe logarithm ln k0(n, l) of hydrogen-like states.
+
+    Parameters
+    ----------
+    n : array_like of int
+        Principal quantum number, n >= 1.
+    l : array_like of int
+        Orbital angular momentum, 0 <= l < n.
+
+    Returns
+    -------
+    numpy.ndarray
+        ln k0(n, l), dimensionless (k0 in units of the Rydberg energy Z^2 R_inf h c).
+
+    Raises
+    ------
+    QuantumNumberError
+        If n < 1 or l is not in 0..n-1.
+
+    Notes
+    -----
+    ``ln k0(n, l) = sum_m |<m|p|n l>|^2 (E_m - E_n) ln(|E_m - E_n| / Ry)
+    / sum_m |<m|p|n l>|^2 (E_m - E_n)``, with the denominator replaced by
+    ``2 Z^4 / n^3`` (atomic units) for l > 0, where the sum rule makes it vanish.
+
+    For n <= 8 the value is taken from the table of Drake & Swainson (1990)
+    (values written down from memory). Beyond the table:
+
+    * l <= 5: ``a + b/n^2 + c/n^3`` through the tabulated n = 6, 7, 8 (for l = 0
+      the same fit through n = 5, 6, 7 reproduces n = 8 to 4e-6);
+    * l = 6: ``a + b/n^2`` through n = 7, 8;
+    * l >= 7: ``ln k0(l+1, l) (2 - (l+1)^2/n^2)``, where the circular-state value
+      falls as ``(l+1)^-p`` with p = 3.37 fitted to n = 7, 8, and the factor
+      rises from 1 (circular state) to 2 (n -> infinity) as the tabulated ratio
+      of the n -> infinity limit to the circular value does (1.6, 1.8, 1.9 for
+      l = 1, 2, 3). This reproduces the tabulated ln k0(8, 5) and ln k0(8, 6)
+      to 4 %; the contribution of such states to the energy is below 1e-4 of
+      their Lamb shift's magnetic-moment term, so the estimate is adequate.
+
+    These extrapolations are common practice, no source.
+
+    References
+    ----------
+    G. W. F. Drake and R. A. Swainson, Phys. Rev. A 41, 1243 (1990).
+
+    Examples
+    --------
+    >>> bethe_logarithm([1, 2, 2], [0, 0, 1]).round(6)
+    array([ 2.984129,  2.81177 , -0.030017])
+    >>> float(bethe_logarithm(100, 0).round(3))
+    2.723
+    """
+    n_arr, l_arr = np.broadcast_arrays(_as_int_array("n", n), _as_int_array("l", l))
+    if np.any(n_arr < 1):
+        raise QuantumNumberError("n must satisfy n >= 1")
+    if np.any((l_arr < 0) | (l_arr >= n_arr)):
+        raise QuantumNumberError("l must satisfy 0 <= l < n")
+    return _bethe_kernel(n_arr, l_arr)
+
+
+def _bethe_kernel(n: np.ndarray, l: np.ndarray) -> np.ndarray:
+    out = np.empty(np.shape(n), dtype=float)
+    in_table = n <= _BETHE_NMAX
+    out[in_table] = _BETHE_ARRAY[n[in_table], l[in_table]]
+    low = (~in_table) & (l <= 6)
+    if np.any(low):
+        nn = n[low].astype(float)
+        a, b, c = _BETHE_FIT[l[low]].T
+        out[low] = a + b / nn**2 + c / nn**3
+    high = (~in_table) & (l >= 7)
+    if np.any(high):
+        nn = n[high].astype(float)
+        lp1 = l[high] + 1.0
+        circ = _BETHE_TABLE[8][7] * (8.0 / lp1) ** _BETHE_CIRC_P
+        out[high] = circ * (2.0 - lp1**2 / nn**2)
+    return out
+
+
+# --------------------------------------------------------------------------------------
+# Coefficients of the (Zα)^6 terms known only for some states
+# --------------------------------------------------------------------------------------
+
+#: A60, the (Zα)^6 one-loop self-energy coefficient in the limit Zα -> 0, keyed by
+#: (n, l, two_j). Pachucki 1993 (1S); Jentschura, Mohr & Soff 1999-2001 (2S, 2P), as
+#: quoted in CODATA 2006 (values from memory).
+_A60 = {
+    (1, 0, 1): -30.92414946,
+    (2, 0, 1): -31.84047,
+    (2, 1, 1): -0.998904402,
+    (2, 1, 3): -0.503373465,
+}
+#: G_SE(alpha): the all-order self-energy remainder at Z = 1, CODATA 2006 Table
+#: (Jentschura, Mohr & Soff 1999; values from memory)
+_GSE_Z1 = {
+    (1, 0, 1): -30.29024,
+    (2, 0, 1): -31.18515,
+    (2, 1, 1): -0.9735,
+    (2, 1, 3): -0.4865,
+}
+#: V60 = G_VP^(1)(0), the Uehling (Zα)^6 constant (CODATA 2006; values from memory)
+_V60 = {
+    (1, 0, 1): -0.618724,
+    (2, 0, 1): -0.808872,
+    (2, 1, 1): -0.064006,
+    (2, 1, 3): -0.014132,
+}
+#: N(nL): the low-energy part of the two-loop B61 (Jentschura 2003; values from memory)
+_N_BETHE = {(1, 0): 17.85567203, (2, 0): 12.03214158, (2, 1): 0.003300635}
+
+
+def _state_lookup(table: dict, n: np.ndarray, l: np.ndarray, two_j: np.ndarray) -> np.ndarray:
+    """Value of ``table`` for each state; states not in it take the n = 2 value of the
+    same (l, j) for l <= 1 (the n-dependence of these constants is weak: 2S vs 3S
+    differ by 0.5 %), and 0 for l >= 2."""
+    out = np.zeros(np.shape(n), dtype=float)
+    for (tn, tl, tj), value in table.items():
+        exact = (n == tn) & (l == tl) & (two_j == tj)
+        out[exact] = value
+        if tn == 2:
+            out[(n > 2) & (l == tl) & (two_j == tj)] = value
+    return out
+
+
+# --------------------------------------------------------------------------------------
+# Validation
+# --------------------------------------------------------------------------------------
+
+
+def _as_int_array(name: str, value) -> np.ndarray:
+    arr = np.asarray(value)
+    if arr.dtype == bool or not (np.issubdtype(arr.dtype, np.integer) or np.issubdtype(arr.dtype, np.floating)):
+        raise QuantumNumberError(f"{name} must be an integer or an array of integers, got {value!r}")
+    if np.issubdtype(arr.dtype, np.floating):
+        if not np.all(np.isfinite(arr)) or np.any(arr != np.round(arr)):
+            raise QuantumNumberError(f"{name} must be integer-valued")
+    return arr.astype(np.int64)
+
+
+def _check_z(z) -> int:
+    try:
+        ok = not isinstance(z, (bool, np.bool_)) and float(z).is_integer()
+    except (TypeError, ValueError):
+        ok = False
+    if not ok:
+        raise QuantumNumberError(f"Z must be an integer, got {z!r}")
+    if not 1 <= int(z) <= 118:
+        raise QuantumNumberError(f"Z must satisfy 1 <= Z <= 118, got {z}")
+    return int(z)
+
+
+def _check_states(n, l, two_j) -> tuple[np.ndarray, np.ndarray, np.ndarray]:
+    try:
+        n_arr, l_arr, j_arr = np.broadcast_arrays(
+            _as_int_array("n", n), _as_int_array("l", l), _as_int_array("two_j", two_j)
+        )
+    except ValueError as exc:
+        if isinstance(exc, QuantumNumberError):
+            raise
+        raise QuantumNumberError(f"n, l and two_j cannot be broadcast together: {exc}") from None
+    if np.any(n_arr < 1):
+        raise QuantumNumberError("n must satisfy n >= 1")
+    if np.any((l_arr < 0) | (l_arr >= n_arr)):
+        raise QuantumNumberError("l must satisfy 0 <= l < n")
+    if np.any(((j_arr != 2 * l_arr + 1) & (j_arr != 2 * l_arr - 1)) | (j_arr < 1)):
+        raise QuantumNumberError("two_j must be 2l-1 or 2l+1 and at least 1")
+    return n_arr, l_arr, j_arr
+
+
+def _check_mass(nuclear_mass_u: float) -> float:
+    try:
+        mass = float(nuclear_mass_u)
+    except (TypeError, ValueError):
+        raise PhysicsInputError(f"nuclear_mass_u must be a number, got {nuclear_mass_u!r}") from None
+    if not (math.isfinite(mass) and mass > 0.0):
+        raise PhysicsInputError(f"nuclear_mass_u must be a positive finite mass in u, got {nuclear_mass_u!r}")
+    return mass
+
+
+def _resolve_radius(z: int, mass: float, radius_fm: float | None) -> float:
+    if radius_fm is None:
+        a = int(round(mass))
+        if a < z:
+            raise PhysicsInputError(
+                f"nuclear mass {mass} u implies a mass number below Z={z}; pass charge_radius_fm explicitly"
+            )
+        return _nuclear.charge_radius_fm(z, a)[0]
+    try:
+        r = float(radius_fm)
+    except (TypeError, ValueError):
+        raise PhysicsInputError(f"charge_radius_fm must be a number, got {radius_fm!r}") from None
+    if not (math.isfinite(r) and r >= 0.0):
+        raise PhysicsInputError(f"charge_radius_fm must be a finite radius >= 0 fm, got {radius_fm!r}")
+    return r
+
+
+# --------------------------------------------------------------------------------------
+# Kernels (units of m_e c^2)
+# --------------------------------------------------------------------------------------
+
+
+def _dirac_terms(x: float, n: np.ndarray, kabs: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
+    """f(n, j) - 1 (computed without cancellation) and gamma = sqrt(kappa^2 - x^2)."""
+    gamma = np.sqrt(kabs * kabs - x * x)
+    delta = x * x / (kabs + gamma)  # |kappa| - gamma
+    t = (x / (n - delta)) ** 2
+    s = np.sqrt(1.0 + t)
+    return -t / (s * (1.0 + s)), gamma
+
+
+def _finite_size_relativistic(
+    x: float, n: np.ndarray, kappa: np.ndarray, kabs: np.ndarray, fm1: np.ndarray, gamma: np.ndarray, radius: float
+) -> np.ndarray:
+    """First-order shift of a uniform sphere of radius ``radius`` (units of the reduced
+    Compton wavelength), point-nucleus Dirac-Coulomb density near the origin."""
+    n_r = n - kabs
+    kmg = x * x / (kabs + gamma)  # |kappa| - gamma
+    big_n = np.sqrt(n * n - 2.0 * n_r * kmg)
+    n_minus_bign = 2.0 * n_r * kmg / (n + big_n)  # n - N >= 0
+    lam = x / big_n
+    # (N - kappa - n_r): equals N - n for kappa > 0, N - n + 2|kappa| for kappa < 0
+    g_coef = np.where(kappa > 0, -n_minus_bign, 2.0 * kabs - n_minus_bign)
+    f_coef = big_n - kappa + n_r
+    bracket = (2.0 + fm1) * g_coef**2 + (-fm1) * f_coef**2
+    two_g = 2.0 * gamma
+    with np.errstate(divide="ignore"):
+        log_d = (
+            (two_g + 1.0) * np.log(2.0 * lam)
+            + gammaln(two_g + n_r + 1.0)
+            - 2.0 * gammaln(two_g + 1.0)
+            - np.log(4.0 * big_n * (big_n - kappa))
+            - gammaln(n_r + 1.0)
+            + np.log(bracket)
+            + two_g * math.log(radius)
+        )
+    first_order = x * np.exp(log_d) * 3.0 / (two_g * (two_g + 1.0) * (two_g + 3.0))
+    return first_order * np.where(kabs == 1.0, _shabaev_ratio(x), 1.0)
+
+
+def _shabaev_ratio(x: float) -> float:
+    """Ratio of Shabaev's 1s finite-size formula to the first-order one, for |kappa| = 1.
+
+    Shabaev (1993): ``ΔE_1s = x^2/10 [1 + x^2 f(x)] (2 x R)^(2γ) m c^2`` with
+    ``f(x) = 1.380 - 0.162 x + 1.612 x^2`` (coefficients from memory). The
+    first-order value is ``x^2/10 g(γ) (2 x R)^(2γ)`` with
+    ``g = 60 / (Γ(2γ+1) 2γ (2γ+1) (2γ+3))``; the ratio corrects for the change of
+    the wavefunction inside the nucleus, which the first-order formula ignores.
+    """
+    gamma = math.sqrt(1.0 - x * x)
+    two_g = 2.0 * gamma
+    g = 60.0 / (math.gamma(two_g + 1.0) * two_g * (two_g + 1.0) * (two_g + 3.0))
+    return (1.0 + x * x * (1.380 - 0.162 * x + 1.612 * x * x)) / g
+
+
+def _contributions(
+    z: int,
+    n: np.ndarray,
+    l: np.ndarray,
+    two_j: np.ndarray,
+    mass_u: float,
+    radius_fm: float,
+    corr: Corrections,
+) -> dict[str, np.ndarray]:
+    """Every contribution to the energy, in units of m_e c^2."""
+    x = z * ALPHA
+    nf = n.astype(float)
+    lf = l.astype(float)
+    kabs = (two_j + 1) / 2.0
+    kappa = np.where(two_j == 2 * l + 1, -kabs, kabs)
+    s_state = (l == 0).astype(float)
+    not_s = 1.0 - s_state
+    p_state = (l == 1).astype(float)
+    n3 = nf**3
+    zero = np.zeros(np.shape(n))
+
+    fm1, gamma = _dirac_terms(x, nf, kabs)
+    out: dict[str, np.ndarray] = {"dirac": fm1}
+
+    if corr.recoil:
+        rho = M_E_U / mass_u  # m_e / m_N
+        mu = 1.0 / (1.0 + rho)  # m_r / m_e
+    else:
+        rho, mu = 0.0, 1.0
+    mu3 = mu**3
+    log_x2 = math.log(x ** -2)  # ln (Zα)^-2
+    log_x2_m = log_x2 - math.log(mu)  # ln[(m_e/m_r) (Zα)^-2]
+    # 1/(kappa (2l+1)) for l > 0 (0 for s states)
+    inv_k2l1 = np.where(l > 0, 1.0 / (kappa * (2.0 * lf + 1.0)), 0.0)
+    harmonic_n = _harmonic(n)  # 1 + 1/2 + ... + 1/n
+    harmonic_nm1 = harmonic_n - 1.0 / nf  # psi(n) + gamma
+    need_bethe = corr.self_energy or (corr.recoil and corr.higher_order)
+    ln_k0 = _bethe_kernel(n, l) if need_bethe else zero
+
+    # ---- recoil: CODATA 2006 eqs. (26)-(29), (35)-(37)
+    if corr.recoil:
+        bg = not_s * inv_k2l1 * x**4 * mu3 * rho**2 / (2.0 * n3)
+        out["recoil"] = fm1 * (mu - 1.0) - fm1**2 * mu**2 * rho / (2.0 * (1.0 + rho)) + bg
+        if corr.higher_order:
+            a_n = np.where(
+                l == 0,
+                -2.0 * (math.log(2.0) - np.log(nf) + harmonic_n + 1.0 - 1.0 / (2.0 * nf)),
+                1.0 / np.maximum(lf * (lf + 1.0) * (2.0 * lf + 1.0), 1.0),
+            )
+            mass_log = (
+                -2.0 / (1.0 - rho**2) * (math.log1p(rho) - rho**2 * math.log1p(1.0 / rho))
+                if rho > 0
+                else 0.0
+            )
+            salpeter = (
+                mu3 * rho * x**5 / (_PI * n3)
+                * (
+                    s_state * log_x2 / 3.0
+                    - 8.0 / 3.0 * ln_k0
+                    - s_state / 9.0
+                    - 7.0 / 3.0 * a_n
+                    + s_state * mass_log
+                )
+            )
+            d60 = np.where(
+                l == 0,
+                4.0 * _LN2 - 3.5,
+                (3.0 - lf * (lf + 1.0) / nf**2) * 2.0 / np.maximum((4.0 * lf**2 - 1.0) * (2.0 * lf + 3.0), 1.0),
+            )
+            d72 = -11.0 / (60.0 * _PI) * s_state
+            higher = rho * x**6 / n3 * (d60 + d72 * x * log_x2**2)
+            radiative_recoil = (
+                mu3 * rho * ALPHA * x**5 / (_PI**2 * n3) * s_state
+                * (
+                    6.0 * _ZETA3
+                    - 2.0 * _PI**2 * _LN2
+                    + 35.0 * _PI**2 / 36.0
+                    - 448.0 / 27.0
+                    + 2.0 / 3.0 * _PI * x * log_x2**2
+                )
+            )
+            nuclear_se = (
+                4.0 * z**2 * ALPHA * x**4 / (3.0 * _PI * n3) * mu3 * rho**2
+                * (s_state * math.log((1.0 + 1.0 / rho) / x**2) - ln_k0)
+                if rho > 0
+                else zero
+            )
+            out["recoil_higher_order"] = salpeter + higher + radiative_recoil + nuclear_se
+
+    scale = ALPHA / _PI * x**4 / n3  # α(Zα)^4 / (π n^3)
+
+    # ---- one-loop self energy: CODATA 2006 eqs. (30)-(34)
+    if corr.self_energy:
+        a41 = 4.0 / 3.0 * s_state
+        a40 = -4.0 / 3.0 * ln_k0 + 10.0 / 9.0 * s_state
+        a40_mag = -0.5 * inv_k2l1
+        a50 = (139.0 / 32.0 - 2.0 * _LN2) * _PI * s_state
+        out["self_energy"] = scale * (mu3 * (a41 * log_x2_m + a40 + a50 * x) + mu**2 * a40_mag)
+        if corr.higher_order:
+            a62 = -s_state
+            a61 = (
+                s_state
+                * (4.0 * harmonic_n + 28.0 / 3.0 * _LN2 - 4.0 * np.log(nf) - 601.0 / 180.0 - 77.0 / (45.0 * nf**2))
+                + p_state * (1.0 - 1.0 / nf**2) * (2.0 / 15.0 + (two_j == 1) / 3.0)
+                + not_s
+                * (96.0 * nf**2 - 32.0 * lf * (lf + 1.0))
+                / np.maximum(
+                    3.0 * nf**2 * (2 * lf - 1) * (2 * lf) * (2 * lf + 1) * (2 * lf + 2) * (2 * lf + 3), 1.0
+                )
+            )
+            g_se = _state_lookup(_GSE_Z1 if z == 1 else _A60, n, l, two_j)
+            out["self_energy_higher_order"] = (
+                scale * mu3 * x**2 * (a62 * log_x2_m**2 + a61 * log_x2_m + g_se)
+            )
+            # two-loop corrections, CODATA 2006 eqs. (48)-(56)
+            b40 = (1.5 * _PI**2 * _LN2 - 10.0 * _PI**2 / 27.0 - 2179.0 / 648.0 - 2.25 * _ZETA3) * s_state
+            b40_mag = (_PI**2 * _LN2 / 2.0 - _PI**2 / 12.0 - 197.0 / 144.0 - 0.75 * _ZETA3) * inv_k2l1
+            b50 = -21.55447 * s_state  # Pachucki 1994; Eides & Shelyuto 1995 (from memory)
+            b63 = -8.0 / 27.0 * s_state
+            b62 = (
+                16.0 / 9.0 * (71.0 / 60.0 - _LN2 + harmonic_nm1 - np.log(nf) - 1.0 / nf + 1.0 / (4.0 * nf**2))
+                * s_state
+                + 4.0 / 27.0 * (nf**2 - 1.0) / nf**2 * p_state
+            )
+            n_s = np.where(n == 1, _N_BETHE[(1, 0)], _N_BETHE[(2, 0)])
+            b61 = s_state * (
+                413581.0 / 64800.0
+                + 4.0 * n_s / 3.0
+                + 2027.0 * _PI**2 / 864.0
+                - 616.0 * _LN2 / 135.0
+                - 2.0 * _PI**2 * _LN2 / 3.0
+                + 40.0 * _LN2**2 / 9.0
+                + _ZETA3
+                + (304.0 / 135.0 - 32.0 * _LN2 / 9.0)
+                * (0.75 + harmonic_nm1 - np.log(nf) - 1.0 / nf + 1.0 / (4.0 * nf**2))
+            ) + p_state * (
+                4.0 / 3.0 * _N_BETHE[(2, 1)] + (nf**2 - 1.0) / nf**2 * (166.0 / 405.0 - 8.0 / 27.0 * _LN2)
+            )
+            f4 = (
+                b40
+                + b50 * x
+                + x**2 * (b63 * log_x2_m**3 + b62 * log_x2_m**2 + b61 * log_x2_m)
+            )
+            out["two_loop"] = (ALPHA / _PI) * scale * (mu3 * f4 + mu**2 * b40_mag)
+
+    # ---- vacuum polarisation: CODATA 2006 eqs. (38)-(47)
+    if corr.vacuum_polarization:
+        v40 = -4.0 / 15.0 * s_state
+        v50 = 5.0 / 48.0 * _PI * s_state
+        out["vacuum_polarization"] = scale * mu3 * (v40 + v50 * x)
+        if corr.higher_order:
+            v61 = -2.0 / 15.0 * s_state
+            v60 = _state_lookup(_V60, n, l, two_j)
+            wichmann_kroll = ((19.0 / 45.0 - _PI**2 / 27.0) * x**2 + (1.0 / 16.0 - 31.0 * _PI**2 / 2880.0) * _PI * x**3) * s_state
+            muon = -4.0 / 15.0 * _ME_OVER_MMU**2 * s_state * (1.0 + _HADRONIC_OVER_MUON_VP)
+            out["vacuum_polarization_higher_order"] = scale * mu3 * (
+                x**2 * (v61 * log_x2_m + v60) + wichmann_kroll + muon
+            )
+
+    # ---- finite nuclear size: CODATA 2006 eqs. (59)-(62) (leading); relativistic form
+    if corr.finite_size and radius_fm > 0.0:
+        r_c = radius_fm * 1e-15 / LAMBDA_C_BAR  # r_rms in units of the reduced Compton wavelength
+        if corr.higher_order:
+            sphere = math.sqrt(5.0 / 3.0) * r_c
+            out["finite_size"] = mu3 * _finite_size_relativistic(x, nf, kappa, kabs, fm1, gamma, sphere)
+        else:
+            out["finite_size"] = 2.0 / 3.0 * mu3 * x**4 / n3 * r_c**2 * s_state
+    if corr.finite_size and corr.higher_order:
+        a = int(round(mass_u))
+        pol = _nuclear.nuclear_polarization_1s_hz(z, a) if a >= z else 0.0
+        if pol:
+            out["nuclear_polarization"] = pol / MEC2_HZ * s_state / n3
+    return out
+
+
+def _harmonic(n: np.ndarray) -> np.ndarray:
+    """1 + 1/2 + ... + 1/n, vectorised."""
+    from scipy.special import digamma
+
+    return digamma(n + 1.0) + _EULER
+
+
+# --------------------------------------------------------------------------------------
+# Public API
+# --------------------------------------------------------------------------------------
+
+
+def level_contributions_hz(
+    z: int,
+    n,
+    l,
+    two_j,
+    *,
+    nuclear_mass_u: float,
+    charge_radius_fm: float | None = None,
+    corrections: Corrections = Corrections(),
+) -> dict[str, np.ndarray]:
+    """Each contribution to the energy of one-electron states, in Hz.
+
+    Parameters are those of :func:`level_energies_hz`.
+
+    Returns
+    -------
+    dict of str to numpy.ndarray
+        Energies over h in Hz, keyed ``"dirac"`` (point nucleus of infinite mass,
+        f(n, j) - 1), ``"recoil"``, ``"recoil_higher_order"``, ``"self_energy"``,
+        ``"self_energy_higher_order"``, ``"two_loop"``, ``"vacuum_polarization"``,
+        ``"vacuum_polarization_higher_order"``, ``"finite_size"``,
+        ``"nuclear_polarization"`` (H and D only); only the switched-on ones are
+        present. Their sum is :func:`level_energies_hz`.
+
+    Raises
+    ------
+    QuantumNumberError, PhysicsInputError
+        As :func:`level_energies_hz`.
+
+    Examples
+    --------
+    >>> c = level_contributions_hz(1, 1, 0, 1, nuclear_mass_u=1.00727646658)
+    >>> round(float(c["self_energy"]) / 1e9, 2)  # GHz; the 1S Lamb shift is 8.17 GHz
+    8.38
+    """
+    z = _check_z(z)
+    n_arr, l_arr, j_arr = _check_states(n, l, two_j)
+    mass = _check_mass(nuclear_mass_u)
+    radius = _resolve_radius(z, mass, charge_radius_fm)
+    terms = _contributions(z, n_arr, l_arr, j_arr, mass, radius, corrections)
+    return {key: value * MEC2_HZ for key, value in terms.items()}
+
+
+def level_energies_hz(
+    z: int,
+    n,
+    l,
+    two_j,
+    *,
+    nuclear_mass_u: float,
+    charge_radius_fm: float | None = None,
+    corrections: Corrections = Corrections(),
+) -> np.ndarray:
+    """Energies of one-electron states relative to the ionization limit, in Hz (E/h).
+
+    Parameters
+    ----------
+    z : int
+        Nuclear charge, 1 <= Z <= 118.
+    n, l, two_j : array_like of int
+        Principal quantum number (n >= 1), orbital angular momentum (0 <= l < n) and
+        twice the total angular momentum (2l - 1 or 2l + 1, at least 1); broadcast
+        together.
+    nuclear_mass_u : float
+        Mass of the bare nucleus in u (atomic mass less Z electrons plus their
+        binding energy; see :func:`levels.physics.nuclear.nuclear_mass_u`).
+    charge_radius_fm : float, optional
+        rms nuclear charge radius in fm; by default the value of
+        :func:`charge_radius_fm` for the mass number ``round(nuclear_mass_u)``.
+    corrections : Corrections, optional
+        Which corrections are applied (all by default).
+
+    Returns
+    -------
+    numpy.ndarray
+        E/h in Hz, negative for bound states, of the broadcast shape.
+
+    Raises
+    ------
+    QuantumNumberError
+        Z outside 1..118, non-integer quantum numbers, n < 1, l outside 0..n-1, or
+        two_j not in {2l-1, 2l+1} or below 1.
+    PhysicsInputError
+        Non-positive nuclear mass or negative charge radius.
+
+    Notes
+    -----
+    With ``x = Zα``, ``μ = m_r/m_e``, ``ρ = m_e/m_N`` and energies in units of
+    ``m_e c^2`` (CODATA 2006, eqs. (26)-(62)):
+
+    * Dirac: ``f(n,j) = [1 + x^2/(n - δ)^2]^(-1/2)``, ``δ = |κ| - sqrt(κ^2 - x^2)``;
+    * recoil: ``(f-1) μ - (f-1)^2 μ^2 ρ/(2(1+ρ)) + (1-δ_l0) x^4 μ^3 ρ^2/(2 n^3 κ(2l+1))``;
+    * self energy: ``α x^4/(π n^3) [μ^3 (A41 L + A40 + A50 x + A62 x^2 L^2 + A61 x^2 L +
+      G_SE x^2) - μ^2 (1-δ_l0)/(2κ(2l+1))]`` with ``L = ln[(Zα)^-2 m_e/m_r]``,
+      ``A41 = 4/3 δ_l0``, ``A40 = -4/3 ln k0(n,l) + 10/9 δ_l0``,
+      ``A50 = (139/32 - 2 ln 2) π δ_l0``, ``A62 = -δ_l0``;
+    * vacuum polarisation: ``α x^4 μ^3/(π n^3) [-4/15 + 5π/48 x - 2/15 x^2 L + V60 x^2] δ_l0``
+      plus Wichmann-Kroll, muon and hadron loops;
+    * finite size (s states, leading): ``2/3 μ^3 x^4/n^3 (r/ƛ_C)^2``; with higher
+      orders: ``μ^3 D_nκ x R^(2γ) 3/(2γ(2γ+1)(2γ+3)) S(x)`` with ``R = sqrt(5/3) r``,
+      ``γ = sqrt(κ^2 - x^2)``, ``D_nκ r^(2γ-2)`` the point-nucleus Dirac-Coulomb
+      density at small r (Berestetskii, Lifshitz & Pitaevskii §36), which reduces to
+      the CODATA expressions for s and p1/2 states at low Z, and ``S(x)`` (for
+      |κ| = 1 only) the ratio of Shabaev's 1s formula to this first-order one; a
+      numerical solution of the Dirac equation for a uniform sphere agrees to
+      0.4 % (2s) and 1.6 % (2p1/2) at Z = 92;
+    * nuclear polarisation of H and D (``nuclear_polarization_1s_hz / n^3``, s states).
+
+    Not included: hyperfine structure (the energies are centroids), nuclear
+    polarisation of nuclei other than H and D, the two-loop B60 and three-loop terms (about 7 kHz and 1.4 kHz in the
+    hydrogen 1S-2S interval), radiative corrections to the finite-size shift
+    (0.2 kHz in hydrogen 1S), and the all-order self-energy remainder beyond A60
+    for Z > 1.
+
+    Examples
+    --------
+    >>> mp = 1.007276466621  # proton mass in u (CODATA 2018, from memory)
+    >>> e = level_energies_hz(1, [1, 2], 0, 1, nuclear_mass_u=mp)
+    >>> round(float(e[1] - e[0]) / 1e3)   # 1S-2S in kHz; measured 2 466 061 413 187 kHz
+    2466061413187
+    """
+    terms = level_contributions_hz(
+        z, n, l, two_j, nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm, corrections=corrections
+    )
+    return sum(terms.values())
+
+
+def level_energies_cm1(
+    z: int,
+    n,
+    l,
+    two_j,
+    *,
+    nuclear_mass_u: float,
+    charge_radius_fm: float | None = None,
+    corrections: Corrections = Corrections(),
+) -> np.ndarray:
+    """Energies of one-electron states relative to the ionization limit, in cm-1.
+
+    Parameters, Raises and Notes are those of :func:`level_energies_hz`.
+
+    Returns
+    -------
+    numpy.ndarray
+        E/(h c) in cm-1, negative for bound states.
+
+    Examples
+    --------
+    >>> e = level_energies_cm1(2, [1, 2, 2], [0, 1, 1], [1, 1, 3], nuclear_mass_u=4.001506179)
+    >>> e.round(2)
+    array([-438908.88, -109726.62, -109721.31])
+    """
+    return (
+        level_energies_hz(
+            z, n, l, two_j, nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm, corrections=corrections
+        )
+        / CM1_HZ
+    )
+
+
+def ionization_energy_hz(
+    z: int,
+    *,
+    nuclear_mass_u: float,
+    charge_radius_fm: float | None = None,
+    corrections: Corrections = Corrections(),
+) -> float:
+    """Ionization energy of the 1s1/2 ground state over h, in Hz (positive).
+
+    Parameters, Raises: see :func:`level_energies_hz`.
+
+    Returns
+    -------
+    float
+        ``-E(1s1/2)/h`` in Hz.
+
+    Examples
+    --------
+    >>> round(ionization_energy_hz(1, nuclear_mass_u=1.00727646662) / 1e15, 6)
+    3.288087
+    """
+    e = level_energies_hz(
+        z, 1, 0, 1, nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm, corrections=corrections
+    )
+    return -float(e)
+
+
+def ionization_energy_cm1(
+    z: int,
+    *,
+    nuclear_mass_u: float,
+    charge_radius_fm: float | None = None,
+    corrections: Corrections = Corrections(),
+) -> float:
+    """Ionization energy of the 1s1/2 ground state, in cm-1 (positive).
+
+    Parameters, Raises: see :func:`level_energies_hz`.
+
+    Returns
+    -------
+    float
+        ``-E(1s1/2)/(h c)`` in cm-1.
+
+    Examples
+    --------
+    >>> round(ionization_energy_cm1(1, nuclear_mass_u=1.00727646662), 3)
+    109678.772
+    """
+    return (
+        ionization_energy_hz(
+            z, nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm, corrections=corrections
+        )
+        / CM1_HZ
+    )
+
+
+def dirac_point_energy(
+    z: int,
+    n,
+    l,
+    two_j,
+    *,
+    unit: Literal["hartree", "mc2", "f"] = "hartree",
+    alpha: float = ALPHA,
+) -> np.ndarray:
+    """Dirac energy of an electron bound to a point nucleus of infinite mass.
+
+    Parameters
+    ----------
+    z : int
+        Nuclear charge, 1 <= Z <= 118.
+    n, l, two_j : array_like of int
+        Quantum numbers as in :func:`level_energies_hz`; broadcast together.
+    unit : {"hartree", "mc2", "f"}
+        ``"hartree"``: binding energy ``(f - 1)/α^2`` in hartree (rest energy
+        excluded); ``"mc2"``: ``f - 1`` in units of m_e c^2; ``"f"``: the
+        dimensionless eigenvalue f(n, j) including the rest energy.
+    alpha : float
+        Fine-structure constant; CODATA by default (other values only for limit
+        checks, e.g. the non-relativistic limit alpha -> 0).
+
+    Returns
+    -------
+    numpy.ndarray
+        The energy in the chosen unit, of the broadcast shape.
+
+    Raises
+    ------
+    QuantumNumberError
+        As :func:`level_energies_hz`.
+    PhysicsInputError
+        If ``alpha`` is not in (0, 1/Z) or ``unit`` is unknown.
+
+    Notes
+    -----
+    ``f(n, j) = [1 + (Zα)^2 / (n - δ)^2]^(-1/2)``, ``δ = j + 1/2 - sqrt((j+1/2)^2 - (Zα)^2)``;
+    ``f - 1`` is evaluated as ``-t / (s (1 + s))`` with ``t = (Zα/(n-δ))^2``,
+    ``s = sqrt(1 + t)`` so that it keeps full precision.
+
+    References
+    ----------
+    Mohr, Taylor & Newell, Rev. Mod. Phys. 80, 633 (2008), eq. (25).
+
+    Examples
+    --------
+    >>> float(dirac_point_energy(1, 1, 0, 1, alpha=1 / 137.035999037))  # sympy's E_nl_dirac(1, 0)
+    -0.5000066565953...
+    >>> dirac_point_energy(1, 2, [0, 1], 1)[0] == dirac_point_energy(1, 2, [0, 1], 1)[1]
+    np.True_
+    """
+    z = _check_z(z)
+    n_arr, l_arr, j_arr = _check_states(n, l, two_j)
+    if not (0.0 < alpha and z * alpha < 1.0):
+        raise PhysicsInputError(f"alpha must satisfy 0 < alpha < 1/Z, got {alpha!r}")
+    kabs = (j_arr + 1) / 2.0
+    fm1, _ = _dirac_terms(z * alpha, n_arr.astype(float), kabs)
+    if unit == "hartree":
+        return fm1 / alpha**2
+    if unit == "mc2":
+        return fm1
+    if unit == "f":
+        return 1.0 + fm1
+    raise PhysicsInputError(f"unit must be 'hartree', 'mc2' or 'f', got {unit!r}")
