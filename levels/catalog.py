@@ -536,6 +536,44 @@ class Catalog:
             candidates.extend(r for r in rows_air if (r["lower_id"], r["upper_id"], r["multipole"]) not in seen)
         return lab.identify(peaks, candidates, tolerance_nm=tolerance_nm, max_candidates=max_candidates)
 
+    def emission(self, spectrum: str, *, te_k: float, ne_m3: float, tgas_k: float = 300.0,
+                 from_nm: float | None = None, to_nm: float | None = None, medium: str = "air",
+                 instrument_fwhm_nm: float = 0.0, path_length_m: float | None = None,
+                 element_density_m3: float | None = None, cutoff_method: str = "debye",
+                 datasets: Sequence[str] | None = None, grid_points: int = 20001):
+        """Relative line intensities, synthetic spectrum and lamp metrics of a discharge (see levels.emission)."""
+        from levels import emission
+
+        emission.check_conditions(te_k, ne_m3, tgas_k)
+        if from_nm is not None and to_nm is not None and from_nm >= to_nm:
+            raise PhysicsInputError(f"empty window: from {from_nm:g} nm is not below to {to_nm:g} nm")
+        if medium not in ("air", "vacuum"):
+            raise PhysicsInputError(f"medium must be 'vacuum' or 'air', not {medium!r}")
+        spec = parse_spectrum(spectrum)
+        rows, info = self.species_lines(LineQuery(spectrum=spectrum, datasets=tuple(datasets) if datasets else None))
+
+        def work(session: Session):
+            species = queries.require_species(session, spec)
+            chosen = queries.visible_datasets(session, datasets)
+            levels = queries.levels_by_precedence(session, species, chosen)
+            limit = queries.ionization_limit(session, species, chosen)
+            next_ion = None
+            if species.charge + 1 < species.z:
+                nxt = queries.find_species(session, Spectrum(species.z, species.charge + 1, species.mass_number))
+                if nxt is not None:
+                    next_ion = queries.levels_by_precedence(session, nxt, chosen)
+            return species, levels, limit, next_ion
+
+        species, levels, limit, next_ion = self.read(work)
+        result = emission.compute_emission(
+            spectrum_name=species.name, z=species.z, charge=species.charge, mass_number=species.mass_number,
+            levels=levels, lines=rows, ionization_cm1=limit.energy_cm1 if limit else None, next_ion_levels=next_ion,
+            te_k=te_k, ne_m3=ne_m3, tgas_k=tgas_k, window=(from_nm, to_nm), medium=medium,
+            instrument_fwhm_nm=instrument_fwhm_nm, path_length_m=path_length_m,
+            element_density_m3=element_density_m3, cutoff_method=cutoff_method, grid_points=grid_points)
+        result.conditions["datasets"] = info["datasets"]
+        return result
+
     def import_level_records(self, records: Sequence[level_io.LevelRecord], *, source: str,
                              sample: str | None = None, kind: str = "measured", citation: str = "",
                              description: str = "",

@@ -419,6 +419,148 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, candid
          headings={"peak_nm": "peak [nm]", "line_nm": "line [nm]", "delta_nm": "Δ [nm]", "a_per_s": "A [s-1]"})
 
 
+@main.command()
+@click.argument("spectrum")
+@click.option("--te", required=True, metavar="TEMPERATURE", help="Electron (excitation) temperature: 1.0eV or 11600K.")
+@click.option("--ne", required=True, metavar="DENSITY", help="Electron density: 1e18m-3 or 1e12cm-3.")
+@click.option("--tgas", default="300K", show_default=True, metavar="TEMPERATURE", help="Gas temperature (Doppler width).")
+@click.option("--from", "from_", metavar="WAVELENGTH", help="Window start (e.g. 380nm).")
+@click.option("--to", metavar="WAVELENGTH", help="Window end (e.g. 780nm).")
+@click.option("--medium", type=click.Choice(["air", "vacuum"]), default="air", show_default=True)
+@click.option("--instrument-fwhm", default="0nm", show_default=True, metavar="WAVELENGTH",
+              help="Gaussian instrument profile FWHM.")
+@click.option("--path-length", metavar="LENGTH", help="Uniform slab thickness for the resonance-line escape factor (e.g. 0.01m).")
+@click.option("--element-density", metavar="DENSITY", help="Density of the element, all charge states (default: ne).")
+@click.option("--cutoff", "cutoff_method", type=click.Choice(["debye", "inglis-teller", "none"]), default="debye",
+              show_default=True, help="Partition-function cutoff.")
+@click.option("--top", type=int, default=15, show_default=True, help="Lines printed in the table.")
+@click.option("--format", "fmt", type=click.Choice(["table", "json", "csv", "ecsv"]), default="table", show_default=True)
+@click.option("--output", type=click.Path(dir_okay=False), help="Write the line list (csv/ecsv/json) to this file.")
+@click.option("--plot", type=click.Path(dir_okay=False), help="Write an interactive spectrum (HTML) to this file.")
+@click.option("--spectrum", "spectrum_file", type=click.Path(dir_okay=False), help="Write the sampled spectrum (CSV).")
+@click.option("--points", type=int, default=20001, show_default=True, help="Points of the sampled spectrum.")
+@click.pass_obj
+@reports_errors
+def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: str | None, to: str | None, medium: str,
+             instrument_fwhm: str, path_length: str | None, element_density: str | None, cutoff_method: str,
+             top: int, fmt: str, output: str | None, plot: str | None, spectrum_file: str | None,
+             points: int) -> None:
+    """Predicted emission of SPECTRUM in a discharge: line intensities, spectrum, colour, UV shares.
+
+    Populations follow Boltzmann at the electron temperature and Saha with the
+    next ion (LTE); lines are optically thin unless --path-length is given.
+    rel_intensity is each line's power relative to the strongest in the window;
+    photon_share its fraction of the photons emitted in the window.
+
+    \b
+    Example:
+      levels emission "H I" --te 1.0eV --ne 1e19m-3 --tgas 600K --from 380nm --to 700nm --plot h.html
+    """
+    from levels.catalog import EMISSION_COLUMNS, LINE_HEADINGS, LINE_UNITS
+    from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
+
+    result = obj.catalog.emission(
+        spectrum, te_k=temperature_k(te), ne_m3=density_m3(ne), tgas_k=temperature_k(tgas),
+        from_nm=_wavelength_option(from_, "--from"), to_nm=_wavelength_option(to, "--to"), medium=medium,
+        instrument_fwhm_nm=wavelength_nm(instrument_fwhm) if instrument_fwhm.strip() not in ("0", "0nm") else 0.0,
+        path_length_m=parse_quantity(path_length, "length") if path_length else None,
+        element_density_m3=density_m3(element_density) if element_density else None, cutoff_method=cutoff_method,
+        grid_points=points)
+    provenance = obj.catalog.provenance(
+        f"emission {spectrum}; te {te}; ne {ne}; tgas {tgas}; window {from_ or '-'}..{to or '-'} {medium}",
+        result.conditions["datasets"], model=result.conditions["model"], cutoff=result.conditions["cutoff"])
+    if result.warnings and any(w.startswith("CAUTION") for w in result.warnings):
+        provenance["caution"] = result.warnings[0]
+    if fmt == "json":
+        payload = result.report()
+        payload["lines"] = [{c: r.get(c) for c in EMISSION_COLUMNS} for r in result.lines]
+        payload["provenance"] = provenance
+        _echo_json(payload, output)
+    elif fmt in ("csv", "ecsv") or output:
+        units = dict(LINE_UNITS)
+        text = format_table(result.lines, EMISSION_COLUMNS, "csv" if fmt == "table" else fmt, provenance, units=units)
+        if output:
+            write_atomic(output, text)
+            click.echo(f"wrote {len(result.lines)} lines to {output}", err=True)
+        else:
+            click.echo(text, nl=False)
+    if fmt == "table":
+        c = result.conditions
+        click.echo(f"{spectrum}: Te {c['te_k']:.0f} K, ne {c['ne_m3']:.3g} m-3, Tgas {c['tgas_k']:.0f} K; "
+                   f"{len(result.lines)} lines with known A in the window")
+        click.echo(f"cutoff: {c['cutoff']}")
+        shown = result.lines[:top]
+        click.echo(format_text_table(shown, ("lower", "upper", "air_nm", "vacuum_nm", "a_per_s", "rel_intensity",
+                                             "photon_share"),
+                                     headings={**LINE_HEADINGS, "rel_intensity": "rel. intensity",
+                                               "photon_share": "photon share"}), nl=False)
+        m = result.metrics
+        cct = "n/a (far from the Planckian locus)" if m["cct_k"] is None else f"{m['cct_k']:.0f} K, Duv {m['duv']:+.4f}"
+        click.echo(f"colour: CIE 1931 x {m['cie_x']:.4f}, y {m['cie_y']:.4f}; CIE 1976 u' {m['cie_u_prime']:.4f}, "
+                   f"v' {m['cie_v_prime']:.4f}; CCT {cct}")
+        click.echo(f"luminous efficacy of radiation {m['efficacy_lm_per_w']:.1f} lm/W; power shares: "
+                   f"UV-C {m['share_uv_c']:.2%}, UV-B {m['share_uv_b']:.2%}, UV-A {m['share_uv_a']:.2%}, "
+                   f"visible {m['share_visible']:.2%}, IR {m['share_ir']:.2%}")
+    if plot:
+        from levels.figures import spectrum_figure, write_html
+
+        title = f"{spectrum} at Te {result.conditions['te_k']:.0f} K, ne {result.conditions['ne_m3']:.2g} m⁻³"
+        write_html(spectrum_figure(result.grid_nm, result.spectrum, result.lines, medium=medium, title=title), plot, title)
+        click.echo(f"wrote the interactive spectrum to {plot}", err=True)
+    if spectrum_file:
+        rows = [{"wavelength_nm": float(x), "spectral_radiance": float(y)} for x, y in zip(result.grid_nm, result.spectrum)]
+        write_atomic(spectrum_file, format_table(rows, ("wavelength_nm", "spectral_radiance"), "csv",
+                                                 {**provenance, "units": "spectral_radiance in W m-3 sr-1 nm-1; "
+                                                                         f"wavelength in {medium}"}))
+        click.echo(f"wrote {len(rows)} spectrum points to {spectrum_file}", err=True)
+    for text in result.warnings:
+        click.echo(("" if text.startswith("CAUTION") else "warning: ") + text, err=True)
+
+
+@main.command()
+@click.option("--n-max", type=int, default=20, show_default=True, help="n-max of the computed one-electron ions.")
+@click.pass_obj
+@reports_errors
+def demo(obj: Context, n_max: int) -> None:
+    """Build the invented demo store and print what to open.
+
+    Computes H I, D I and He II, imports the invented lithium-cell sample
+    (levels and lines) and fits its series limit. All demo data is INVENTED
+    (seed_data/demo/); it describes no real sample or lamp.
+
+    \b
+    Example:
+      levels --db demo.sqlite demo && levels --db demo.sqlite serve
+    """
+    from levels.demo import build_demo
+
+    for line in build_demo(obj.catalog, n_max=n_max):
+        click.echo(line)
+
+
+@main.command()
+@click.option("--host", default="127.0.0.1", show_default=True, help="Address to bind (loopback by default).")
+@click.option("--port", type=int, default=8150, show_default=True)
+@click.option("--threads", type=int, default=4, show_default=True, help="Worker threads of the WSGI server.")
+@click.pass_obj
+@reports_errors
+def serve(obj: Context, host: str, port: int, threads: int) -> None:
+    """Run the web site under a production WSGI server (waitress).
+
+    Binding an address other than loopback needs an API token
+    (LEVELS_API_TOKEN) so writes are protected; it is refused otherwise.
+
+    \b
+    Example:
+      levels --db demo.sqlite serve --port 8150
+    """
+    import webui
+
+    obj.catalog.check_ready()
+    click.echo(f"serving {obj.catalog.display_url} at http://{host}:{port}/ (Ctrl-C stops)")
+    webui.serve(host=host, port=port, threads=threads, db=obj.catalog.url)
+
+
 class _Progress:
     """A click progress bar per stage, shown only on a terminal."""
 

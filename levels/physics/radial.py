@@ -30,18 +30,19 @@ With :math:`a_l = \\sqrt{n^2-l^2}/n` and :math:`b_l = \\sqrt{n'^2-l^2}/n'`,
     P_l = \\frac{(2l+1)\\,a_{l+1} P_{l+1} + b_{l+1} Q_{l+1}}{2(l+1)\\,b_l}, \\qquad
     Q_l = \\frac{a_{l+1} P_{l+1} + (2l+1)\\,b_{l+1} Q_{l+1}}{2(l+1)\\,a_l}.
 
-This is a two-term recurrence downward in ``l`` of the kind Storey & Hummer (1991)
-use (they start from the same Gordon value at ``l = n'``), and running it
-downward is what makes it stable; we derived the coefficients ourselves from the
-factorisation ladder operators of the radial Coulomb Hamiltonian (Infeld & Hull
-1951): with :math:`B_l = d/dr - l/r + 1/l` one has
+This is a two-term recurrence downward in ``l`` of the kind used by Storey &
+Hummer (1991). We derived its coefficients ourselves from the factorisation
+ladder operators of the radial Coulomb Hamiltonian (Infeld & Hull 1951): with
+:math:`B_l = d/dr - l/r + 1/l` one has
 :math:`B_l\\,u_{n,l-1} \\propto \\sqrt{1/l^2 - 1/n^2}\\,u_{n,l}`, the commutator
 :math:`H_l r - r H_{l-1} = -d/dr + l/r` turns the dipole integrals into overlaps
 :math:`\\langle n l | n' l-1\\rangle / (l\\,\\Delta E)`, and eliminating
 :math:`\\langle n l|d/dr|n' l\\rangle` and :math:`\\langle n l|r^{-1}|n' l\\rangle`
-between four ladder identities gives the two lines above. The tests check the
-result against Gordon's closed form evaluated in exact rational arithmetic up to
-``n = 1000`` and against exact integration of :func:`sympy.physics.hydrogen.R_nl`.
+between four ladder identities gives the two lines above. All coefficients and
+all ``P_l, Q_l`` are positive, so no step can cancel: rounding errors only add
+up, a few ulp per step. The tests check the result against Gordon's closed
+form evaluated in exact rational arithmetic up to ``n = 1000`` and against
+exact and numerical integration of :func:`sympy.physics.hydrogen.R_nl`.
 
 The start value is evaluated in logarithms and the recurrence carries a running
 logarithmic scale, so nothing overflows for ``n`` up to (at least) several

@@ -1,0 +1,58 @@
+"""The invented demo store: computed H I, D I, He II and the invented lithium-cell sample.
+
+Everything under ``seed_data/demo/`` is INVENTED for demonstration; none of it
+is a measurement of a real sample, lamp or instrument.
+"""
+
+from __future__ import annotations
+
+import json
+from pathlib import Path
+
+from levels.catalog import Catalog
+from levels.errors import AlreadyExistsError
+
+DEMO_DIR = Path(__file__).resolve().parent.parent / "seed_data" / "demo"
+
+
+def demo_file(name: str) -> Path:
+    """Path of a demo file (the source tree's seed_data/demo)."""
+    path = DEMO_DIR / name
+    if not path.exists():
+        raise FileNotFoundError(f"demo file {name} not found in {DEMO_DIR}; run from a source checkout")
+    return path
+
+
+def build_demo(catalog: Catalog, *, n_max: int = 20) -> list[str]:
+    """Create (or refresh) the demo content in ``catalog``; return what to tell the user."""
+    out = [f"store: {catalog.display_url}", f"schema {catalog.init()}"]
+    for spectrum in ("H I", "D I", "He II"):
+        report = catalog.compute_hydrogenic(spectrum, n_max=n_max)
+        out.append(f"computed {report['spectrum']}: {report['levels']} levels, {report['lines']} E1 lines")
+    lamp = json.loads(demo_file("lamp-hd-calibration.json").read_text(encoding="utf-8"))
+    sample_conditions = {"description": "INVENTED lithium vapour cell of the fictional Brightwater Optics Lab",
+                         "gas_fill": "Li vapour with 50 Pa Ar buffer (invented)", "pressure_pa": 50.0,
+                         "instrument": "fictional echelle, 0.002 nm resolution", "tgas_k": 750.0}
+    try:
+        levels = catalog.import_file(demo_file("sample-li-cell.csv"), sample="li-cell-7", dataset="li-cell-7/levels",
+                                     sample_conditions=sample_conditions)
+        lines = catalog.import_file(demo_file("lines-li-cell.csv"), sample="li-cell-7", dataset="li-cell-7/lines")
+        out.append(f"imported the invented sample li-cell-7: {levels.levels} levels, {lines.lines} measured lines")
+    except AlreadyExistsError:
+        out.append("the invented sample li-cell-7 is already in the store")
+    fit = catalog.fit_limit("Li I", ["ns 2S1/2", "nd 2D5/2"], n_min=4)
+    out.append(f"fitted the Li I series limit: {fit['limit_cm1']:.3f} ± {fit['limit_unc_cm1']:.3f} cm-1")
+    cond = lamp["conditions"]
+    out += [
+        "",
+        "INVENTED demo lamp: " + lamp["name"] + " for the " + lamp["instrument"],
+        "try:",
+        f"  levels emission \"H I\" --te {cond['te']} --ne {cond['ne']} --tgas {cond['tgas']} "
+        f"--from {lamp['window']['from']} --to {lamp['window']['to']} --instrument-fwhm {lamp['instrument_fwhm']} "
+        "--plot hd-lamp.html",
+        "  levels lines \"He II\" --from 460nm --to 480nm",
+        "  levels optimize li-cell-7/lines",
+        "  levels identify \"Li I\" seed_data/demo/peaks-li-cell.csv --tolerance 0.003nm",
+        "  levels serve        (then open http://127.0.0.1:8150/)",
+    ]
+    return out
