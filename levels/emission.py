@@ -86,8 +86,9 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
     cutoff = plasma.plasma_cutoff(te_k, ne_m3, charge + 1, method=cutoff_method)
     energy = np.array([lv.energy_cm1 for lv in levels])
     g = np.array([lv.g for lv in levels], dtype=float)
-    u_species, included = plasma.partition_function(energy, g, te_k, ionization_cm1=ionization_cm1,
-                                                    lowering_cm1=cutoff.lowering_cm1)
+    u_species, included = plasma.partition_function(
+        energy, g, te_k, ionization_cm1=ionization_cm1,
+        lowering_cm1=cutoff.lowering_cm1 if ionization_cm1 is not None else 0.0)
     if ionization_cm1 is None:
         warnings.append(f"{spectrum_name} has no stored ionization energy: no level was cut from the partition "
                         "function and the Saha balance is left out (all of the element taken as this species)")

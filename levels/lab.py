@@ -227,43 +227,50 @@ def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict],
     """Match peaks to lines; rank candidates by distance and expected strength.
 
     ``candidates`` are line rows (LINE_COLUMNS). A peak is compared in its own
-    medium. A line is a candidate when within ``max(tolerance, 3 * peak unc)``;
-    candidates are ranked by |delta| over the window, less a strength bonus
-    log10(g_u A) normalised over the candidates when rates exist. A peak with
-    no candidate is ``unmatched``; with several within the peak's own
-    uncertainty (or tolerance), ``ambiguous``.
+    medium. A line is a candidate when |delta| <= max(tolerance, 3 u), with u
+    the peak's and the line's (Ritz) uncertainties added in quadrature.
+    Candidates are ranked by |delta| / window, plus a penalty of 0.1 per decade
+    of expected strength (g_u A) below the strongest candidate when rates
+    exist. A peak with no candidate is ``unmatched``; one with several
+    candidates inside its own window, ``ambiguous``.
     """
     if not tolerance_nm > 0:
         raise PhysicsInputError("tolerance must be a positive wavelength")
     vacuum = np.array([r["vacuum_nm"] for r in candidates], dtype=float)
     air_nm = np.array([r["air_nm"] if r["air_nm"] is not None else r["vacuum_nm"] for r in candidates], dtype=float)
+    line_unc = np.array([r["unc_nm"] or 0.0 for r in candidates], dtype=float)
     order_v, order_a = np.argsort(vacuum), np.argsort(air_nm)
+    widest = float(line_unc.max()) if line_unc.size else 0.0
     out = []
     for peak in peaks:
         values, order = (air_nm, order_a) if peak.medium == "air" and peak.peak_nm > 200 else (vacuum, order_v)
-        window = max(tolerance_nm, 3 * peak.unc_nm) if peak.unc_nm else tolerance_nm
+        u_peak = peak.unc_nm or 0.0
+        reach = max(tolerance_nm, 3 * (u_peak + widest))
         sorted_values = values[order]
-        lo = np.searchsorted(sorted_values, peak.peak_nm - window, "left")
-        hi = np.searchsorted(sorted_values, peak.peak_nm + window, "right")
+        lo = np.searchsorted(sorted_values, peak.peak_nm - reach, "left")
+        hi = np.searchsorted(sorted_values, peak.peak_nm + reach, "right")
         hits = order[lo:hi]
+        delta = values[hits] - peak.peak_nm
+        window = np.maximum(tolerance_nm, 3 * np.hypot(u_peak, line_unc[hits]))
+        inside = np.abs(delta) <= window
+        hits, delta, window = hits[inside], delta[inside], window[inside]
         if hits.size == 0:
             out.append({"peak_nm": peak.peak_nm, "medium": peak.medium, "rank": None, "spectrum": None,
                         "lower": None, "upper": None, "line_nm": None, "delta_nm": None, "a_per_s": None,
                         "note": "unmatched"})
             continue
-        delta = values[hits] - peak.peak_nm
         strength = np.array([math.log10(candidates[i]["a_per_s"] * candidates[i]["g_upper"])
                              if candidates[i]["a_per_s"] else np.nan for i in hits])
         score = np.abs(delta) / window
         if np.isfinite(strength).any():
             top = np.nanmax(strength)
             score = score + 0.1 * np.where(np.isfinite(strength), np.clip(top - strength, 0, 10), 10)
-        ranked = hits[np.argsort(score, kind="stable")][:max_candidates]
-        close = int((np.abs(delta) <= (peak.unc_nm or tolerance_nm)).sum())
-        note = "ambiguous" if close > 1 else ""
-        for rank, i in enumerate(ranked, start=1):
+        ranked = np.argsort(score, kind="stable")[:max_candidates]
+        note = "ambiguous" if hits.size > 1 else ""
+        for rank, k in enumerate(ranked, start=1):
+            i = hits[k]
             row = candidates[i]
             out.append({"peak_nm": peak.peak_nm, "medium": peak.medium, "rank": rank, "spectrum": row["spectrum"],
                         "lower": row["lower"], "upper": row["upper"], "line_nm": float(values[i]),
-                        "delta_nm": float(values[i] - peak.peak_nm), "a_per_s": row["a_per_s"], "note": note})
+                        "delta_nm": float(delta[k]), "a_per_s": row["a_per_s"], "note": note})
     return out

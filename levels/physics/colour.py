@@ -17,7 +17,7 @@ Method choices
   colour-matching function linearly interpolated onto the grid (zero outside
   360-830 nm, where the CIE tables end).
 * CCT is the temperature of the closest point of the Planckian locus in the
-  CIE 1960 (u, v) diagram (the definition of CIE 15:2004, sec. 9.5), found by
+  CIE 1960 (u, v) diagram (the definition of CIE 15:2004), found by
   a table search over 1000-100 000 K followed by bounded Brent minimisation of
   the distance (converged to 1e-7 relative); the locus is computed from
   Planck's law (second radiation constant h c / k from CODATA, refractive
@@ -57,6 +57,7 @@ from typing import NamedTuple
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
+from scipy.integrate import trapezoid
 from scipy.optimize import minimize_scalar
 
 from levels import units
@@ -92,7 +93,7 @@ BANDS_NM: dict[str, tuple[float, float]] = {
 
 _CMF_NAME = "CIE 1931 2 Degree Standard Observer"
 _V_NAME = "CIE 1924 Photopic Standard Observer"
-#: |Duv| above which the CCT is not reported (CIE 15:2004, sec. 9.5)
+#: |Duv| above which the CCT is not reported (CIE 15:2004)
 _DUV_LIMIT = 0.05
 _CCT_RANGE_K = (1000.0, 100_000.0)
 #: second radiation constant h c / k, m K
@@ -247,7 +248,7 @@ def tristimulus(grid_nm: ArrayLike, spectral_power: ArrayLike) -> NDArray[np.flo
 
     References
     ----------
-    CIE 15:2004, sec. 7.
+    CIE 15:2004.
 
     Examples
     --------
@@ -257,17 +258,27 @@ def tristimulus(grid_nm: ArrayLike, spectral_power: ArrayLike) -> NDArray[np.flo
     """
     grid, s = _spectrum(grid_nm, spectral_power)
     f = _cmf_at(grid)[:3]
-    return np.trapezoid(f * s[None, :], grid, axis=1)
+    return trapezoid(f * s[None, :], grid, axis=1)
 
 
 def xy_to_uv_prime(x: float, y: float) -> tuple[float, float]:
     """CIE 1976 UCS (u', v') from CIE 1931 (x, y).
 
+    Parameters
+    ----------
+    x, y : float
+        CIE 1931 chromaticity (dimensionless).
+
+    Returns
+    -------
+    (float, float)
+        u', v' (dimensionless).
+
     Notes
     -----
     .. math:: u' = \\frac{4x}{-2x + 12y + 3}, \\qquad v' = \\frac{9y}{-2x + 12y + 3}
 
-    (CIE 15:2004, eq. 8.2). The CIE 1960 (u, v) of the CCT definition is u = u', v = 2v'/3.
+    (CIE 15:2004). The CIE 1960 (u, v) of the CCT definition is u = u', v = 2v'/3.
 
     Examples
     --------
@@ -315,7 +326,7 @@ def chromaticity(grid_nm: ArrayLike, spectral_power: ArrayLike) -> Chromaticity:
 
     References
     ----------
-    CIE 15:2004, sec. 7 and 8.
+    CIE 15:2004.
 
     Examples
     --------
@@ -339,7 +350,7 @@ def _planck_uv(temperature_k: NDArray[np.float64]) -> tuple[NDArray[np.float64],
     temp = np.atleast_1d(np.asarray(temperature_k, dtype=float))
     radiance = lam[None, :] ** -5 / np.expm1(_C2_M_K / (lam[None, :] * temp[:, None]))
     radiance /= radiance.max(axis=1, keepdims=True)
-    xyz = np.stack([np.trapezoid(radiance * f[None, :], t.wavelength_nm, axis=1) for f in (t.xbar, t.ybar, t.zbar)])
+    xyz = np.stack([trapezoid(radiance * f[None, :], t.wavelength_nm, axis=1) for f in (t.xbar, t.ybar, t.zbar)])
     d = xyz[0] + 15.0 * xyz[1] + 3.0 * xyz[2]
     return 4.0 * xyz[0] / d, 6.0 * xyz[1] / d
 
@@ -380,12 +391,12 @@ def cct_duv(u: float, v: float) -> tuple[float | None, float | None]:
     .. math:: d(T) = \\sqrt{(u - u_P(T))^2 + (v - v_P(T))^2}
 
     over the Planckian locus (u_P, v_P) of Planck's law with c2 = h c / k and the CIE 1931
-    CMFs (CIE 15:2004, sec. 9.5). A 600-point geometric table over 1000-100 000 K brackets
+    CMFs (CIE 15:2004). A 600-point geometric table over 1000-100 000 K brackets
     the minimum, bounded Brent minimisation refines it. Duv = sign(v - v_P) d (Ohno 2014).
 
     References
     ----------
-    CIE 15:2004, *Colorimetry*, sec. 9.5; Y. Ohno, LEUKOS 10, 47 (2014).
+    CIE 15:2004, *Colorimetry*; Y. Ohno, LEUKOS 10, 47 (2014).
 
     Examples
     --------
@@ -466,11 +477,11 @@ def luminous_efficacy(grid_nm: ArrayLike, spectral_power: ArrayLike) -> float:
     155.3
     """
     grid, s = _spectrum(grid_nm, spectral_power)
-    total = float(np.trapezoid(s, grid))
+    total = float(trapezoid(s, grid))
     if not total > 0:
         raise PhysicsInputError("the spectrum has no power (its integral is 0)")
     v = _cmf_at(grid)[3]
-    return K_M_LM_PER_W * float(np.trapezoid(s * v, grid)) / total
+    return K_M_LM_PER_W * float(trapezoid(s * v, grid)) / total
 
 
 def band_shares(grid_nm: ArrayLike, spectral_power: ArrayLike) -> dict[str, float]:

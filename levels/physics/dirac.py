@@ -9,7 +9,9 @@ nuclear mass m_N is assembled as in the CODATA adjustments (Mohr, Taylor & Newel
 * recoil: the reduced mass, the Barker-Glover term and the (Zα)^5 Salpeter
   relativistic recoil, higher-order recoil, radiative recoil and the nuclear self
   energy;
-* the one-loop self energy to order α(Zα)^6 with Bethe logarithms;
+* the one-loop self energy to order α(Zα)^6 with Bethe logarithms, and for s
+  states the all-order remainder G_SE(Zα) interpolated between all-order 1s
+  values (Z = 1, 10, 20, 30, 92);
 * vacuum polarisation (Uehling to α(Zα)^6, Wichmann-Kroll, muon and hadron loops);
 * two-loop corrections B40, B50, B6k;
 * the finite size of the nucleus, to first order in the difference between the
@@ -25,14 +27,17 @@ written down from memory, rather than read from the paper in hand, says so
 beside it; the tests check the resulting energies against measurements and
 reference values.
 
-Validity: the QED terms are the first terms of the expansion in Zα. They are
-accurate for light ions (the tests check hydrogen to the kHz level, and He+ to
-Ne9+ to better than 1e-6); the truncation error of the self energy grows with Z
-(about 5 % of the self energy at Z = 20, 20 % at Z = 30) and above Z ≈ 40 the
-expansion no longer describes the self energy at all. At Z = 92 the error of the
-1s binding energy is then of order 1 keV (1e-2 of the binding energy). The
-Dirac, recoil, vacuum-polarisation and finite-size parts stay valid at high Z to
-within a few per cent of their own size.
+Accuracy (tests): hydrogen 1S-2S to 5 kHz (2e-15), the 2S-2P1/2 Lamb shift to
+4 kHz, the H-D isotope shift to 14 kHz; ionization energies of the one-electron
+ions of He, Li, C, O, Ne to 3e-8 or better, Ar to 1e-7, Fe to 4e-6 and U to 1e-5
+of reference values (for U errors of several eV in single terms partly cancel). The terms taken to finite order in Zα (Uehling beyond
+(Zα)^6, two-loop beyond B61, the self-energy remainder of p and d states) limit
+high-Z accuracy: at Z = 92 the Uehling expansion is 8 eV (1s), 3.5 eV (2s) and
+2 eV (2p1/2) off its all-order value and the two-loop expansion a few eV, of a
+1s binding energy of 132 keV.
+Excited s states take the 1s all-order remainder shift (exact to a few per cent
+of it at Z = 1); p states keep the Zα -> 0 constant A60, so their self energy is
+only good to order (Zα)^7 (tens of per cent of the p1/2 self energy at Z = 92).
 
 References
 ----------
@@ -50,7 +55,12 @@ V. B. Berestetskii, E. M. Lifshitz and L. P. Pitaevskii, "Quantum
 Electrodynamics", 2nd ed. (Pergamon, 1982), §36 (Dirac-Coulomb wavefunctions).
 
 V. M. Shabaev, "Finite nuclear size corrections to the energy levels of the
-multicharged ions", J. Phys. B 26, 1103-1108 (1993) (the leading term used here).
+multicharged ions", J. Phys. B 26, 1103-1108 (1993).
+
+P. J. Mohr, "Self-energy correction to one-electron energy levels in a strong
+Coulomb field", Phys. Rev. A 46, 4421-4424 (1992); U. D. Jentschura, P. J. Mohr and
+G. Soff, "Calculation of the electron self-energy for low nuclear charge", Phys.
+Rev. Lett. 82, 53-56 (1999) (all-order 1s self energy).
 """
 
 from __future__ import annotations
@@ -61,7 +71,7 @@ from typing import Literal
 
 import numpy as np
 import scipy.constants as sc
-from scipy.special import gammaln
+from scipy.special import digamma, gammaln
 
 from levels.errors import PhysicsInputError, QuantumNumberError
 from levels.physics import nuclear as _nuclear
@@ -107,7 +117,7 @@ class Corrections:
         recoil and the nuclear self energy). Off means an infinitely heavy nucleus.
     self_energy : bool
         One-loop self energy, A41, A40 and A50 (with ``higher_order`` also A62,
-        A61, A60 and the two-loop B coefficients).
+        A61, the remainder G_SE and the two-loop B coefficients).
     vacuum_polarization : bool
         Uehling term, V40 and V50 (with ``higher_order`` also V61, V60,
         Wichmann-Kroll and the muon and hadron loops).
@@ -293,6 +303,63 @@ _GSE_Z1 = {
     (2, 1, 1): -0.9735,
     (2, 1, 3): -0.4865,
 }
+#: F(Zα) of the 1s state for a point nucleus, the all-order one-loop self-energy
+#: function (E_SE = α/π (Zα)^4 F m_e c^2): Z = 1, 10, 20, 30 from Mohr's all-order
+#: calculations (Mohr 1992, Phys. Rev. A 46, 4421; Jentschura, Mohr & Soff 1999 for
+#: Z = 1), values from memory; Z = 92 derived from the 355.0 eV self energy of the
+#: U91+ ground state (Mohr, Plunien & Soff 1998, Phys. Rep. 293, 227; from memory;
+#: that value includes the finite nuclear size, about 1 % of it).
+_F_1S_ALL_ORDER = {1: 10.316793650, 10: 4.6541619, 20: 3.2462553, 30: 2.500759, 92: 355.0}
+
+
+def _g_1s_nodes() -> tuple[np.ndarray, np.ndarray]:
+    """G_SE(1s, Zα) - A60(1s) at the nodes of ``_F_1S_ALL_ORDER`` (0 at Z = 0)."""
+    zs, dg = [0.0], [0.0]
+    for z, f in _F_1S_ALL_ORDER.items():
+        x = z * ALPHA
+        if z == 92:  # given as an energy in eV
+            f = f / (ALPHA / _PI * x**4 * MEC2_HZ * sc.h / sc.e)
+        big_l = math.log(x**-2)
+        a61 = 4.0 + 28.0 / 3.0 * _LN2 - 601.0 / 180.0 - 77.0 / 45.0
+        rest = (
+            4.0 / 3.0 * big_l
+            - 4.0 / 3.0 * _BETHE_TABLE[1][0]
+            + 10.0 / 9.0
+            + (139.0 / 32.0 - 2.0 * _LN2) * _PI * x
+            - x**2 * big_l**2
+            + a61 * x**2 * big_l
+        )
+        zs.append(float(z))
+        dg.append((f - rest) / x**2 - _A60[(1, 0, 1)])
+    return np.array(zs), np.array(dg)
+
+
+_DG_Z, _DG_1S = _g_1s_nodes()
+
+
+def _self_energy_remainder_shift(z: int) -> float:
+    """G_SE(1s, Zα) - A60(1s): linear in Z between the nodes, extrapolated linearly
+    beyond Z = 92 (common practice, no source)."""
+    if z <= _DG_Z[-1]:
+        return float(np.interp(z, _DG_Z, _DG_1S))
+    slope = (_DG_1S[-1] - _DG_1S[-2]) / (_DG_Z[-1] - _DG_Z[-2])
+    return float(_DG_1S[-1] + slope * (z - _DG_Z[-1]))
+
+
+def _g_se(z: int, n: np.ndarray, l: np.ndarray, two_j: np.ndarray) -> np.ndarray:
+    """G_SE(Zα), the self-energy remainder multiplying (Zα)^2 in F(Zα).
+
+    Z = 1: the CODATA values at Z = 1. Otherwise A60 plus, for s states, the shift
+    G_SE(1s, Zα) - A60(1s) of the 1s state (at Z = 1 this shift is 0.634 for 1S and
+    0.655 for 2S, so taking the 1s shift for every ns state is good to a few per
+    cent of the shift). p and higher states keep A60 (their remainder at Z = 1 is
+    0.03 or less).
+    """
+    if z == 1:
+        return _state_lookup(_GSE_Z1, n, l, two_j)
+    return _state_lookup(_A60, n, l, two_j) + (l == 0) * _self_energy_remainder_shift(z)
+
+
 #: V60 = G_VP^(1)(0), the Uehling (Zα)^6 constant (CODATA 2006; values from memory)
 _V60 = {
     (1, 0, 1): -0.618724,
@@ -306,8 +373,8 @@ _N_BETHE = {(1, 0): 17.85567203, (2, 0): 12.03214158, (2, 1): 0.003300635}
 
 def _state_lookup(table: dict, n: np.ndarray, l: np.ndarray, two_j: np.ndarray) -> np.ndarray:
     """Value of ``table`` for each state; states not in it take the n = 2 value of the
-    same (l, j) for l <= 1 (the n-dependence of these constants is weak: 2S vs 3S
-    differ by 0.5 %), and 0 for l >= 2."""
+    same (l, j) for l <= 1 (an approximation: from n = 2 on these constants change
+    little with n), and 0 for l >= 2 (where they are a few hundredths at most)."""
     out = np.zeros(np.shape(n), dtype=float)
     for (tn, tl, tj), value in table.items():
         exact = (n == tn) & (l == tl) & (two_j == tj)
@@ -456,17 +523,20 @@ def _contributions(
     radius_fm: float,
     corr: Corrections,
 ) -> dict[str, np.ndarray]:
-    """Every contribution to the energy, in units of m_e c^2."""
+    """Every contribution to the energy, in units of m_e c^2 (arrays of n's shape)."""
+    shape = np.shape(n)
+    n, l, two_j = n.ravel(), l.ravel(), two_j.ravel()
     x = z * ALPHA
     nf = n.astype(float)
     lf = l.astype(float)
-    kabs = (two_j + 1) / 2.0
+    kabs = (two_j + 1) * 0.5
     kappa = np.where(two_j == 2 * l + 1, -kabs, kabs)
-    s_state = (l == 0).astype(float)
-    not_s = 1.0 - s_state
-    p_state = (l == 1).astype(float)
-    n3 = nf**3
-    zero = np.zeros(np.shape(n))
+    inv_n3 = nf**-3
+    # states of each kind, as index arrays: s-only and p-only terms are evaluated on them
+    i_s = np.flatnonzero(l == 0)
+    i_p = np.flatnonzero(l == 1)
+    i_l = np.flatnonzero(l <= 1)
+    ns = nf[i_s]
 
     fm1, gamma = _dirac_terms(x, nf, kabs)
     out: dict[str, np.ndarray] = {"dirac": fm1}
@@ -477,155 +547,139 @@ def _contributions(
     else:
         rho, mu = 0.0, 1.0
     mu3 = mu**3
-    log_x2 = math.log(x ** -2)  # ln (Zα)^-2
+    log_x2 = math.log(x**-2)  # ln (Zα)^-2
     log_x2_m = log_x2 - math.log(mu)  # ln[(m_e/m_r) (Zα)^-2]
-    # 1/(kappa (2l+1)) for l > 0 (0 for s states)
-    inv_k2l1 = np.where(l > 0, 1.0 / (kappa * (2.0 * lf + 1.0)), 0.0)
-    harmonic_n = _harmonic(n)  # 1 + 1/2 + ... + 1/n
-    harmonic_nm1 = harmonic_n - 1.0 / nf  # psi(n) + gamma
+    # 1/(kappa (2l+1)), zero for s states
+    with np.errstate(divide="ignore"):
+        inv_k2l1 = np.where(l > 0, 1.0 / (kappa * (2.0 * lf + 1.0)), 0.0)
+    harmonic_s = _harmonic(ns)  # 1 + 1/2 + ... + 1/n for the s states
     need_bethe = corr.self_energy or (corr.recoil and corr.higher_order)
-    ln_k0 = _bethe_kernel(n, l) if need_bethe else zero
+    ln_k0 = _bethe_kernel(n, l) if need_bethe else None
+    scale = (ALPHA / _PI * x**4) * inv_n3  # α(Zα)^4 / (π n^3)
 
     # ---- recoil: CODATA 2006 eqs. (26)-(29), (35)-(37)
     if corr.recoil:
-        bg = not_s * inv_k2l1 * x**4 * mu3 * rho**2 / (2.0 * n3)
-        out["recoil"] = fm1 * (mu - 1.0) - fm1**2 * mu**2 * rho / (2.0 * (1.0 + rho)) + bg
+        bg = inv_k2l1 * (x**4 * mu3 * rho**2 / 2.0) * inv_n3
+        out["recoil"] = fm1 * (mu - 1.0) - fm1**2 * (mu**2 * rho / (2.0 * (1.0 + rho))) + bg
         if corr.higher_order:
-            a_n = np.where(
-                l == 0,
-                -2.0 * (math.log(2.0) - np.log(nf) + harmonic_n + 1.0 - 1.0 / (2.0 * nf)),
-                1.0 / np.maximum(lf * (lf + 1.0) * (2.0 * lf + 1.0), 1.0),
+            lpos = np.maximum(lf, 1.0)
+            # l >= 1 parts (zeroed for s states below and replaced by the s-state terms)
+            a_n = 1.0 / (lpos * (lpos + 1.0) * (2.0 * lpos + 1.0))
+            d60 = (3.0 - lf * (lf + 1.0) / nf**2) * 2.0 / ((4.0 * lpos**2 - 1.0) * (2.0 * lpos + 3.0))
+            salpeter = (mu3 * rho * x**5 / _PI) * inv_n3 * (-8.0 / 3.0 * ln_k0 - 7.0 / 3.0 * a_n)
+            higher = (rho * x**6) * inv_n3 * d60
+            nuclear_se = (
+                (4.0 * z**2 * ALPHA * x**4 / (3.0 * _PI) * mu3 * rho**2) * inv_n3 * (-ln_k0) if rho > 0 else 0.0 * fm1
             )
+            total = salpeter + higher + nuclear_se
+            # s states: replace the l >= 1 a_n and D60 by their s forms, add the s-only terms
+            a_n_s = -2.0 * (_LN2 - np.log(ns) + harmonic_s + 1.0 - 1.0 / (2.0 * ns))
             mass_log = (
-                -2.0 / (1.0 - rho**2) * (math.log1p(rho) - rho**2 * math.log1p(1.0 / rho))
-                if rho > 0
-                else 0.0
+                -2.0 / (1.0 - rho**2) * (math.log1p(rho) - rho**2 * math.log1p(1.0 / rho)) if rho > 0 else 0.0
             )
-            salpeter = (
-                mu3 * rho * x**5 / (_PI * n3)
+            inv_s3 = inv_n3[i_s]
+            total[i_s] = (
+                (mu3 * rho * x**5 / _PI) * inv_s3
+                * (log_x2 / 3.0 - 8.0 / 3.0 * ln_k0[i_s] - 1.0 / 9.0 - 7.0 / 3.0 * a_n_s + mass_log)
+                + (rho * x**6) * inv_s3 * (4.0 * _LN2 - 3.5 - 11.0 / (60.0 * _PI) * x * log_x2**2)
+                + (mu3 * rho * ALPHA * x**5 / _PI**2) * inv_s3
                 * (
-                    s_state * log_x2 / 3.0
-                    - 8.0 / 3.0 * ln_k0
-                    - s_state / 9.0
-                    - 7.0 / 3.0 * a_n
-                    + s_state * mass_log
-                )
-            )
-            d60 = np.where(
-                l == 0,
-                4.0 * _LN2 - 3.5,
-                (3.0 - lf * (lf + 1.0) / nf**2) * 2.0 / np.maximum((4.0 * lf**2 - 1.0) * (2.0 * lf + 3.0), 1.0),
-            )
-            d72 = -11.0 / (60.0 * _PI) * s_state
-            higher = rho * x**6 / n3 * (d60 + d72 * x * log_x2**2)
-            radiative_recoil = (
-                mu3 * rho * ALPHA * x**5 / (_PI**2 * n3) * s_state
-                * (
-                    6.0 * _ZETA3
-                    - 2.0 * _PI**2 * _LN2
-                    + 35.0 * _PI**2 / 36.0
-                    - 448.0 / 27.0
+                    6.0 * _ZETA3 - 2.0 * _PI**2 * _LN2 + 35.0 * _PI**2 / 36.0 - 448.0 / 27.0
                     + 2.0 / 3.0 * _PI * x * log_x2**2
                 )
+                + (
+                    (4.0 * z**2 * ALPHA * x**4 / (3.0 * _PI) * mu3 * rho**2) * inv_s3
+                    * (math.log((1.0 + 1.0 / rho) / x**2) - ln_k0[i_s])
+                    if rho > 0
+                    else 0.0
+                )
             )
-            nuclear_se = (
-                4.0 * z**2 * ALPHA * x**4 / (3.0 * _PI * n3) * mu3 * rho**2
-                * (s_state * math.log((1.0 + 1.0 / rho) / x**2) - ln_k0)
-                if rho > 0
-                else zero
-            )
-            out["recoil_higher_order"] = salpeter + higher + radiative_recoil + nuclear_se
-
-    scale = ALPHA / _PI * x**4 / n3  # α(Zα)^4 / (π n^3)
+            out["recoil_higher_order"] = total
 
     # ---- one-loop self energy: CODATA 2006 eqs. (30)-(34)
     if corr.self_energy:
-        a41 = 4.0 / 3.0 * s_state
-        a40 = -4.0 / 3.0 * ln_k0 + 10.0 / 9.0 * s_state
-        a40_mag = -0.5 * inv_k2l1
-        a50 = (139.0 / 32.0 - 2.0 * _LN2) * _PI * s_state
-        out["self_energy"] = scale * (mu3 * (a41 * log_x2_m + a40 + a50 * x) + mu**2 * a40_mag)
+        # A40 = -4/3 ln k0 (+ 10/9 for s); magnetic-moment term -1/(2 kappa (2l+1)) with mu^2
+        se = scale * (mu3 * (-4.0 / 3.0) * ln_k0 + mu**2 * (-0.5) * inv_k2l1)
+        a50 = (139.0 / 32.0 - 2.0 * _LN2) * _PI
+        se[i_s] += scale[i_s] * mu3 * (4.0 / 3.0 * log_x2_m + 10.0 / 9.0 + a50 * x)
+        out["self_energy"] = se
         if corr.higher_order:
-            a62 = -s_state
-            a61 = (
-                s_state
-                * (4.0 * harmonic_n + 28.0 / 3.0 * _LN2 - 4.0 * np.log(nf) - 601.0 / 180.0 - 77.0 / (45.0 * nf**2))
-                + p_state * (1.0 - 1.0 / nf**2) * (2.0 / 15.0 + (two_j == 1) / 3.0)
-                + not_s
-                * (96.0 * nf**2 - 32.0 * lf * (lf + 1.0))
-                / np.maximum(
-                    3.0 * nf**2 * (2 * lf - 1) * (2 * lf) * (2 * lf + 1) * (2 * lf + 2) * (2 * lf + 3), 1.0
-                )
+            lpos = np.maximum(lf, 1.0)
+            a61 = (96.0 * nf**2 - 32.0 * lf * (lf + 1.0)) / (
+                3.0 * nf**2 * (2 * lpos - 1) * (2 * lpos) * (2 * lpos + 1) * (2 * lpos + 2) * (2 * lpos + 3)
             )
-            g_se = _state_lookup(_GSE_Z1 if z == 1 else _A60, n, l, two_j)
-            out["self_energy_higher_order"] = (
-                scale * mu3 * x**2 * (a62 * log_x2_m**2 + a61 * log_x2_m + g_se)
+            a61[i_s] = (
+                4.0 * harmonic_s + 28.0 / 3.0 * _LN2 - 4.0 * np.log(ns) - 601.0 / 180.0 - 77.0 / (45.0 * ns**2)
             )
-            # two-loop corrections, CODATA 2006 eqs. (48)-(56)
-            b40 = (1.5 * _PI**2 * _LN2 - 10.0 * _PI**2 / 27.0 - 2179.0 / 648.0 - 2.25 * _ZETA3) * s_state
+            np_ = nf[i_p]
+            a61[i_p] += (1.0 - 1.0 / np_**2) * (2.0 / 15.0 + (two_j[i_p] == 1) / 3.0)
+            coef = a61 * log_x2_m
+            coef[i_s] -= log_x2_m**2  # A62 = -1 for s states
+            coef[i_l] += _g_se(z, n[i_l], l[i_l], two_j[i_l])
+            out["self_energy_higher_order"] = scale * (mu3 * x**2) * coef
+            # two-loop corrections, CODATA 2006 eqs. (48)-(56); only l <= 1 beyond B40
             b40_mag = (_PI**2 * _LN2 / 2.0 - _PI**2 / 12.0 - 197.0 / 144.0 - 0.75 * _ZETA3) * inv_k2l1
-            b50 = -21.55447 * s_state  # Pachucki 1994; Eides & Shelyuto 1995 (from memory)
-            b63 = -8.0 / 27.0 * s_state
-            b62 = (
-                16.0 / 9.0 * (71.0 / 60.0 - _LN2 + harmonic_nm1 - np.log(nf) - 1.0 / nf + 1.0 / (4.0 * nf**2))
-                * s_state
-                + 4.0 / 27.0 * (nf**2 - 1.0) / nf**2 * p_state
+            two_loop = (ALPHA / _PI) * scale * (mu**2 * b40_mag)
+            b40 = 1.5 * _PI**2 * _LN2 - 10.0 * _PI**2 / 27.0 - 2179.0 / 648.0 - 2.25 * _ZETA3
+            b50 = -21.55447  # Pachucki 1994; Eides & Shelyuto 1995 (from memory)
+            psi_s = harmonic_s - 1.0 / ns  # psi(n) + gamma
+            tail_s = 0.75 + psi_s - np.log(ns) - 1.0 / ns + 1.0 / (4.0 * ns**2)
+            b62_s = 16.0 / 9.0 * (71.0 / 60.0 - _LN2 + psi_s - np.log(ns) - 1.0 / ns + 1.0 / (4.0 * ns**2))
+            n_s = np.where(n[i_s] == 1, _N_BETHE[(1, 0)], _N_BETHE[(2, 0)])
+            b61_s = (
+                413581.0 / 64800.0 + 4.0 * n_s / 3.0 + 2027.0 * _PI**2 / 864.0 - 616.0 * _LN2 / 135.0
+                - 2.0 * _PI**2 * _LN2 / 3.0 + 40.0 * _LN2**2 / 9.0 + _ZETA3
+                + (304.0 / 135.0 - 32.0 * _LN2 / 9.0) * tail_s
             )
-            n_s = np.where(n == 1, _N_BETHE[(1, 0)], _N_BETHE[(2, 0)])
-            b61 = s_state * (
-                413581.0 / 64800.0
-                + 4.0 * n_s / 3.0
-                + 2027.0 * _PI**2 / 864.0
-                - 616.0 * _LN2 / 135.0
-                - 2.0 * _PI**2 * _LN2 / 3.0
-                + 40.0 * _LN2**2 / 9.0
-                + _ZETA3
-                + (304.0 / 135.0 - 32.0 * _LN2 / 9.0)
-                * (0.75 + harmonic_nm1 - np.log(nf) - 1.0 / nf + 1.0 / (4.0 * nf**2))
-            ) + p_state * (
-                4.0 / 3.0 * _N_BETHE[(2, 1)] + (nf**2 - 1.0) / nf**2 * (166.0 / 405.0 - 8.0 / 27.0 * _LN2)
+            f4_s = b40 + b50 * x + x**2 * (-8.0 / 27.0 * log_x2_m**3 + b62_s * log_x2_m**2 + b61_s * log_x2_m)
+            two_loop[i_s] += (ALPHA / _PI) * scale[i_s] * mu3 * f4_s
+            q_p = (np_**2 - 1.0) / np_**2
+            f4_p = x**2 * (
+                4.0 / 27.0 * q_p * log_x2_m**2
+                + (4.0 / 3.0 * _N_BETHE[(2, 1)] + q_p * (166.0 / 405.0 - 8.0 / 27.0 * _LN2)) * log_x2_m
             )
-            f4 = (
-                b40
-                + b50 * x
-                + x**2 * (b63 * log_x2_m**3 + b62 * log_x2_m**2 + b61 * log_x2_m)
-            )
-            out["two_loop"] = (ALPHA / _PI) * scale * (mu3 * f4 + mu**2 * b40_mag)
+            two_loop[i_p] += (ALPHA / _PI) * scale[i_p] * mu3 * f4_p
+            out["two_loop"] = two_loop
 
-    # ---- vacuum polarisation: CODATA 2006 eqs. (38)-(47)
+    # ---- vacuum polarisation: CODATA 2006 eqs. (38)-(47); s states only at (Zα)^4, (Zα)^5
     if corr.vacuum_polarization:
-        v40 = -4.0 / 15.0 * s_state
-        v50 = 5.0 / 48.0 * _PI * s_state
-        out["vacuum_polarization"] = scale * mu3 * (v40 + v50 * x)
+        vp = np.zeros_like(fm1)
+        vp[i_s] = scale[i_s] * mu3 * (-4.0 / 15.0 + 5.0 / 48.0 * _PI * x)
+        out["vacuum_polarization"] = vp
         if corr.higher_order:
-            v61 = -2.0 / 15.0 * s_state
-            v60 = _state_lookup(_V60, n, l, two_j)
-            wichmann_kroll = ((19.0 / 45.0 - _PI**2 / 27.0) * x**2 + (1.0 / 16.0 - 31.0 * _PI**2 / 2880.0) * _PI * x**3) * s_state
-            muon = -4.0 / 15.0 * _ME_OVER_MMU**2 * s_state * (1.0 + _HADRONIC_OVER_MUON_VP)
-            out["vacuum_polarization_higher_order"] = scale * mu3 * (
-                x**2 * (v61 * log_x2_m + v60) + wichmann_kroll + muon
-            )
+            vph = np.zeros_like(fm1)
+            vph[i_l] = scale[i_l] * mu3 * x**2 * _state_lookup(_V60, n[i_l], l[i_l], two_j[i_l])
+            wichmann_kroll = (19.0 / 45.0 - _PI**2 / 27.0) * x**2 + (1.0 / 16.0 - 31.0 * _PI**2 / 2880.0) * _PI * x**3
+            muon = -4.0 / 15.0 * _ME_OVER_MMU**2 * (1.0 + _HADRONIC_OVER_MUON_VP)
+            vph[i_s] += scale[i_s] * mu3 * (-2.0 / 15.0 * x**2 * log_x2_m + wichmann_kroll + muon)
+            out["vacuum_polarization_higher_order"] = vph
 
     # ---- finite nuclear size: CODATA 2006 eqs. (59)-(62) (leading); relativistic form
     if corr.finite_size and radius_fm > 0.0:
         r_c = radius_fm * 1e-15 / LAMBDA_C_BAR  # r_rms in units of the reduced Compton wavelength
+        fs = np.zeros_like(fm1)
         if corr.higher_order:
+            # |kappa| <= 2; beyond, the shift is smaller by further powers of (R/lambdaC)^2 < 1e-3
+            i_k = np.flatnonzero(kabs <= 2.0)
             sphere = math.sqrt(5.0 / 3.0) * r_c
-            out["finite_size"] = mu3 * _finite_size_relativistic(x, nf, kappa, kabs, fm1, gamma, sphere)
+            fs[i_k] = mu3 * _finite_size_relativistic(
+                x, nf[i_k], kappa[i_k], kabs[i_k], fm1[i_k], gamma[i_k], sphere
+            )
         else:
-            out["finite_size"] = 2.0 / 3.0 * mu3 * x**4 / n3 * r_c**2 * s_state
+            fs[i_s] = 2.0 / 3.0 * mu3 * x**4 * inv_n3[i_s] * r_c**2
+        out["finite_size"] = fs
     if corr.finite_size and corr.higher_order:
         a = int(round(mass_u))
         pol = _nuclear.nuclear_polarization_1s_hz(z, a) if a >= z else 0.0
         if pol:
-            out["nuclear_polarization"] = pol / MEC2_HZ * s_state / n3
-    return out
+            np_pol = np.zeros_like(fm1)
+            np_pol[i_s] = pol / MEC2_HZ * inv_n3[i_s]
+            out["nuclear_polarization"] = np_pol
+    return {key: value.reshape(shape) for key, value in out.items()}
 
 
 def _harmonic(n: np.ndarray) -> np.ndarray:
     """1 + 1/2 + ... + 1/n, vectorised."""
-    from scipy.special import digamma
-
     return digamma(n + 1.0) + _EULER
 
 
@@ -666,13 +720,16 @@ def level_contributions_hz(
     Examples
     --------
     >>> c = level_contributions_hz(1, 1, 0, 1, nuclear_mass_u=1.00727646658)
-    >>> round(float(c["self_energy"]) / 1e9, 2)  # GHz; the 1S Lamb shift is 8.17 GHz
-    8.38
+    >>> round(float(c["self_energy"]) / 1e9, 2)  # GHz; the whole 1S Lamb shift is 8.17 GHz
+    8.39
     """
     z = _check_z(z)
     n_arr, l_arr, j_arr = _check_states(n, l, two_j)
     mass = _check_mass(nuclear_mass_u)
-    radius = _resolve_radius(z, mass, charge_radius_fm)
+    if corrections.finite_size or charge_radius_fm is not None:
+        radius = _resolve_radius(z, mass, charge_radius_fm)
+    else:
+        radius = 0.0
     terms = _contributions(z, n_arr, l_arr, j_arr, mass, radius, corrections)
     return {key: value * MEC2_HZ for key, value in terms.items()}
 
@@ -729,7 +786,11 @@ def level_energies_hz(
     * self energy: ``α x^4/(π n^3) [μ^3 (A41 L + A40 + A50 x + A62 x^2 L^2 + A61 x^2 L +
       G_SE x^2) - μ^2 (1-δ_l0)/(2κ(2l+1))]`` with ``L = ln[(Zα)^-2 m_e/m_r]``,
       ``A41 = 4/3 δ_l0``, ``A40 = -4/3 ln k0(n,l) + 10/9 δ_l0``,
-      ``A50 = (139/32 - 2 ln 2) π δ_l0``, ``A62 = -δ_l0``;
+      ``A50 = (139/32 - 2 ln 2) π δ_l0``, ``A62 = -δ_l0``, A61 of CODATA 2006
+      eq. (33), and ``G_SE = A60 + δ_l0 [G_SE(1s, Zα) - A60(1s)]`` (the CODATA
+      values G_SE(α) at Z = 1);
+    * two loops: ``(α/π)^2 x^4/n^3 [μ^3 (B40 + B50 x + B63 x^2 L^3 + B62 x^2 L^2 +
+      B61 x^2 L) + μ^2 B40_mag]`` (CODATA 2006 eqs. (48)-(56));
     * vacuum polarisation: ``α x^4 μ^3/(π n^3) [-4/15 + 5π/48 x - 2/15 x^2 L + V60 x^2] δ_l0``
       plus Wichmann-Kroll, muon and hadron loops;
     * finite size (s states, leading): ``2/3 μ^3 x^4/n^3 (r/ƛ_C)^2``; with higher
@@ -745,15 +806,15 @@ def level_energies_hz(
     Not included: hyperfine structure (the energies are centroids), nuclear
     polarisation of nuclei other than H and D, the two-loop B60 and three-loop terms (about 7 kHz and 1.4 kHz in the
     hydrogen 1S-2S interval), radiative corrections to the finite-size shift
-    (0.2 kHz in hydrogen 1S), and the all-order self-energy remainder beyond A60
-    for Z > 1.
+    (0.2 kHz in hydrogen 1S), and the all-order self-energy remainder of states
+    with l >= 1.
 
     Examples
     --------
-    >>> mp = 1.007276466621  # proton mass in u (CODATA 2018, from memory)
+    >>> mp = 1.0072764665789  # proton mass in u (CODATA 2022)
     >>> e = level_energies_hz(1, [1, 2], 0, 1, nuclear_mass_u=mp)
-    >>> round(float(e[1] - e[0]) / 1e3)   # 1S-2S in kHz; measured 2 466 061 413 187 kHz
-    2466061413187
+    >>> round(float(e[1] - e[0]) / 1e6, 2)   # 1S-2S in MHz; measured 2 466 061 413.187 MHz
+    2466061413.18
     """
     terms = level_contributions_hz(
         z, n, l, two_j, nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm, corrections=corrections
@@ -784,7 +845,7 @@ def level_energies_cm1(
     --------
     >>> e = level_energies_cm1(2, [1, 2, 2], [0, 1, 1], [1, 1, 3], nuclear_mass_u=4.001506179)
     >>> e.round(2)
-    array([-438908.88, -109726.62, -109721.31])
+    array([-438908.88, -109729.58, -109723.73])
     """
     return (
         level_energies_hz(
@@ -899,8 +960,8 @@ def dirac_point_energy(
 
     Examples
     --------
-    >>> float(dirac_point_energy(1, 1, 0, 1, alpha=1 / 137.035999037))  # sympy's E_nl_dirac(1, 0)
-    -0.5000066565953...
+    >>> round(float(dirac_point_energy(1, 1, 0, 1, alpha=1 / 137.035999037)), 12)
+    -0.500006656597
     >>> dirac_point_energy(1, 2, [0, 1], 1)[0] == dirac_point_energy(1, 2, [0, 1], 1)[1]
     np.True_
     """

@@ -17,10 +17,10 @@ Every cutoff applied is returned to the caller (:class:`Cutoff`, and the
 References
 ----------
 .. [1] H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge University
-   Press (1997), ch. 6 (Saha-Boltzmann equilibrium, Debye-Hückel lowering of
+   Press (1997) (Saha-Boltzmann equilibrium, Debye-Hückel lowering of
    the ionization energy, partition-function cutoff).
-.. [2] D. Mihalas, *Stellar Atmospheres*, 2nd ed., W. H. Freeman (1978),
-   ch. 5 (Boltzmann and Saha equations, partition functions).
+.. [2] D. Mihalas, *Stellar Atmospheres*, 2nd ed., W. H. Freeman (1978)
+   (Boltzmann and Saha equations, partition functions).
 .. [3] D. R. Inglis and E. Teller, "Ionic depression of series limits in
    one-electron spectra", Astrophys. J. 90, 439-448 (1939).
 .. [4] F. E. Irons, "The escape factor in plasma spectroscopy - I. The escape
@@ -158,11 +158,11 @@ def boltzmann_populations(
     .. math:: \\frac{n_i}{n} = \\frac{g_i\\,e^{-E_i/kT}}{\\sum_{j\\,\\mathrm{incl.}} g_j\\,e^{-E_j/kT}},
        \\qquad E/k = c_2\\,E[\\mathrm{cm^{-1}}],\\ c_2 = hc/k
 
-    evaluated with a log-sum-exp so that no exponential overflows (Mihalas 1978, eq. 5-3).
+    evaluated with a log-sum-exp so that no exponential overflows (Mihalas 1978).
 
     References
     ----------
-    D. Mihalas, *Stellar Atmospheres*, 2nd ed., Freeman (1978), sec. 5-1.
+    D. Mihalas, *Stellar Atmospheres*, 2nd ed., Freeman (1978).
 
     Examples
     --------
@@ -232,12 +232,12 @@ def partition_function(
     .. math:: U(T) = \\sum_{E_i < \\chi - \\Delta\\chi} g_i\\,e^{-c_2 E_i / T}
 
     The sum over bound levels diverges without a cutoff (g grows as n^2 while E tends to
-    the limit); the plasma sets it (Griem 1997, sec. 6.3).
+    the limit); the plasma sets it (Griem 1997).
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), sec. 6.3;
-    D. Mihalas, *Stellar Atmospheres*, 2nd ed. (1978), sec. 5-1.
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997);
+    D. Mihalas, *Stellar Atmospheres*, 2nd ed. (1978).
 
     Examples
     --------
@@ -294,13 +294,13 @@ def debye_length_m(te_k: float, ne_m3: float) -> float:
     -----
     .. math:: \\lambda_D = \\sqrt{\\frac{\\varepsilon_0 k T_e}{n_e e^2}}
 
-    Electrons only. Including the ions' screening as well (Griem 1997, eq. 6.26, with
-    T_i = T_e and singly charged ions) shortens it by 1/sqrt(2); the electron-only form is
-    the usual one for the lowering of the ionization energy in discharge plasmas.
+    Electrons only (a choice of this module). Including the screening by the ions as well,
+    with T_i = T_e and singly charged ions, shortens it by 1/sqrt(2) (Griem 1997) and so
+    raises the lowering of :func:`debye_lowering_cm1` by sqrt(2).
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), sec. 6.3.
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997).
 
     Examples
     --------
@@ -338,12 +338,12 @@ def debye_lowering_cm1(te_k: float, ne_m3: float, charge_after: int) -> float:
     -----
     .. math:: \\Delta E = \\frac{(z+1)\\,e^2}{4\\pi\\varepsilon_0\\,\\lambda_D}
 
-    with the electron Debye length of :func:`debye_length_m` (Griem 1997, eq. 6.38).
+    with the electron Debye length of :func:`debye_length_m` (Griem 1997).
     It requires many particles in a Debye sphere, N_D = 4 pi ne lambda_D^3 / 3 >> 1.
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), sec. 6.3.
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997).
 
     Examples
     --------
@@ -383,16 +383,17 @@ def inglis_teller_n_max(ne_m3: float, z_eff: float = 1) -> float:
     .. math:: \\log_{10} N[\\mathrm{cm^{-3}}] = 23.26 - 7.5\\,\\log_{10} n_{max}
        \\quad (N\\,n_{max}^{7.5} = 0.027\\,a_0^{-3})
 
-    The linear Stark splitting of level n of a one-electron core of charge Z scales as
-    n^2 a0 F / Z, the spacing of adjacent levels as Z^2 / n^3, so the merging condition
-    gives N proportional to Z^4.5 n^-7.5:
+    For a core of charge Z the scaling is derived here from the same merging argument (it
+    is not a fit published by Inglis & Teller): the linear Stark splitting of level n
+    scales as n^2 a0 F / Z, the spacing of adjacent levels as Z^2 / n^3, and the normal
+    field F as N^(2/3), so N is proportional to Z^4.5 n^-7.5:
 
     .. math:: \\log_{10} n_e[\\mathrm{cm^{-3}}] = 23.26 + 4.5\\,\\log_{10} Z - 7.5\\,\\log_{10} n_{max}
 
     References
     ----------
     D. R. Inglis and E. Teller, Astrophys. J. 90, 439 (1939);
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), sec. 6.3.
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997).
 
     Examples
     --------
@@ -465,7 +466,7 @@ def plasma_cutoff(te_k: float, ne_m3: float, charge_after: int, method: str = "d
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), sec. 6.3;
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997);
     D. R. Inglis and E. Teller, Astrophys. J. 90, 439 (1939).
 
     Examples
@@ -552,13 +553,13 @@ def saha_ratio(
        \\left(\\frac{2\\pi m_e k T_e}{h^2}\\right)^{3/2}
        \\exp\\!\\left(-\\frac{\\chi_z - \\Delta\\chi_z}{k T_e}\\right)
 
-    (Griem 1997, eq. 6.2; Mihalas 1978, eq. 5-14). The factor 2 is the spin degeneracy of
+    (Griem 1997; Mihalas 1978). The factor 2 is the spin degeneracy of
     the free electron. Assumes a non-degenerate electron gas.
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), ch. 6;
-    D. Mihalas, *Stellar Atmospheres*, 2nd ed., Freeman (1978), sec. 5-1.
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997);
+    D. Mihalas, *Stellar Atmospheres*, 2nd ed., Freeman (1978).
 
     Examples
     --------
@@ -628,7 +629,7 @@ def ionization_balance(
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), ch. 6.
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997).
 
     Examples
     --------
@@ -694,11 +695,11 @@ def line_emissivity(upper_population_m3: ArrayLike, a_per_s: ArrayLike, wavenumb
     -----
     .. math:: \\varepsilon = \\frac{n_u A_{ul}\\,h\\nu}{4\\pi}, \\qquad \\nu = c\\,\\sigma
 
-    (isotropic emission; Griem 1997, sec. 3.1).
+    (isotropic emission; Griem 1997).
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), ch. 3.
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997).
 
     Examples
     --------
@@ -760,7 +761,7 @@ def line_center_optical_depth(
        \\phi_\\nu(\\nu_0) = \\frac{2}{\\Delta\\nu_D}\\sqrt{\\frac{\\ln 2}{\\pi}}, \\quad
        \\Delta\\nu_D = \\frac{c\\,\\Delta\\lambda_D}{\\lambda^2}
 
-    (e^2/(4 eps0 m_e c) = pi e^2/(m_e c) in Gaussian units; Griem 1997, sec. 3.1 and 7.1).
+    (e^2/(4 eps0 m_e c) = pi e^2/(m_e c) in Gaussian units; Griem 1997).
 
     References
     ----------

@@ -36,7 +36,7 @@ shape, or :func:`levels.physics.colour.lamp_metrics_from_lines` for metrics.
 References
 ----------
 .. [1] H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge University
-   Press (1997), ch. 4 (natural and Doppler broadening, Voigt profile).
+   Press (1997) (natural and Doppler broadening, Voigt profile).
 .. [2] J. J. Olivero and R. L. Longbothum, "Empirical fits to the Voigt line
    width: a brief review", J. Quant. Spectrosc. Radiat. Transfer 17, 233-236 (1977).
 .. [3] M. Abramowitz and I. A. Stegun, *Handbook of Mathematical Functions*,
@@ -133,11 +133,11 @@ def doppler_fwhm_nm(wavelength_nm: ArrayLike, tgas_k: ArrayLike, mass_u: ArrayLi
     -----
     .. math:: \\Delta\\lambda_D = \\lambda\\sqrt{\\frac{8 k T \\ln 2}{M c^2}}
 
-    (Griem 1997, eq. 4.2 for a Maxwellian velocity distribution).
+    (Griem 1997 for a Maxwellian velocity distribution).
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), sec. 4.1.
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997).
 
     Examples
     --------
@@ -158,7 +158,7 @@ def natural_fwhm_nm(wavelength_nm: ArrayLike, tau_upper_s: ArrayLike, tau_lower_
     wavelength_nm : array_like
         Line wavelength, nm.
     tau_upper_s : array_like
-        Radiative lifetime of the upper level, s (> 0).
+        Radiative lifetime of the upper level, s (> 0; ``inf`` gives no natural width).
     tau_lower_s : array_like, optional
         Lifetime of the lower level, s; ``inf`` (default) for a ground or metastable level.
 
@@ -177,11 +177,11 @@ def natural_fwhm_nm(wavelength_nm: ArrayLike, tau_upper_s: ArrayLike, tau_lower_
     .. math:: \\Delta\\nu_N = \\frac{1}{2\\pi}\\left(\\frac{1}{\\tau_u} + \\frac{1}{\\tau_l}\\right),
        \\qquad \\Delta\\lambda_N = \\frac{\\lambda^2}{c}\\,\\Delta\\nu_N
 
-    (Griem 1997, sec. 4.1).
+    (Griem 1997).
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), sec. 4.1.
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997).
 
     Examples
     --------
@@ -189,10 +189,11 @@ def natural_fwhm_nm(wavelength_nm: ArrayLike, tau_upper_s: ArrayLike, tau_lower_
     4.916
     """
     lam = _positive("wavelength_nm", wavelength_nm)
-    tu = _positive("tau_upper_s", tau_upper_s)
+    tu = np.asarray(tau_upper_s, dtype=float)
     tl = np.asarray(tau_lower_s, dtype=float)
-    if np.any(np.isnan(tl)) or np.any(tl <= 0):
-        raise PhysicsInputError("tau_lower_s must be > 0 (inf for a ground or metastable level)")
+    for name, tau in (("tau_upper_s", tu), ("tau_lower_s", tl)):
+        if np.any(np.isnan(tau)) or np.any(tau <= 0):
+            raise PhysicsInputError(f"{name} must be > 0 (inf for a level that does not decay)")
     dnu = (1.0 / tu + 1.0 / tl) / (2.0 * math.pi)
     return np.asarray((lam * 1e-9) ** 2 / units.C * dnu * 1e9)
 
@@ -276,7 +277,7 @@ def voigt_widths(
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), sec. 4.1;
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997);
     J. J. Olivero and R. L. Longbothum, JQSRT 17, 233 (1977).
 
     Examples
@@ -550,8 +551,10 @@ def synthetic_spectrum(
     -------
     numpy.ndarray
         Spectral power density on the grid, power unit per nm. Its trapezoid integral over
-        the grid equals the summed power of the lines whose windows lie inside the grid
-        (to < 1e-3 per line when each line spans >= 3 grid steps per FWHM).
+        the grid equals the summed power of the lines whose windows lie inside the grid:
+        exactly for deposited (unresolved) lines, and for sampled lines to the trapezoid
+        error, at most 1.6e-4 of a line's power (a pure Lorentzian at 3 steps per FWHM)
+        and about 1e-5 from 5 steps per FWHM on.
 
     Raises
     ------
@@ -576,14 +579,15 @@ def synthetic_spectrum(
 
     References
     ----------
-    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997), ch. 4;
+    H. R. Griem, *Principles of Plasma Spectroscopy*, Cambridge (1997);
     J. J. Olivero and R. L. Longbothum, JQSRT 17, 233 (1977).
 
     Examples
     --------
+    >>> from scipy.integrate import trapezoid
     >>> grid = make_grid(650.0, 660.0, 0.001)
     >>> s = synthetic_spectrum(grid, [656.28], [2.0], 0.02, 0.001)
-    >>> round(float(np.trapezoid(s, grid)), 6)
+    >>> round(float(trapezoid(s, grid)), 6)
     2.0
     """
     grid = np.asarray(grid_nm, dtype=float)
