@@ -15,6 +15,20 @@ from sqlalchemy.engine import make_url
 
 from levels.catalog import Catalog
 
+
+def _import_colour_cleanly() -> None:
+    """Import colour-science once and drop the mock matplotlib it leaves (see levels.physics.colour)."""
+    try:
+        import colour  # noqa: F401
+    except ImportError:
+        return
+    from levels.physics.colour import _drop_plotting_stand_ins
+
+    _drop_plotting_stand_ins()
+
+
+_import_colour_cleanly()
+
 POSTGRES_URL = os.environ.get("LEVELS_TEST_POSTGRES_URL")
 BACKENDS = ["sqlite"] + (["postgresql"] if POSTGRES_URL else [])
 

@@ -153,6 +153,8 @@ def cmf_tables() -> CmfTables:
         import colour
         from colour.colorimetry import SDS_LEFS_PHOTOPIC
 
+        _drop_plotting_stand_ins()
+
         cmfs = colour.MSDS_CMFS[_CMF_NAME]
         lef = SDS_LEFS_PHOTOPIC[_V_NAME]
         wl = np.asarray(cmfs.wavelengths, dtype=float)
@@ -161,6 +163,22 @@ def cmf_tables() -> CmfTables:
     for arr in (wl, values, v):
         arr.setflags(write=False)
     return CmfTables(wl, values[:, 0].copy(), values[:, 1].copy(), values[:, 2].copy(), v)
+
+
+def _drop_plotting_stand_ins() -> None:
+    """Remove the mock ``matplotlib`` modules colour-science installs when matplotlib is absent.
+
+    colour-science puts ``unittest.mock.MagicMock`` objects into ``sys.modules``
+    under ``matplotlib*`` names; other libraries in the same process that probe
+    for matplotlib (``importlib.util.find_spec``) then fail. We use no plotting
+    from colour-science, so the stand-ins are taken out again.
+    """
+    import sys
+    from unittest import mock
+
+    for name in [n for n in sys.modules if n == "matplotlib" or n.startswith("matplotlib.")]:
+        if isinstance(sys.modules[name], mock.Mock):
+            del sys.modules[name]
 
 
 # ---------------------------------------------------------------------------------------------
