@@ -35,7 +35,9 @@ import periodictable
 
 from levels.errors import NotFoundError, NotationError
 from levels.notation import Z_MAX, element_symbol
-from levels.units import C, E_CHARGE, H, M_E, M_E_U, M_P, M_U, R_INF
+from levels.physics.nuclear import electron_binding_energy_ev
+from levels.physics.nuclear import nuclear_mass_u as _nuclear_mass_u
+from levels.units import C, E_CHARGE, M_U
 
 #: 1 eV/c^2 in u
 EV_IN_U = E_CHARGE / (C**2 * M_U)
@@ -58,19 +60,13 @@ class Isotope:
 
 
 def electron_binding_ev(z: int) -> float:
-    """Total binding energy of all Z electrons of the neutral atom, eV.
-
-    Lunney et al. (2003), Eq. A4, for Z > 1; for hydrogen the Bohr binding of
-    the reduced-mass atom, R_inf h c / (1 + m_e/m_p), from CODATA constants.
-    """
-    if z == 1:
-        return R_INF * H * C / E_CHARGE / (1.0 + M_E / M_P)
-    return 14.4381 * z**2.39 + 1.55468e-6 * z**5.35
+    """Total electron binding energy of the neutral atom, eV (see :mod:`levels.physics.nuclear`)."""
+    return electron_binding_energy_ev(z)
 
 
 def nuclear_mass_u(atomic_mass_u: float, z: int) -> float:
     """Nuclear mass in u from the atomic mass: ``M_atom - Z m_e + B_e/c^2``."""
-    return atomic_mass_u - z * M_E_U + electron_binding_ev(z) * EV_IN_U
+    return _nuclear_mass_u(z, atomic_mass_u)
 
 
 def _element(z: int):

@@ -22,22 +22,25 @@ nuclear mass m_N is assembled as in the CODATA adjustments (Mohr, Taylor & Newel
   the nucleus: 30 % of the shift at Z = 92); the nuclear polarisation of H and D.
 
 Energies are measured from the ionization limit (nucleus and electron at rest,
-infinitely apart), so bound states are negative. Every coefficient that was
-written down from memory, rather than read from the paper in hand, says so
-beside it; the tests check the resulting energies against measurements and
-reference values.
+infinitely apart), so bound states are negative. The formulas and coefficients
+of the CODATA papers and the tabulated numbers were written down from memory,
+not copied from the papers (each numeric table says so); the tests check the
+resulting energies against measurements and reference values, and the
+coefficients against independent evaluations where one exists (Uehling
+potential, all-order self energy at Z = 1, Dirac equation for a finite nucleus).
 
 Accuracy (tests): hydrogen 1S-2S to 5 kHz (2e-15), the 2S-2P1/2 Lamb shift to
 4 kHz, the H-D isotope shift to 14 kHz; ionization energies of the one-electron
 ions of He, Li, C, O, Ne to 3e-8 or better, Ar to 1e-7, Fe to 4e-6 and U to 1e-5
-of reference values (for U errors of several eV in single terms partly cancel). The terms taken to finite order in Zα (Uehling beyond
-(Zα)^6, two-loop beyond B61, the self-energy remainder of p and d states) limit
-high-Z accuracy: at Z = 92 the Uehling expansion is 8 eV (1s), 3.5 eV (2s) and
-2 eV (2p1/2) off its all-order value and the two-loop expansion a few eV, of a
-1s binding energy of 132 keV.
-Excited s states take the 1s all-order remainder shift (exact to a few per cent
+of reference values (for U, errors of several eV in single terms partly
+cancel). The terms taken to finite order in Zα (Uehling beyond (Zα)^6, two-loop
+beyond B61, the self-energy remainder of p and d states) limit high-Z accuracy:
+at Z = 92 the Uehling expansion is 8 eV (1s), 3.5 eV (2s) and 2 eV (2p1/2) off
+its all-order value and the two-loop expansion a few eV, of a 1s binding energy
+of 132 keV. Excited s states take the 1s all-order remainder shift (exact to a few per cent
 of it at Z = 1); p states keep the Zα -> 0 constant A60, so their self energy is
-only good to order (Zα)^7 (tens of per cent of the p1/2 self energy at Z = 92).
+only good to order (Zα)^7 (tens of per cent of the p1/2 self energy at Z = 92);
+above Z = 102 this even puts 3p3/2 a few meV below 3d3/2.
 
 References
 ----------

@@ -654,9 +654,13 @@ def test_dirac_j_degeneracy_with_corrections_off(z, n, data):
     l_low, l_high = (two_j - 1) // 2, (two_j + 1) // 2
     e = level_energies_hz(z, n, [l_low, l_high], two_j, nuclear_mass_u=2.5 * z, corrections=Corrections.none())
     assert e[0] == e[1]
-    # and the full theory lifts it, the s/p-like (lower l) level lying higher
-    full = level_energies_hz(z, n, [l_low, l_high], two_j, nuclear_mass_u=2.0 * z + 1.0)
-    assert full[0] > full[1]
+    # and the full theory lifts it, the lower-l level lying higher (the Lamb shift
+    # of l = j - 1/2 exceeds that of l = j + 1/2). Checked for Z <= 100: above
+    # Z = 102 the finite-order (Zα)^6 self energy of p3/2 states, documented as
+    # unreliable there, turns this order round for 3p3/2 / 3d3/2 by a few meV.
+    if z <= 100:
+        full = level_energies_hz(z, n, [l_low, l_high], two_j, nuclear_mass_u=2.0 * z + 1.0)
+        assert full[0] > full[1]
 
 
 def test_million_states_run_vectorised():

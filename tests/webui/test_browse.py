@@ -1,0 +1,308 @@
+"""Reading pages: every route, filters, sorting, paging, downloads, diagram data, line records.
+
+Expected values come from the Catalog itself (the service layer the pages must
+agree with), never from numbers typed into the test.
+"""
+
+from __future__ import annotations
+
+import csv
+import html
+import io
+import json
+import re
+
+import pytest
+
+from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, SPECIES_COLUMNS, LineQuery
+from levels.units import CM1_EV
+
+from tests.webui.conftest import LI_LIMIT_CM1, XSS_DATASET
+
+ROWS_RE = re.compile(r'<span class="count">([\d,]+) rows?')
+
+
+def row_counts(text: str) -> list[int]:
+    return [int(n.replace(",", "")) for n in ROWS_RE.findall(text)]
+
+
+def level_labels(text: str) -> list[str]:
+    """Labels of the level table, in page order (the level table comes first on the species page)."""
+    section = text.split('id="lines"')[0]
+    return [html.unescape(m) for m in re.findall(r'<td class="label">(.*?)</td><td>', section)]
+
+
+def levels_of(catalog, **where):
+    rows = catalog.level_rows("Li I")
+    for key, test in where.items():
+        rows = [r for r in rows if test(r[key])]
+    return rows
+
+
+# ----------------------------------------------------------------- catalogue
+
+def test_catalogue_lists_species_with_counts(reader, shared):
+    page = reader.get("/")
+    assert page.status_code == 200
+    text = page.get_data(as_text=True)
+    row = shared["catalog"].species_rows()[0]
+    assert 'href="/species/Li_I"' in text
+    assert f">{row['levels']:,}<" in text and f">{row['lines']:,}<" in text
+    assert f"{LI_LIMIT_CM1:.3f}" in text
+
+
+@pytest.mark.parametrize("query, found", [("Li", True), ("Li I", True), ("Li_I", True), ("Li+0", True),
+                                          ("Fe", False), ("He II", False), ("xss-set", True), ("nothing-like", False)])
+def test_catalogue_search(reader, shared, query, found):
+    text = reader.get("/", query_string={"q": query}).get_data(as_text=True)
+    assert ('href="/species/Li_I"' in text) is found
+
+
+def test_species_download_formats(reader, shared):
+    response = reader.get("/species.csv")
+    assert response.status_code == 200 and response.mimetype == "text/csv"
+    assert "attachment" in response.headers["Content-Disposition"]
+    lines = response.get_data(as_text=True).splitlines()
+    assert lines[0].startswith("# tool: levels")
+    header = next(l for l in lines if not l.startswith("#"))
+    assert header.split(",") == list(SPECIES_COLUMNS)
+    payload = reader.get("/species.json").get_json()
+    assert payload["columns"] == list(SPECIES_COLUMNS) and payload["rows"][0]["spectrum"] == "Li I"
+    assert reader.get("/species.ecsv").get_data(as_text=True).startswith("# %ECSV 1.0")
+    assert reader.get("/species.xml").status_code == 404
+
+
+# ----------------------------------------------------------------- species page: levels
+
+def test_species_page_shows_both_tables(reader, shared):
+    page = reader.get("/species/Li_I")
+    assert page.status_code == 200
+    text = page.get_data(as_text=True)
+    levels = shared["catalog"].level_rows("Li I")
+    _, total_lines = shared["catalog"].line_rows(LineQuery(spectrum="Li I", limit=1))
+    assert row_counts(text) == [len(levels), total_lines]
+    assert level_labels(text) == [r["label"] for r in levels][:50]
+    # units in the column headers
+    for heading in ("energy <span class=\"unit\">[cm⁻¹]", "λ vacuum <span class=\"unit\">[nm]", "A <span class=\"unit\">[s⁻¹]"):
+        assert heading in text
+
+
+@pytest.mark.parametrize("args, where", [
+    ({"config": "3d"}, {"configuration": lambda c: "3d" in c}),
+    ({"j": "3/2"}, {"j": lambda j: j == "3/2"}),
+    ({"j": "1.5"}, {"j": lambda j: j == "3/2"}),
+    ({"parity": "odd"}, {"parity": lambda p: p == -1}),
+    ({"parity": "even", "config": "s"}, {"parity": lambda p: p == 1, "configuration": lambda c: "s" in c}),
+])
+def test_level_filters(reader, shared, args, where):
+    text = reader.get("/species/Li_I", query_string={**args, "per": 200}).get_data(as_text=True)
+    expected = levels_of(shared["catalog"], **where)
+    assert row_counts(text)[0] == len(expected) > 0
+    assert level_labels(text) == [r["label"] for r in expected]
+
+
+def test_level_filter_by_dataset(reader, shared):
+    text = reader.get("/species/Li_I", query_string={"dataset": XSS_DATASET}).get_data(as_text=True)
+    expected = shared["catalog"].level_rows("Li I", [XSS_DATASET])
+    assert row_counts(text)[0] == len(expected) == 2
+    assert level_labels(text) == [r["label"] for r in expected]
+
+
+@pytest.mark.parametrize("sort, key", [("energy", "energy_cm1"), ("label", "label"), ("configuration", "configuration")])
+@pytest.mark.parametrize("direction", ["asc", "desc"])
+def test_level_sorting(reader, shared, sort, key, direction):
+    text = reader.get("/species/Li_I", query_string={"sort": sort, "dir": direction, "per": 200}).get_data(as_text=True)
+    labels = level_labels(text)
+    rows = {r["label"]: r for r in shared["catalog"].level_rows("Li I")}
+    values = [rows[label][key] for label in labels]
+    assert values == sorted(values, reverse=direction == "desc")
+    assert ('aria-sort="descending"' if direction == "desc" else 'aria-sort="ascending"') in text
+
+
+def test_level_paging(reader, shared):
+    levels = shared["catalog"].level_rows("Li I")
+    text = reader.get("/species/Li_I", query_string={"per": 25, "page": 3}).get_data(as_text=True)
+    assert level_labels(text) == [r["label"] for r in levels][50:75]
+    assert "page 3 of 3" in text
+    # a page past the end is empty, not an error
+    text = reader.get("/species/Li_I", query_string={"per": 25, "page": 9}).get_data(as_text=True)
+    assert level_labels(text) == []
+
+
+@pytest.mark.parametrize("args, field", [
+    ({"j": "5/3"}, "j"), ({"parity": "sideways"}, "parity"), ({"per": "7"}, "per"), ({"page": "0"}, "page"),
+    ({"page": "x"}, "page"), ({"sort": "mass"}, "sort"), ({"dataset": "no such set"}, "dataset"),
+    ({"from_nm": "abc"}, "from_nm"), ({"to_nm": "-5"}, "to_nm"), ({"medium": "water"}, "medium"),
+    ({"multipole": "X9"}, "multipole"), ({"min_a": "-1"}, "min_a"), ({"min_a": "nan"}, "min_a"),
+    ({"from_nm": "700", "to_nm": "600"}, "to_nm"), ({"lpage": "-2"}, "lpage"), ({"order": "random"}, "order"),
+])
+def test_bad_species_filters_give_400_with_the_field(reader, shared, args, field):
+    page = reader.get("/species/Li_I", query_string=args)
+    assert page.status_code == 400
+    text = page.get_data(as_text=True)
+    assert f"<b>{field}</b>" in text and "Some filters cannot be used" in text
+
+
+def test_level_download_follows_filters(reader, shared):
+    response = reader.get("/species/Li_I/levels.csv", query_string={"parity": "odd"})
+    assert response.status_code == 200
+    text = response.get_data(as_text=True)
+    comments = [l for l in text.splitlines() if l.startswith("#")]
+    assert comments[0].startswith("# tool: levels") and any(l.startswith("# query: levels Li I parity=odd") for l in comments)
+    rows = list(csv.DictReader(io.StringIO("\n".join(l for l in text.splitlines() if not l.startswith("#")))))
+    assert list(rows[0]) == list(LEVEL_COLUMNS)
+    assert [r["label"] for r in rows] == [r["label"] for r in levels_of(shared["catalog"], parity=lambda p: p == -1)]
+    ecsv = reader.get("/species/Li_I/levels.ecsv").get_data(as_text=True)
+    assert ecsv.startswith("# %ECSV 1.0") and 'unit: "cm-1"' in ecsv
+    payload = reader.get("/species/Li_I/levels.json").get_json()
+    assert payload["provenance"]["tool"].startswith("levels") and len(payload["rows"]) == len(shared["catalog"].level_rows("Li I"))
+
+
+# ----------------------------------------------------------------- species page: lines
+
+@pytest.mark.parametrize("args, query", [
+    ({"from_nm": "600", "to_nm": "700"}, LineQuery(spectrum="Li I", from_nm=600, to_nm=700)),
+    ({"from_nm": "6000A", "to_nm": "0.7um"}, LineQuery(spectrum="Li I", from_nm=600, to_nm=700)),
+    ({"from_nm": "600", "to_nm": "700", "medium": "air"}, LineQuery(spectrum="Li I", from_nm=600, to_nm=700, medium="air")),
+    ({"multipole": "E2"}, LineQuery(spectrum="Li I", multipoles=("E2",))),
+    ({"multipole": ["E1", "E2"], "min_a": "1e6"}, LineQuery(spectrum="Li I", multipoles=("E1", "E2"), min_a=1e6)),
+])
+def test_line_filters(reader, shared, args, query):
+    text = reader.get("/species/Li_I", query_string=args).get_data(as_text=True)
+    rows, total = shared["catalog"].line_rows(query)
+    assert total > 0
+    assert row_counts(text)[1] == total
+    shown = re.findall(r'href="/species/Li_I/lines/(\d+)\?nm=', text)
+    assert [int(i) for i in shown] == [r["id"] for r in rows][:50]
+
+
+def test_line_order_and_paging(reader, shared):
+    rows, total = shared["catalog"].line_rows(LineQuery(spectrum="Li I", order="a", limit=25, offset=25))
+    text = reader.get("/species/Li_I", query_string={"order": "a", "lper": 25, "lpage": 2}).get_data(as_text=True)
+    shown = [int(i) for i in re.findall(r'href="/species/Li_I/lines/(\d+)\?nm=', text)]
+    assert shown == [r["id"] for r in rows]
+
+
+def test_line_download_has_provenance_and_all_rows(reader, shared):
+    response = reader.get("/species/Li_I/lines.csv", query_string={"from_nm": 300, "to_nm": 900, "medium": "air"})
+    assert response.status_code == 200
+    text = response.get_data(as_text=True)
+    comments = [l for l in text.splitlines() if l.startswith("#")]
+    keys = [l[2:].split(":")[0] for l in comments]
+    assert keys[:4] == ["tool", "store", "datasets", "query"] and "medium" in keys and "air_formula" in keys
+    body = [l for l in text.splitlines() if not l.startswith("#")]
+    assert body[0].split(",") == list(LINE_COLUMNS)
+    _, total = shared["catalog"].line_rows(LineQuery(spectrum="Li I", from_nm=300, to_nm=900, medium="air"))
+    assert len(body) - 1 == total
+    assert reader.get("/species/Li_I/lines.csv", query_string={"min_a": "lots"}).status_code == 400
+
+
+# ----------------------------------------------------------------- diagram
+
+def test_diagram_page(reader, shared):
+    page = reader.get("/species/Li_I/diagram", query_string={"min_a": "1e5"})
+    assert page.status_code == 200
+    text = page.get_data(as_text=True)
+    assert 'data-source="/species/Li_I/diagram.json"' in text
+    assert "/static/vendor/plotly.min.js" in text and "<script>" not in text
+    assert 'value="1e5"' in text
+    assert reader.get("/species/Li_I/diagram", query_string={"unit": "parsec"}).status_code == 400
+
+
+def test_diagram_json_sends_the_strongest_lines_and_counts_the_rest(reader, shared):
+    cat = shared["catalog"]
+    payload = reader.get("/species/Li_I/diagram.json", query_string={"max_lines": 40}).get_json()
+    strongest, total = cat.line_rows(LineQuery(spectrum="Li I", order="a", limit=40))
+    assert payload["lines_total"] == total and payload["lines_shown"] == 40
+    assert payload["lines_omitted"] == total - 40
+    assert [l["id"] for l in payload["strongest"]] == [r["id"] for r in strongest][:len(payload["strongest"])]
+    traces = {t.get("meta"): t for t in payload["figure"]["data"] if t.get("meta")}
+    drawn = [c[0] for c in traces["lines"]["customdata"]]
+    assert len(drawn) + payload["lines_unplaced"] == 40
+    assert set(drawn) <= {r["id"] for r in strongest}
+    levels = cat.level_rows("Li I")
+    assert payload["levels"] == len(levels) == len(traces["levels"]["x"])
+    # columns: one per term (multiplicity, L, parity): 2S, 2P°, 2D for these levels
+    assert payload["columns"] == len({(r["term"], r["parity"]) for r in levels})
+    shape = payload["figure"]["layout"]["shapes"][0]
+    assert shape["y0"] == pytest.approx(LI_LIMIT_CM1)
+
+
+def test_diagram_json_in_ev_and_with_filters(reader, shared):
+    cat = shared["catalog"]
+    payload = reader.get("/species/Li_I/diagram.json",
+                         query_string={"unit": "eV", "from_nm": 300, "to_nm": 1000, "multipole": "E1"}).get_json()
+    _, total = cat.line_rows(LineQuery(spectrum="Li I", from_nm=300, to_nm=1000, multipoles=("E1",)))
+    assert payload["lines_total"] == total and payload["unit"] == "eV"
+    levels = cat.level_rows("Li I")
+    ys = [y for t in payload["figure"]["data"] if t.get("meta") == "levels" for y in t["y"]]
+    assert max(ys) == pytest.approx(max(r["energy_cm1"] for r in levels) * CM1_EV, rel=1e-6)
+    assert "eV" in payload["figure"]["layout"]["yaxis"]["title"]["text"]
+    assert payload["figure"]["layout"]["shapes"][0]["y0"] == pytest.approx(LI_LIMIT_CM1 * CM1_EV, rel=1e-6)
+
+
+@pytest.mark.parametrize("args, field", [({"max_lines": "0"}, "max_lines"), ({"max_lines": "99999"}, "max_lines"),
+                                          ({"unit": "K"}, "unit"), ({"from_nm": "1;DROP TABLE lines"}, "from_nm")])
+def test_diagram_json_bad_values(reader, shared, args, field):
+    response = reader.get("/species/Li_I/diagram.json", query_string=args)
+    assert response.status_code == 400 and response.get_json()["error"]["field"] == field
+
+
+def test_diagram_json_unknown_species_is_json_404(reader, shared):
+    response = reader.get("/species/Fe_II/diagram.json")
+    assert response.status_code == 404 and response.get_json()["error"]["code"] == "not_found"
+
+
+# ----------------------------------------------------------------- one line
+
+def test_line_record_json_and_page(reader, shared):
+    row = shared["catalog"].line_rows(LineQuery(spectrum="Li I", order="a", limit=1))[0][0]
+    payload = reader.get(f"/species/Li_I/lines/{row['id']}.json", query_string={"nm": repr(row["vacuum_nm"])}).get_json()
+    assert payload["line"] == json.loads(json.dumps(row))
+    assert payload["provenance"]["datasets"] == row["dataset"]
+    # without the wavelength hint the line is still found
+    assert reader.get(f"/species/Li_I/lines/{row['id']}.json").get_json()["line"]["id"] == row["id"]
+    page = reader.get(payload["page"])
+    assert page.status_code == 200 and html.escape(row["upper"]) in page.get_data(as_text=True)
+    assert reader.get("/species/Li_I/lines/999999.json").status_code == 404
+    assert reader.get("/species/Li_I/lines/999999").status_code == 404
+    assert reader.get(f"/species/Li_I/lines/{10**30}").status_code == 404
+
+
+# ----------------------------------------------------------------- finder, datasets, errors
+
+def test_line_finder(reader, shared):
+    cat = shared["catalog"]
+    text = reader.get("/lines", query_string={"from_nm": 300, "to_nm": 900}).get_data(as_text=True)
+    _, total = cat.line_rows(LineQuery(from_nm=300, to_nm=900))
+    assert row_counts(text) == [total]
+    text = reader.get("/lines", query_string={"species": "Li I", "from_nm": 300, "to_nm": 900, "per": 100}).get_data(as_text=True)
+    assert row_counts(text) == [total]
+    assert reader.get("/lines", query_string={"species": "Fe II"}).status_code == 400
+    assert reader.get("/lines", query_string={"species": "not a species"}).status_code == 400
+    body = reader.get("/lines.csv", query_string={"from_nm": 300, "to_nm": 900}).get_data(as_text=True)
+    assert len([l for l in body.splitlines() if not l.startswith("#")]) == total + 1
+    assert reader.get("/lines.json", query_string={"species": "Li_I"}).get_json()["rows"]
+
+
+def test_dataset_pages(reader, shared):
+    text = reader.get("/datasets").get_data(as_text=True)
+    assert shared["demo_dataset"] in text and html.escape(XSS_DATASET) in text
+    info = shared["catalog"].dataset_info(shared["demo_dataset"])
+    page = reader.get(f"/datasets/{info['id']}")
+    assert page.status_code == 200 and f">{info['levels']:,}<" in page.get_data(as_text=True)
+    assert reader.get("/datasets/987654").status_code == 404
+    assert reader.get(f"/datasets/{2**70}").status_code == 404
+
+
+@pytest.mark.parametrize("path", ["/species/Fe_II", "/species/Zz_IX", "/species/C_VII", "/species/Li_I?mass_number=6",
+                                  "/species/Li_I?mass_number=abc", "/species/%00", "/nowhere"])
+def test_unknown_things_are_404_pages(reader, shared, path):
+    response = reader.get(path)
+    assert response.status_code == 404 and response.mimetype == "text/html"
+    assert "Not here" in response.get_data(as_text=True)
+
+
+def test_wrong_method_is_405(reader, shared):
+    assert reader.post("/species/Li_I").status_code in (400, 405)  # CSRF may refuse first; never 500
+    assert reader.delete("/species/Li_I").status_code == 405
