@@ -17,14 +17,10 @@ from levels.catalog import Catalog
 
 
 def _import_colour_cleanly() -> None:
-    """Import colour-science once and drop the mock matplotlib it leaves (see levels.physics.colour)."""
-    try:
-        import colour  # noqa: F401
-    except ImportError:
-        return
-    from levels.physics.colour import _drop_plotting_stand_ins
+    """Import colour-science once without its side effects (see levels.physics.colour)."""
+    from levels.physics.colour import import_colour_science
 
-    _drop_plotting_stand_ins()
+    import_colour_science()
 
 
 _import_colour_cleanly()

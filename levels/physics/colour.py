@@ -150,10 +150,8 @@ def cmf_tables() -> CmfTables:
     """
     with warnings.catch_warnings():
         warnings.simplefilter("ignore")
-        import colour
+        colour = import_colour_science()
         from colour.colorimetry import SDS_LEFS_PHOTOPIC
-
-        _drop_plotting_stand_ins()
 
         cmfs = colour.MSDS_CMFS[_CMF_NAME]
         lef = SDS_LEFS_PHOTOPIC[_V_NAME]
@@ -163,6 +161,22 @@ def cmf_tables() -> CmfTables:
     for arr in (wl, values, v):
         arr.setflags(write=False)
     return CmfTables(wl, values[:, 0].copy(), values[:, 1].copy(), values[:, 2].copy(), v)
+
+
+def import_colour_science():
+    """Import colour-science without its process-wide side effects, and return the module.
+
+    On import, colour-science switches numpy to its legacy (1.13) print mode and,
+    when matplotlib is absent, puts mock ``matplotlib`` modules into
+    ``sys.modules``; both would change the behaviour of unrelated code in the
+    same process, so both are undone here.
+    """
+    options = np.get_printoptions()
+    import colour
+
+    np.set_printoptions(**options)
+    _drop_plotting_stand_ins()
+    return colour
 
 
 def _drop_plotting_stand_ins() -> None:
