@@ -626,8 +626,13 @@ def _store_derived_lines(session: Session, species: Species, actor: str) -> int:
 
     Runs inside the caller's transaction, so an import and its lines land together.
     """
+    from sqlalchemy import select
+
     from levels.physics.combination import build_lines
 
+    # one writer per species at a time rebuilds its derived lines (row lock on PostgreSQL;
+    # SQLite write transactions are serialised already)
+    session.execute(select(Species.id).where(Species.id == species.id).with_for_update())
     name = derived_dataset_name(species.name, species.mass_number)
     old = queries.find_dataset(session, name)
     if old is not None:

@@ -637,6 +637,10 @@ def hydrogenic(obj: Context, spectrum: str, mass_number: int | None, n_max: int,
                f"nuclear radius {report['charge_radius_fm']:.4f} fm ({report['radius_source']})")
 
 
+# store maintenance commands (check, export-store, import-store, history, retract, restore)
+from levels import cli_store  # noqa: E402,F401  (registers its commands on ``main``)
+
+
 def run() -> None:  # pragma: no cover - console entry for ``python -m levels``
     main()
 

@@ -210,11 +210,14 @@ def run_in_transaction(engine: Engine, work: Callable[[Session], T], *, attempts
     """Run ``work(session)`` in one transaction, committed at the end, rolled back on error.
 
     SQLite ``database is locked`` and PostgreSQL serialization failures are retried
-    with exponential backoff and jitter; a unique-constraint violation becomes
+    with exponential backoff and jitter. A unique-constraint violation is retried
+    twice (two writers creating the same new species or default dataset name at
+    once: the retry finds the other's row), then becomes
     :class:`~levels.errors.AlreadyExistsError`.
     """
     factory = session_factory(engine.execution_options(levels_write=True))
     delay = 0.05
+    unique_retries = 2
     for attempt in range(1, attempts + 1):
         try:
             with factory() as session, session.begin():
@@ -228,6 +231,10 @@ def run_in_transaction(engine: Engine, work: Callable[[Session], T], *, attempts
         except IntegrityError as exc:
             message = str(exc.orig)
             if "unique" in message.lower() or getattr(exc.orig, "sqlstate", None) == "23505":
+                if unique_retries > 0 and attempt < attempts:
+                    unique_retries -= 1
+                    time.sleep(delay * (1 + random.random()))
+                    continue
                 raise AlreadyExistsError(f"already exists: {_first_line(message)}") from None
             raise StoreError(f"the store refused the write: {_first_line(message)}") from None
     raise AssertionError("unreachable")
