@@ -143,7 +143,7 @@ def build_lines(energy_cm1: ArrayLike, unc_cm1: ArrayLike, two_j: ArrayLike, par
         codes = np.empty(0, dtype=np.int8)
     sigma, sigma_unc = ritz_wavenumbers(e, u, lower, upper)
     vacuum = 1e7 / sigma if sigma.size else sigma.copy()
-    order = np.argsort(vacuum, kind="stable")
+    order = np.argsort(vacuum)
     lower, upper, codes, sigma, sigma_unc, vacuum = (a[order] for a in (lower, upper, codes, sigma, sigma_unc, vacuum))
     with warnings.catch_warnings():
         warnings.simplefilter("ignore", air.AirRangeWarning)
