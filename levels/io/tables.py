@@ -313,7 +313,7 @@ def _human(value) -> str:
     if isinstance(value, float):
         if math.isnan(value):
             return ""
-        if value != 0 and (abs(value) >= 1e7 or abs(value) < 1e-3):
+        if value != 0 and (abs(value) >= 1e6 or abs(value) < 1e-3):
             return f"{value:.4e}"
         return f"{value:.6g}" if abs(value) < 1e3 else f"{value:.4f}".rstrip("0").rstrip(".")
     return str(value)
