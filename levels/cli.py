@@ -558,7 +558,7 @@ def serve(obj: Context, host: str, port: int, threads: int) -> None:
 
     obj.catalog.check_ready()
     click.echo(f"serving {obj.catalog.display_url} at http://{host}:{port}/ (Ctrl-C stops)")
-    webui.serve(host=host, port=port, threads=threads, db=obj.catalog.url)
+    webui.serve(host=host, port=port, threads=threads, config={"LEVELS_DB": obj.catalog.url})
 
 
 class _Progress:
