@@ -114,6 +114,19 @@ class _Row:
             return None
         return value
 
+    def parsed(self, name: str, parser, *, required: bool = False):
+        """``parser(text)`` of a field, recording its NotationError; None when blank or bad."""
+        text = self.text(name)
+        if not text:
+            if required:
+                self.fail(name, "a value is required")
+            return None
+        try:
+            return parser(text)
+        except NotationError as exc:
+            self.fail(name, str(exc))
+            return None
+
     def integer(self, name: str, minimum: int) -> int | None:
         raw = self.fields.get(name)
         if isinstance(raw, int) and not isinstance(raw, bool):
@@ -153,32 +166,12 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
         The record when there is no problem.
     """
     row = _Row(source, line, fields)
-    spectrum = configuration = term = None
-    two_j = None
-    try:
-        spectrum = parse_spectrum(row.text("spectrum"))
-    except NotationError as exc:
-        row.fail("spectrum", str(exc))
+    spectrum = row.parsed("spectrum", parse_spectrum, required=True)
     config_text = row.text("configuration")
-    if not config_text:
-        row.fail("configuration", "a value is required")
-    else:
-        try:
-            configuration = parse_configuration(config_text)
-        except NotationError as exc:
-            row.fail("configuration", str(exc))
-    try:
-        term = parse_term(row.text("term"))
-    except NotationError as exc:
-        row.fail("term", str(exc))
+    configuration = row.parsed("configuration", parse_configuration, required=True)
+    term = row.parsed("term", parse_term)
     j_text = row.text("j")
-    if not j_text:
-        row.fail("j", "a value is required")
-    else:
-        try:
-            two_j = parse_j(j_text)
-        except NotationError as exc:
-            row.fail("j", str(exc))
+    two_j = row.parsed("j", parse_j, required=True)
     energy = row.number("energy_cm1", required=True, minimum=0.0, maximum=MAX_ENERGY_CM1)
     unc = row.number("unc_cm1", minimum=0.0, maximum=MAX_ENERGY_CM1)
     lifetime = row.number("lifetime_s", strictly_positive=True)
@@ -312,11 +305,7 @@ def validate_line(fields: Mapping[str, object], *, source: str,
                   line: int | None = None) -> tuple[LineRecord | None, list[Problem]]:
     """Validate one measured line row (labels are checked against levels later)."""
     row = _Row(source, line, fields)
-    spectrum = None
-    try:
-        spectrum = parse_spectrum(row.text("spectrum"))
-    except NotationError as exc:
-        row.fail("spectrum", str(exc))
+    spectrum = row.parsed("spectrum", parse_spectrum, required=True)
     lower, upper = row.text("lower"), row.text("upper")
     if not lower:
         row.fail("lower", "a level label is required")

@@ -78,6 +78,7 @@ from scipy.special import digamma, gammaln
 
 from levels.errors import PhysicsInputError, QuantumNumberError
 from levels.physics import nuclear as _nuclear
+from levels.physics.nuclear import check_z as _check_z
 from levels.physics.nuclear import charge_radius_fm
 from levels.units import ALPHA, CM1_HZ, LAMBDA_C_BAR, M_E_U, R_INF_C_HZ
 
@@ -400,18 +401,6 @@ def _as_int_array(name: str, value) -> np.ndarray:
         if not np.all(np.isfinite(arr)) or np.any(arr != np.round(arr)):
             raise QuantumNumberError(f"{name} must be integer-valued")
     return arr.astype(np.int64)
-
-
-def _check_z(z) -> int:
-    try:
-        ok = not isinstance(z, (bool, np.bool_)) and float(z).is_integer()
-    except (TypeError, ValueError):
-        ok = False
-    if not ok:
-        raise QuantumNumberError(f"Z must be an integer, got {z!r}")
-    if not 1 <= int(z) <= 118:
-        raise QuantumNumberError(f"Z must satisfy 1 <= Z <= 118, got {z}")
-    return int(z)
 
 
 def _check_states(n, l, two_j) -> tuple[np.ndarray, np.ndarray, np.ndarray]:

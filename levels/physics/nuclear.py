@@ -38,6 +38,7 @@ from __future__ import annotations
 
 import math
 
+import numpy as np
 import scipy.constants as sc
 
 from levels.errors import PhysicsInputError, QuantumNumberError
@@ -117,9 +118,10 @@ _HYDROGEN_BINDING_EV = sc.physical_constants["Rydberg constant times hc in eV"][
 )
 
 
-def _check_z(z: int) -> int:
+def check_z(z: int) -> int:
+    """Z as an int after checking it is a whole number in 1..118 (QuantumNumberError otherwise)."""
     try:
-        ok = not isinstance(z, bool) and float(z).is_integer()
+        ok = not isinstance(z, (bool, np.bool_)) and float(z).is_integer()
     except (TypeError, ValueError):
         ok = False
     if not ok:
@@ -130,7 +132,7 @@ def _check_z(z: int) -> int:
 
 
 def _check_nucleus(z: int, mass_number: int) -> tuple[int, int]:
-    z = _check_z(z)
+    z = check_z(z)
     try:
         ok = not isinstance(mass_number, bool) and float(mass_number).is_integer()
     except (TypeError, ValueError):
@@ -307,7 +309,7 @@ def electron_binding_energy_ev(z: int) -> float:
     >>> round(electron_binding_energy_ev(26) / 1e3, 1)
     34.8
     """
-    z = _check_z(z)
+    z = check_z(z)
     if z == 1:
         return _HYDROGEN_BINDING_EV
     return 14.4381 * z**2.39 + 1.55468e-6 * z**5.35
@@ -340,7 +342,7 @@ def nuclear_mass_u(z: int, atomic_mass_u: float) -> float:
     >>> round(nuclear_mass_u(1, 1.00782503223), 9)   # CODATA proton: 1.007276467 u
     1.007276467
     """
-    z = _check_z(z)
+    z = check_z(z)
     if not (math.isfinite(atomic_mass_u) and atomic_mass_u > z * M_E_U):
         raise PhysicsInputError(
             f"atomic mass must be a finite number larger than Z electron masses, got {atomic_mass_u!r} u"
