@@ -164,13 +164,17 @@ class Catalog:
             rows = []
             for species in queries.all_species(session):
                 c = counts.get(species.id, {"levels": 0, "lines": 0, "datasets": set()})
-                limit = queries.ionization_limit(session, species, datasets)
+                limits = queries.ionization_limits(session, species, datasets)
+                limit = limits[0][0] if limits else None
                 rows.append({
                     "spectrum": species.name, "z": species.z, "charge": species.charge,
                     "mass_number": species.mass_number, "levels": c["levels"], "lines": c["lines"],
                     "ionization_cm1": limit.energy_cm1 if limit else None,
                     "ionization_unc_cm1": limit.unc_cm1 if limit else None,
                     "datasets": "; ".join(sorted(c["datasets"])),
+                    "all_limits": "; ".join(
+                        f"{lim.energy_cm1:.4f}" + (f" ± {lim.unc_cm1:.4f}" if lim.unc_cm1 else "") + f" ({name})"
+                        for lim, name in limits),
                 })
             return rows
 

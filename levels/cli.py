@@ -145,9 +145,14 @@ def species(obj: Context, fmt: str, output: str | None) -> None:
       levels species --format csv
     """
     rows = obj.catalog.species_rows()
-    emit(rows, SPECIES_COLUMNS, fmt, obj.catalog.provenance("species"), output=output,
+    columns = SPECIES_COLUMNS
+    if fmt == "table" and any(r["all_limits"].count("(") > 1 for r in rows):
+        # people see every stored and fitted limit side by side; files keep the column contract
+        columns = SPECIES_COLUMNS + ("all_limits",)
+    emit(rows, columns, fmt, obj.catalog.provenance("species"), output=output,
          units={"ionization_cm1": "cm-1", "ionization_unc_cm1": "cm-1"},
-         headings={"ionization_cm1": "ionization [cm-1]", "ionization_unc_cm1": "unc [cm-1]"})
+         headings={"ionization_cm1": "ionization [cm-1]", "ionization_unc_cm1": "unc [cm-1]",
+                   "all_limits": "all limits [cm-1] (dataset)"})
 
 
 @main.command()

@@ -262,6 +262,17 @@ def ionization_limit(session: Session, species: Species, datasets: Sequence[Data
     return min(rows, key=lambda r: rank[r.dataset_id]) if rows else None
 
 
+def ionization_limits(session: Session, species: Species, datasets: Sequence[Dataset]) -> list[tuple[IonizationLimit, str]]:
+    """Every ionization limit of a species in the given datasets, in their precedence, with dataset names."""
+    rank = {d.id: i for i, d in enumerate(datasets)}
+    names = {d.id: d.name for d in datasets}
+    if not rank:
+        return []
+    rows = session.scalars(select(IonizationLimit).where(IonizationLimit.species_id == species.id,
+                                                         IonizationLimit.dataset_id.in_(list(rank)))).all()
+    return [(r, names[r.dataset_id]) for r in sorted(rows, key=lambda r: rank[r.dataset_id])]
+
+
 def all_species(session: Session) -> list[Species]:
     """Every stored species, by Z, charge and mass number."""
     return list(session.scalars(select(Species).order_by(Species.z, Species.charge, Species.mass_number)))

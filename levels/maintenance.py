@@ -1,0 +1,243 @@
+"""Store maintenance as units of work on a :class:`~levels.catalog.Catalog`.
+
+What a lab needs to keep years of measured levels safe, next to the catalog's
+own writes:
+
+- :func:`check` - the integrity check of :mod:`levels.store.integrity`;
+- :func:`export_store` / :func:`import_store` - the whole store to and from
+  one ``levels-store`` file (:mod:`levels.store.backup`), for backups and for
+  moving between SQLite and PostgreSQL;
+- :func:`history` - the audit log (who wrote what, when);
+- :func:`retract_dataset` / :func:`restore_dataset` - hide a measured or
+  imported dataset from every default query without deleting a row, and
+  bring it back. Both run in one transaction that also rebuilds the derived
+  lines of the dataset's species (their levels change with the precedence) and
+  writes an audit entry.
+
+Every write here goes through :meth:`Catalog.write` (one transaction with
+retries) and records an audit entry in the same transaction.
+"""
+
+from __future__ import annotations
+
+import json
+import os
+from collections.abc import Callable
+
+from sqlalchemy import func, or_, select
+from sqlalchemy.orm import Session
+
+from levels.catalog import Catalog, _store_derived_lines
+from levels.errors import LevelsError
+from levels.store import backup, integrity, queries
+from levels.store.schema import AuditEntry, Dataset, IonizationLimit, Level, Line, Species
+
+#: kinds of dataset that can be retracted (computed sets are replaced by recomputing them)
+RETRACTABLE_KINDS = ("measured", "imported")
+HISTORY_COLUMNS = ("id", "at", "actor", "action", "target", "detail")
+
+
+class DatasetStateError(LevelsError, ValueError):
+    """The dataset is not in a state that allows the operation (already retracted, computed, ...)."""
+
+
+# ----------------------------------------------------------------- check
+
+def check(catalog: Catalog) -> integrity.StoreReport:
+    """Integrity report of the catalog's store (see :mod:`levels.store.integrity`).
+
+    Returns
+    -------
+    levels.store.integrity.StoreReport
+        Counts per table, checks run and problems found (``report.ok`` when none).
+    """
+    return integrity.inspect_store(catalog.engine)
+
+
+# ----------------------------------------------------------------- export / import
+
+def export_store(catalog: Catalog, path: str | os.PathLike,
+                 progress: Callable[[str, int, int], None] | None = None) -> backup.TransferSummary:
+    """Write the whole store to ``path`` (``levels-store`` JSON lines; ``.gz`` compresses).
+
+    A read: nothing is written to the store, so no audit entry.
+    """
+    return backup.export_store(catalog.engine, path, progress=progress)
+
+
+def import_store(catalog: Catalog, path: str | os.PathLike, *, audit: bool = True) -> backup.TransferSummary:
+    """Fill the catalog's empty store from a ``levels-store`` file, all or nothing.
+
+    Parameters
+    ----------
+    catalog : Catalog
+        The target store (uninitialised or empty at the current schema).
+    path : path
+        The file written by :func:`export_store`.
+    audit : bool
+        Record an ``import-store`` audit entry after the imported rows (default).
+        With False the store becomes an exact replica of the exported one
+        (its own export file is byte-identical to ``path``).
+
+    Raises
+    ------
+    levels.store.backup.StoreFileError
+        Damaged file (checksum), another format or schema revision, or a non-empty store.
+    """
+
+    def record(session: Session, header: dict, counts: dict) -> None:
+        if audit:
+            queries.record_audit(session, "import-store", f"file {os.path.basename(os.fspath(path))}",
+                                 {"sha256": header["sha256"], "rows": counts,
+                                  "format_version": header["version"], "written_by": header.get("written_by")},
+                                 actor=catalog.actor)
+
+    return backup.import_store(catalog.engine, path, after=record)
+
+
+# ----------------------------------------------------------------- history
+
+def history(catalog: Catalog, *, limit: int | None = 50, action: str | None = None,
+            target: str | None = None) -> list[dict]:
+    """Audit entries, newest first.
+
+    Parameters
+    ----------
+    limit : int or None
+        At most this many entries (None or 0: all).
+    action : str, optional
+        Only entries of this action (``import-levels``, ``retract-dataset`` ...).
+    target : str, optional
+        Only entries whose target contains this text (``dataset li-cell-7``).
+
+    Returns
+    -------
+    list of dict
+        Rows with HISTORY_COLUMNS; ``at`` is ISO 8601 UTC, ``detail`` a dict.
+    """
+    if limit is not None and limit < 0:
+        raise DatasetStateError("limit must not be negative")
+
+    def work(session: Session) -> list[dict]:
+        query = select(AuditEntry).order_by(AuditEntry.id.desc())
+        if action:
+            query = query.where(AuditEntry.action == action)
+        if target:
+            query = query.where(AuditEntry.target.contains(target, autoescape=True))
+        if limit:
+            query = query.limit(limit)
+        return [audit_row(entry) for entry in session.scalars(query)]
+
+    return catalog.read(work)
+
+
+def audit_row(entry: AuditEntry) -> dict:
+    """An audit entry as a row of HISTORY_COLUMNS."""
+    try:
+        detail = json.loads(entry.detail_json or "{}")
+    except ValueError:
+        detail = {"unparsed": entry.detail_json}
+    return {"id": entry.id, "at": backup.encode_value(entry.at, "datetime"), "actor": entry.actor,
+            "action": entry.action, "target": entry.target, "detail": detail}
+
+
+# ----------------------------------------------------------------- retract / restore
+
+def dataset_species(session: Session, dataset: Dataset) -> list[Species]:
+    """The species a dataset has levels, lines or limits of, by Z, charge and mass number."""
+    ids = set(session.scalars(select(Level.species_id).where(Level.dataset_id == dataset.id).distinct()))
+    ids |= set(session.scalars(select(Line.species_id).where(Line.dataset_id == dataset.id).distinct()))
+    ids |= set(session.scalars(select(IonizationLimit.species_id)
+                               .where(IonizationLimit.dataset_id == dataset.id).distinct()))
+    if not ids:
+        return []
+    return list(session.scalars(select(Species).where(Species.id.in_(ids))
+                                .order_by(Species.z, Species.charge, Species.mass_number)))
+
+
+def _dependent_lines(session: Session, dataset: Dataset) -> dict[str, int]:
+    """Lines of other visible datasets that join levels of ``dataset``: dataset name -> count."""
+    own = select(Level.id).where(Level.dataset_id == dataset.id)
+    rows = session.execute(
+        select(Dataset.name, func.count(Line.id)).join(Dataset, Dataset.id == Line.dataset_id)
+        .where(Line.dataset_id != dataset.id, Dataset.retracted == 0,
+               or_(Line.lower_id.in_(own), Line.upper_id.in_(own)))
+        .group_by(Dataset.name).order_by(Dataset.name))
+    return {name: int(count) for name, count in rows}
+
+
+def _set_retracted(catalog: Catalog, dataset: str | int, retracted: bool, reason: str) -> dict:
+    verb = "retract" if retracted else "restore"
+
+    def work(session: Session) -> dict:
+        ds = queries.require_dataset(session, dataset)
+        if ds.kind not in RETRACTABLE_KINDS:
+            raise DatasetStateError(
+                f"dataset {ds.name!r} is {ds.kind}; only measured or imported datasets are retracted "
+                "(a computed dataset is replaced by computing it again)")
+        if bool(ds.retracted) == retracted:
+            state = "already retracted" if retracted else "not retracted"
+            raise DatasetStateError(f"dataset {ds.name!r} is {state}")
+        ds.retracted = 1 if retracted else 0
+        session.flush()
+        derived = {}
+        for species in dataset_species(session, ds):
+            derived[species.name] = _store_derived_lines(session, species, catalog.actor)
+        dependent = _dependent_lines(session, ds) if retracted else {}
+        detail = {"dataset_id": ds.id, "kind": ds.kind, "reason": reason, "derived_lines": derived}
+        if dependent:
+            detail["lines_of_other_datasets"] = dependent
+        queries.record_audit(session, f"{verb}-dataset", f"dataset {ds.name}", detail, actor=catalog.actor)
+        warnings = [f"{count} line{'s' if count != 1 else ''} of dataset {name!r} join levels of {ds.name!r}; "
+                    f"they stay in {name!r} (retract it too if they should go)"
+                    for name, count in dependent.items()]
+        return {"dataset": ds.name, "dataset_id": ds.id, "kind": ds.kind, "retracted": retracted,
+                "species": list(derived), "derived_lines": derived, "warnings": warnings}
+
+    return catalog.write(work)
+
+
+def retract_dataset(catalog: Catalog, dataset: str | int, *, reason: str = "") -> dict:
+    """Hide a measured or imported dataset from default queries, keeping every row.
+
+    In one transaction: ``datasets.retracted = 1``, the derived lines of each
+    species of the dataset rebuilt from the levels still visible, and a
+    ``retract-dataset`` audit entry (with ``reason``). A query that names the
+    dataset explicitly still sees it.
+
+    Parameters
+    ----------
+    catalog : Catalog
+    dataset : str or int
+        Dataset name or id.
+    reason : str
+        Why (kept in the audit log).
+
+    Returns
+    -------
+    dict
+        ``dataset``, ``dataset_id``, ``kind``, ``retracted``, ``species``,
+        ``derived_lines`` (species name -> lines rebuilt) and ``warnings`` (lines
+        of other datasets that join this dataset's levels).
+
+    Raises
+    ------
+    NotFoundError
+        No such dataset.
+    DatasetStateError
+        The dataset is computed or already retracted.
+    """
+    return _set_retracted(catalog, dataset, True, reason)
+
+
+def restore_dataset(catalog: Catalog, dataset: str | int, *, reason: str = "") -> dict:
+    """Bring a retracted dataset back into default queries (the reverse of :func:`retract_dataset`).
+
+    Raises
+    ------
+    NotFoundError
+        No such dataset.
+    DatasetStateError
+        The dataset is computed or not retracted.
+    """
+    return _set_retracted(catalog, dataset, False, reason)
