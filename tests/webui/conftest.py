@@ -23,8 +23,8 @@ from levels.catalog import Catalog
 from tests.conftest import BACKENDS, POSTGRES_URL, _postgres_schema_url
 from levels.physics.air import vacuum_to_air
 from levels.store import database, queries
-from levels.store.schema import Dataset, IonizationLimit, Level, Line
-from webui import create_app, make_server
+from levels.store.schema import IonizationLimit, Level, Line
+from webui import create_app, make_server, stop_server
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "seed_data" / "demo" / "sample-li-cell.csv"
@@ -34,6 +34,16 @@ XSS_LABEL = "<script>alert('x')</script>"
 XSS_DATASET = "<b>xss-set</b>"
 #: fixture value near the Li I ionization energy (from memory, about 43487 cm-1); only drawn, never checked
 LI_LIMIT_CM1 = 43487.1
+MULTI_ERROR_CSV = (
+    "# invented rows, each with a different problem\n"
+    "spectrum,configuration,term,j,energy_cm1,unc_cm1\n"
+    "Li I,1s2.2s,2S,1/2,0,\n"
+    "Li I,1s2.3d,2D,5/3,31283.1,0.1\n"          # J not a half-integer
+    "Li I,1s2.3p,2P°,1/2,abc,0.1\n"             # energy not a number
+    "Xq I,1s2.4s,2S,1/2,35012.0,0.1\n"          # unknown element
+    "Li I,1s2.4p,2P°,1/2,36469.8,-1\n"          # negative uncertainty
+    "Li I,1s2.4d,2P°,3/2,36623.4,0.1\n"         # term parity contradicts the configuration
+).encode()
 SCREENSHOTS = ROOT / "test-artifacts" / "screenshots"
 
 
@@ -204,7 +214,7 @@ class LiveServer:
 
     def __init__(self, application):
         self.app = application
-        self.server = make_server(application, "127.0.0.1", 0, threads=4)
+        self.server = make_server(application, "127.0.0.1", 0, threads=4, asyncore_loop_timeout=0.1)
         self.url = f"http://127.0.0.1:{self.server.effective_port}"
         self.thread = threading.Thread(target=self.server.run, daemon=True)
 
@@ -213,8 +223,7 @@ class LiveServer:
         return self
 
     def __exit__(self, *exc):
-        self.server.close()
-        self.thread.join(timeout=5)
+        stop_server(self.server, self.thread)
 
 
 def dataset_names(catalog: Catalog) -> list[str]:
@@ -226,5 +235,3 @@ def count_rows(catalog: Catalog, model) -> int:
 
     return catalog.read(lambda s: s.scalar(select(func.count()).select_from(model)))
 
-
-__all__ = ["Dataset", "Level", "Line"]

@@ -7,7 +7,7 @@ import pytest
 from levels.errors import LevelsError
 from webui import DEFAULTS, UnsafeBindError, check_bind, create_app, is_loopback, make_server
 
-from tests.webui.conftest import LiveServer, make_config
+from tests.webui.conftest import LiveServer
 
 
 def test_one_catalog_per_app_and_no_debug(app, store_url):
@@ -17,7 +17,19 @@ def test_one_catalog_per_app_and_no_debug(app, store_url):
     assert set(app.blueprints) == {"browse", "edit", "api"}
 
 
-def test_config_from_the_environment(monkeypatch, tmp_path, store, store_url):
+@pytest.fixture
+def empty_url(tmp_path):
+    """An initialised, empty SQLite store (configuration tests need no data nor both backends)."""
+    from levels.catalog import Catalog
+
+    url = f"sqlite:///{tmp_path / 'empty.sqlite'}"
+    with Catalog(url) as catalog:
+        catalog.init()
+    return url
+
+
+def test_config_from_the_environment(monkeypatch, tmp_path, empty_url):
+    store_url = empty_url
     monkeypatch.setenv("LEVELS_DB", store_url)
     monkeypatch.setenv("LEVELS_SECRET_KEY", "from-env")
     monkeypatch.setenv("LEVELS_API_TOKEN", "env-token")
@@ -30,7 +42,8 @@ def test_config_from_the_environment(monkeypatch, tmp_path, store, store_url):
         app.extensions["levels"]["catalog"].close()
 
 
-def test_instance_file_is_read_and_the_mapping_wins(monkeypatch, tmp_path, store, store_url):
+def test_instance_file_is_read_and_the_mapping_wins(monkeypatch, tmp_path, empty_url):
+    store_url = empty_url
     for name in ("LEVELS_DB", "LEVELS_SECRET_KEY", "LEVELS_API_TOKEN"):
         monkeypatch.delenv(name, raising=False)
     instance = tmp_path / "inst"
@@ -46,7 +59,8 @@ def test_instance_file_is_read_and_the_mapping_wins(monkeypatch, tmp_path, store
         app.extensions["levels"]["catalog"].close()
 
 
-def test_missing_secret_key_gets_an_ephemeral_one(monkeypatch, tmp_path, store_url):
+def test_missing_secret_key_gets_an_ephemeral_one(monkeypatch, tmp_path, empty_url):
+    store_url = empty_url
     monkeypatch.delenv("LEVELS_SECRET_KEY", raising=False)
     app = create_app({"LEVELS_DB": store_url, "LEVELS_INSTANCE_PATH": str(tmp_path)})
     try:
@@ -55,7 +69,8 @@ def test_missing_secret_key_gets_an_ephemeral_one(monkeypatch, tmp_path, store_u
         app.extensions["levels"]["catalog"].close()
 
 
-def test_debug_cannot_be_switched_on(tmp_path, store_url):
+def test_debug_cannot_be_switched_on(tmp_path, empty_url):
+    store_url = empty_url
     app = create_app({"LEVELS_DB": store_url, "DEBUG": True, "LEVELS_INSTANCE_PATH": str(tmp_path)})
     try:
         assert app.debug is False
@@ -98,7 +113,8 @@ def test_loopback_detection(host, loopback):
     assert is_loopback(host) is loopback
 
 
-def test_serving_beyond_loopback_needs_a_token(app):
+def test_serving_beyond_loopback_needs_a_token(tmp_path, empty_url):
+    app = create_app({"LEVELS_DB": empty_url, "SECRET_KEY": "x", "LEVELS_INSTANCE_PATH": str(tmp_path)})
     app.config["LEVELS_API_TOKEN"] = None
     with pytest.raises(UnsafeBindError, match="no API token") as info:
         make_server(app, "0.0.0.0", 0)
@@ -106,9 +122,11 @@ def test_serving_beyond_loopback_needs_a_token(app):
     check_bind("127.0.0.1", app)  # loopback is fine without a token
     app.config["LEVELS_API_TOKEN"] = "set"
     check_bind("0.0.0.0", app)  # with a token the bind is allowed (not opened here)
+    app.extensions["levels"]["catalog"].close()
 
 
-def test_serve_refuses_before_starting(monkeypatch, tmp_path, store_url):
+def test_serve_refuses_before_starting(monkeypatch, tmp_path, empty_url):
+    store_url = empty_url
     import webui
 
     monkeypatch.delenv("LEVELS_API_TOKEN", raising=False)

@@ -1,0 +1,223 @@
+"""The JSON API under ``/api/v1`` (contract in the design; OpenAPI 3 at ``/api/v1/openapi.json``).
+
+Reads are open. ``POST /datasets`` needs ``Authorization: Bearer <token>``
+(the site's ``LEVELS_API_TOKEN``; without one configured, writes are off), a
+JSON body, and is all-or-nothing: every level is validated by
+:mod:`levels.io.records` first, then the catalog writes the dataset in one
+transaction. Errors are ``{"error": {"code", "message", "field"}}`` with a 4xx
+status (validation errors also list every problem under ``problems``).
+"""
+
+from __future__ import annotations
+
+import hmac
+import math
+
+from flask import Blueprint, current_app, request, url_for
+
+from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, SPECIES_COLUMNS
+from levels.errors import AlreadyExistsError, InputFileError, NotFoundError, Problem, StoreError
+from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
+from levels.io.records import validate_levels
+
+from webui import params, services
+from webui.downloads import json_response, json_table
+from webui.openapi import openapi_document
+
+bp = Blueprint("api", __name__, url_prefix="/api/v1")
+
+API_SOURCE = "<api>"
+#: most levels accepted in one POST /datasets
+MAX_LEVELS_PER_POST = 100_000
+DATASET_KEYS = {"name", "kind", "sample", "citation", "description", "levels", "lines"}
+LEVEL_KEYS = set(LEVEL_FIELDS) - {"dataset"}
+
+
+def error(status: int, code: str, message: str, field: str | None = None, problems: list | None = None,
+          headers: dict | None = None):
+    """A JSON error response ``{"error": {"code", "message", "field"}}``."""
+    body = {"error": {"code": code, "message": message, "field": field}}
+    if problems is not None:
+        body["error"]["problems"] = problems
+    return json_response(body, status, headers)
+
+
+def _species(spectrum: str):
+    return services.resolve_species(services.catalog(), spectrum, None)
+
+
+@bp.get("/openapi.json")
+def openapi():
+    """The OpenAPI 3 document of this API."""
+    return json_response(openapi_document())
+
+
+@bp.get("/species")
+def species():
+    """Every stored species (species columns of the contract)."""
+    cat = services.catalog()
+    rows = cat.species_rows()
+    used = sorted({name for r in rows for name in (r["datasets"] or "").split("; ") if name})
+    return json_response(json_table(rows, SPECIES_COLUMNS, cat.provenance("species", used), total=len(rows)))
+
+
+@bp.get("/species/<spectrum>/levels")
+def levels(spectrum: str):
+    """Levels of a species; ``dataset`` (repeatable or comma-separated) sets the precedence."""
+    try:
+        ref = _species(spectrum)
+    except NotFoundError as exc:
+        return error(404, "not_found", str(exc), "spectrum")
+    try:
+        names = params.list_param(request.args, "dataset")
+    except params.BadParameter as exc:
+        return error(400, "bad_parameter", exc.message, exc.field)
+    cat = services.catalog()
+    for name in names:
+        if name not in ref.datasets:
+            return error(400, "bad_parameter", f"{ref.name} has no levels in a dataset named {name!r}", "dataset")
+    rows = cat.level_rows(ref.spectrum, names or None)
+    used = sorted({r["dataset"] for r in rows})
+    return json_response(json_table(rows, LEVEL_COLUMNS, cat.provenance(f"levels {ref.name}", used),
+                                    total=len(rows)))
+
+
+@bp.get("/species/<spectrum>/lines")
+def lines(spectrum: str):
+    """Lines of a species in a window, filtered, paged by ``limit`` and ``offset``."""
+    try:
+        ref = _species(spectrum)
+    except NotFoundError as exc:
+        return error(404, "not_found", str(exc), "spectrum")
+    try:
+        flt = params.line_filter(request.args, strict=True)
+        limit, offset = params.api_window(request.args)
+    except params.BadParameter as exc:
+        return error(400, "bad_parameter", exc.message, exc.field)
+    cat = services.catalog()
+    rows, total = cat.line_rows(flt.query(ref.name, limit=limit, offset=offset)) if ref.lines_reachable else ([], 0)
+    used = sorted({r["dataset"] for r in rows})
+    provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium)
+    return json_response(json_table(rows, LINE_COLUMNS, provenance, total=total, limit=limit, offset=offset))
+
+
+@bp.get("/datasets/<int:dataset_id>")
+def dataset(dataset_id: int):
+    """One dataset's record with its counts."""
+    if dataset_id > params.MAX_ID:
+        return error(404, "not_found", f"no dataset {dataset_id} in the store", "id")
+    try:
+        info = services.catalog().dataset_info(dataset_id)
+    except NotFoundError as exc:
+        return error(404, "not_found", str(exc), "id")
+    return json_response({"dataset": info})
+
+
+# ----------------------------------------------------------------- writes
+
+def _authorised() -> tuple[bool, str]:
+    token = current_app.config.get("LEVELS_API_TOKEN")
+    if not token:
+        return False, "writes through the API are off: this site has no API token (set LEVELS_API_TOKEN)"
+    header = request.headers.get("Authorization", "")
+    scheme, _, given = header.partition(" ")
+    if scheme.lower() != "bearer" or not given:
+        return False, "send the site's API token as 'Authorization: Bearer <token>'"
+    if not hmac.compare_digest(given.strip().encode("utf-8", "replace"), token.encode("utf-8")):
+        return False, "the API token is not valid"
+    return True, ""
+
+
+def _problem_json(problem: Problem) -> dict:
+    field = problem.field
+    if problem.line is not None:
+        field = f"levels[{problem.line - 1}]" + (f".{problem.field}" if problem.field else "")
+    return {"field": field, "message": problem.message}
+
+
+def _scalar_ok(value) -> bool:
+    if value is None or isinstance(value, str):
+        return True
+    if isinstance(value, bool):
+        return False
+    if isinstance(value, (int, float)):
+        return math.isfinite(value)
+    return False
+
+
+@bp.post("/datasets")
+def create_dataset():
+    """Create a measured (or imported) dataset with its levels, all-or-nothing."""
+    ok, why = _authorised()
+    if not ok:
+        return error(401, "unauthorised", why, None, headers={"WWW-Authenticate": 'Bearer realm="levels"'})
+    if request.mimetype != "application/json":
+        return error(415, "unsupported_media_type", "send the body as application/json", None)
+    body = request.get_json(silent=True)
+    if not isinstance(body, dict):
+        return error(400, "bad_body", "the body must be a JSON object", None)
+    unknown = sorted(set(body) - DATASET_KEYS)
+    if unknown:
+        return error(400, "bad_body", f"unknown field {unknown[0]!r}; known: {', '.join(sorted(DATASET_KEYS))}",
+                     unknown[0])
+    for key in ("name", "sample", "citation", "description", "kind"):
+        if key in body and body[key] is not None and not isinstance(body[key], str):
+            return error(400, "bad_body", f"{key} must be a string", key)
+    name = (body.get("name") or "").strip()
+    if not name or len(name) > 200:
+        return error(400, "bad_body", "name (1 to 200 characters) is required", "name")
+    kind = body.get("kind") or "measured"
+    if kind not in ("measured", "imported"):
+        return error(400, "bad_body", "kind must be 'measured' or 'imported'", "kind")
+    sample = (body.get("sample") or "").strip() or None
+    if sample and len(sample) > 200:
+        return error(400, "bad_body", "sample must be at most 200 characters", "sample")
+    for key, limit in (("citation", 4000), ("description", 4000)):
+        if len(body.get(key) or "") > limit:
+            return error(400, "bad_body", f"{key} must be at most {limit} characters", key)
+    if body.get("lines"):
+        return error(422, "not_supported", "lines cannot be posted yet; post the levels of the dataset", "lines")
+    items = body.get("levels")
+    if not isinstance(items, list) or not items:
+        return error(400, "bad_body", "levels must be a non-empty list of level objects", "levels")
+    if len(items) > MAX_LEVELS_PER_POST:
+        return error(413, "too_large", f"at most {MAX_LEVELS_PER_POST} levels per request", "levels")
+    shape_problems = []
+    for index, item in enumerate(items):
+        if not isinstance(item, dict):
+            shape_problems.append({"field": f"levels[{index}]", "message": "each level must be a JSON object"})
+            continue
+        for key in sorted(set(item) - LEVEL_KEYS):
+            shape_problems.append({"field": f"levels[{index}].{key}",
+                                   "message": f"unknown level field; known: {', '.join(sorted(LEVEL_KEYS))}"})
+        for key, value in item.items():
+            if key in LEVEL_KEYS and not _scalar_ok(value):
+                shape_problems.append({"field": f"levels[{index}].{key}",
+                                       "message": "must be a string or a finite number"})
+        if len(shape_problems) >= 100:
+            break
+    if shape_problems:
+        first = shape_problems[0]
+        return error(400, "invalid_levels", first["message"], first["field"], shape_problems)
+    try:
+        records = validate_levels(((i + 1, item) for i, item in enumerate(items)), source=API_SOURCE,
+                                  default_dataset=name)
+    except InputFileError as exc:
+        problems = [_problem_json(p) for p in exc.problems]
+        return error(400, "invalid_levels", problems[0]["message"], problems[0]["field"], problems)
+    cat = services.catalog()
+    try:
+        report = cat.import_level_records(records, source=API_SOURCE, sample=sample, kind=kind,
+                                          citation=body.get("citation") or "",
+                                          description=body.get("description") or "posted through the API")
+    except AlreadyExistsError as exc:
+        return error(409, "already_exists", str(exc), "name")
+    except InputFileError as exc:
+        problems = [_problem_json(p) for p in exc.problems]
+        return error(400, "invalid_levels", problems[0]["message"], problems[0]["field"], problems)
+    except StoreError as exc:
+        return error(422, "store_refused", str(exc), None)
+    services.forget_species()
+    info = cat.dataset_info(report.dataset_id)
+    return json_response({"dataset": info}, 201,
+                         {"Location": url_for("api.dataset", dataset_id=report.dataset_id)})

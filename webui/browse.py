@@ -1,0 +1,292 @@
+"""Reading pages: species catalogue, species page, level diagram, line finder, datasets, downloads.
+
+Every filter is a query-string parameter (pages are permalinks); bad values give
+a 400 page that says which field is wrong, never a server error.
+"""
+
+from __future__ import annotations
+
+from flask import Blueprint, abort, current_app, render_template, request, url_for
+
+from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, LINE_COLUMNS, LINE_UNITS, SPECIES_COLUMNS
+from levels.errors import NotFoundError
+
+from webui import params, security, services
+from webui.downloads import json_response, table_download
+from webui.figures import grotrian_figure
+from webui.params import BadParameter, LevelFilter, LineFilter, Page
+
+bp = Blueprint("browse", __name__)
+
+FORMAT_CONVERTER = "any(csv, json, ecsv)"
+SPECIES_UNITS = {"ionization_cm1": "cm-1", "ionization_unc_cm1": "cm-1"}
+#: how many of the strongest diagram lines are listed as text beside the figure
+LISTED_LINES = 12
+
+
+def _per_page() -> int:
+    return int(current_app.config["LEVELS_PAGE_SIZE"])
+
+
+def _species(spectrum: str) -> services.SpeciesRef:
+    try:
+        return services.resolve_species(services.catalog(), spectrum, request.args.get("mass_number"))
+    except NotFoundError as exc:
+        abort(404, description=str(exc))
+
+
+# ----------------------------------------------------------------- catalogue
+
+@bp.get("/")
+def index():
+    """The species catalogue with a search box."""
+    cat = services.catalog()
+    refs = services.species_refs(cat)
+    errors = {}
+    try:
+        query = params.text_param(request.args, "q")
+    except BadParameter as exc:
+        errors[exc.field] = exc.message
+        query = ""
+    shown = services.search_species(refs, query)
+    return render_template("catalogue.html", refs=shown, total=len(refs), query=query, errors=errors,
+                           ionization_ev=services.ionization_ev), 400 if errors else 200
+
+
+@bp.get(f"/species.<{FORMAT_CONVERTER}:fmt>")
+def species_download(fmt: str):
+    """The species table as CSV, JSON or ECSV."""
+    cat = services.catalog()
+    rows = cat.species_rows()
+    used = sorted({name for r in rows for name in (r["datasets"] or "").split("; ") if name})
+    return table_download(rows, SPECIES_COLUMNS, fmt, cat.provenance("species", used), "species", SPECIES_UNITS)
+
+
+# ----------------------------------------------------------------- species page
+
+def _level_state(ref: services.SpeciesRef, errors: dict):
+    cat = services.catalog()
+    try:
+        flt = params.level_filter(request.args)
+        pg = params.page(request.args, "", _per_page())
+        rows, total = services.level_page(cat, ref, flt, pg)
+    except BadParameter as exc:
+        errors[exc.field] = exc.message
+        flt, pg, rows, total = LevelFilter(), Page(1, _per_page()), [], 0
+    return flt, pg, rows, total
+
+
+def _line_state(ref: services.SpeciesRef | None, errors: dict, prefix: str = "l"):
+    cat = services.catalog()
+    try:
+        flt = params.line_filter(request.args)
+        pg = params.page(request.args, prefix, _per_page())
+        rows, total = services.line_page(cat, ref, flt, pg)
+    except BadParameter as exc:
+        errors[exc.field] = exc.message
+        flt, pg, rows, total = LineFilter(), Page(1, _per_page()), [], 0
+    return flt, pg, rows, total
+
+
+@bp.get("/species/<spectrum>")
+def species(spectrum: str):
+    """A species: facts, the level table and the line table, each filtered and paged."""
+    ref = _species(spectrum)
+    errors: dict[str, str] = {}
+    lflt, lpg, level_rows, level_total = _level_state(ref, errors)
+    nflt, npg, line_rows, line_total = _line_state(ref, errors)
+    return render_template(
+        "species.html", ref=ref, errors=errors, ionization_ev=services.ionization_ev(ref.row),
+        level_filter=lflt, level_page=lpg, levels=level_rows, level_total=level_total,
+        line_filter=nflt, line_page=npg, lines=line_rows, line_total=line_total,
+        multipoles=params.MULTIPOLE_CODES, per_choices=params.PER_PAGE_CHOICES,
+    ), 400 if errors else 200
+
+
+@bp.get(f"/species/<spectrum>/levels.<{FORMAT_CONVERTER}:fmt>")
+def levels_download(spectrum: str, fmt: str):
+    """The species' filtered level table (all pages) as CSV, JSON or ECSV."""
+    ref = _species(spectrum)
+    cat = services.catalog()
+    try:
+        flt = params.level_filter(request.args)
+        rows = services.filtered_levels(cat, ref, flt)
+    except BadParameter as exc:
+        abort(400, description=str(exc))
+    used = sorted({r["dataset"] for r in rows})
+    query = " ".join([f"levels {ref.name}"] + [f"{k}={v}" for k, v in flt.args().items()])
+    return table_download(rows, LEVEL_COLUMNS, fmt, cat.provenance(query, used),
+                          f"{ref.url_name}-levels", LEVEL_UNITS)
+
+
+def _line_download(ref: services.SpeciesRef | None, fmt: str, stem: str):
+    cat = services.catalog()
+    try:
+        flt = params.line_filter(request.args)
+    except BadParameter as exc:
+        abort(400, description=str(exc))
+    rows = services.all_lines(cat, ref, flt)
+    used = sorted({r["dataset"] for r in rows})
+    provenance = cat.provenance(flt.query(services.line_name(ref)).describe(), used,
+                                medium=flt.medium, air_formula=services.air_formula(cat, used))
+    return table_download(rows, LINE_COLUMNS, fmt, provenance, stem, LINE_UNITS)
+
+
+@bp.get(f"/species/<spectrum>/lines.<{FORMAT_CONVERTER}:fmt>")
+def lines_download(spectrum: str, fmt: str):
+    """The species' filtered line list (all pages) as CSV, JSON or ECSV."""
+    ref = _species(spectrum)
+    return _line_download(ref, fmt, f"{ref.url_name}-lines")
+
+
+# ----------------------------------------------------------------- one line
+
+def _line(spectrum: str, line_id: int) -> tuple[services.SpeciesRef, dict]:
+    ref = _species(spectrum)
+    if line_id > params.MAX_ID:
+        abort(404, description=f"no line {line_id} of {ref.name} in the store")
+    try:
+        near = params.number(request.args, "nm", minimum=0.0)
+    except BadParameter:
+        near = None
+    try:
+        return ref, services.find_line(services.catalog(), ref, line_id, near)
+    except NotFoundError as exc:
+        abort(404, description=str(exc))
+
+
+@bp.get("/species/<spectrum>/lines/<int:line_id>")
+def line_page(spectrum: str, line_id: int):
+    """The full record of one line."""
+    ref, row = _line(spectrum, line_id)
+    return render_template("line.html", ref=ref, line=row)
+
+
+@bp.get("/species/<spectrum>/lines/<int:line_id>.json")
+def line_json(spectrum: str, line_id: int):
+    """The full record of one line as JSON (the diagram fetches it on click)."""
+    ref, row = _line(spectrum, line_id)
+    cat = services.catalog()
+    provenance = cat.provenance(f"line {line_id} of {ref.name}", [row["dataset"]])
+    return json_response({"provenance": provenance, "line": row,
+                          "page": url_for("browse.line_page", line_id=line_id, nm=row["vacuum_nm"],
+                                          **ref.url_args())})
+
+
+# ----------------------------------------------------------------- diagram
+
+def _diagram_options():
+    unit = params.choice(request.args, "unit", params.ENERGY_UNITS, "cm-1")
+    max_lines = params.integer(request.args, "max_lines", int(current_app.config["LEVELS_DIAGRAM_MAX_LINES"]),
+                               minimum=1, maximum=params.DIAGRAM_MAX_LINES_CAP)
+    return unit, max_lines
+
+
+@bp.get("/species/<spectrum>/diagram")
+def diagram(spectrum: str):
+    """The level diagram page (the figure itself is fetched from ``diagram.json``)."""
+    ref = _species(spectrum)
+    errors: dict[str, str] = {}
+    flt, unit, max_lines = LineFilter(), "cm-1", int(current_app.config["LEVELS_DIAGRAM_MAX_LINES"])
+    try:
+        flt = params.line_filter(request.args)
+        unit, max_lines = _diagram_options()
+    except BadParameter as exc:
+        errors[exc.field] = exc.message
+    security.allow_plot_styles()
+    return render_template("diagram.html", ref=ref, errors=errors, line_filter=flt, unit=unit,
+                           max_lines=max_lines, multipoles=params.MULTIPOLE_CODES,
+                           units=params.ENERGY_UNITS), 400 if errors else 200
+
+
+@bp.get("/species/<spectrum>/diagram.json")
+def diagram_json(spectrum: str):
+    """The diagram figure with at most ``max_lines`` lines, strongest A first, and what was left out."""
+    try:
+        ref = services.resolve_species(services.catalog(), spectrum, request.args.get("mass_number"))
+    except NotFoundError as exc:
+        return json_response({"error": {"code": "not_found", "message": str(exc), "field": "spectrum"}}, 404)
+    try:
+        flt = params.line_filter(request.args)
+        unit, max_lines = _diagram_options()
+    except BadParameter as exc:
+        return json_response({"error": {"code": "bad_parameter", "message": exc.message, "field": exc.field}}, 400)
+    cat = services.catalog()
+    levels = cat.level_rows(ref.spectrum)
+    lines, total = services.strongest_lines(cat, ref, flt, max_lines)
+    built = grotrian_figure(levels, lines, unit=unit, ionization_cm1=ref.row["ionization_cm1"],
+                            medium=flt.medium, title=f"{ref.name} level diagram")
+    listed = [{k: ln[k] for k in ("id", "lower", "upper", "vacuum_nm", "air_nm", "a_per_s", "multipole")}
+              for ln in lines[:LISTED_LINES]]
+    return json_response({
+        "spectrum": ref.name, "unit": unit, "medium": flt.medium, "filter": flt.args(),
+        "levels": len(levels), "columns": built["columns"],
+        "lines_total": total, "lines_shown": len(lines), "lines_omitted": total - len(lines),
+        "lines_unplaced": built["unplaced"], "max_lines": max_lines,
+        "lines_reachable": ref.lines_reachable,
+        "ionization_cm1": ref.row["ionization_cm1"],
+        "record_base": url_for("browse.species", spectrum=ref.url_name) + "/lines/",
+        "strongest": listed, "figure": built["figure"],
+    })
+
+
+# ----------------------------------------------------------------- line finder
+
+@bp.get("/lines")
+def finder():
+    """Lines of every species (or one) in a wavelength window, with the same filters."""
+    cat = services.catalog()
+    errors: dict[str, str] = {}
+    ref = None
+    species_text = ""
+    try:
+        species_text = params.text_param(request.args, "species")
+    except BadParameter as exc:
+        errors[exc.field] = exc.message
+    if species_text:
+        try:
+            ref = services.resolve_species(cat, species_text)
+        except NotFoundError as exc:
+            errors["species"] = str(exc)
+    rows, total, flt, pg = [], 0, LineFilter(), Page(1, _per_page())
+    if not errors:
+        flt, pg, rows, total = _line_state(ref, errors, prefix="")
+    return render_template("finder.html", errors=errors, species_text=species_text, ref=ref, line_filter=flt,
+                           line_page=pg, lines=rows, line_total=total, multipoles=params.MULTIPOLE_CODES,
+                           per_choices=params.PER_PAGE_CHOICES), 400 if errors else 200
+
+
+@bp.get(f"/lines.<{FORMAT_CONVERTER}:fmt>")
+def finder_download(fmt: str):
+    """The line finder's result (all pages) as CSV, JSON or ECSV."""
+    ref = None
+    try:
+        species_text = params.text_param(request.args, "species")
+    except BadParameter as exc:
+        abort(400, description=str(exc))
+    if species_text:
+        try:
+            ref = services.resolve_species(services.catalog(), species_text)
+        except NotFoundError as exc:
+            abort(400, description=str(exc))
+    return _line_download(ref, fmt, "lines" if ref is None else f"{ref.url_name}-lines")
+
+
+# ----------------------------------------------------------------- datasets
+
+@bp.get("/datasets")
+def datasets():
+    """Every dataset in precedence order."""
+    return render_template("datasets.html", datasets=services.catalog().dataset_rows(include_retracted=True))
+
+
+@bp.get("/datasets/<int:dataset_id>")
+def dataset(dataset_id: int):
+    """One dataset's record."""
+    if dataset_id > params.MAX_ID:
+        abort(404, description=f"no dataset {dataset_id} in the store")
+    try:
+        info = services.catalog().dataset_info(dataset_id)
+    except NotFoundError as exc:
+        abort(404, description=str(exc))
+    return render_template("dataset.html", ds=info)

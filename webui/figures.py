@@ -1,0 +1,215 @@
+"""Plotly figures of the site, built as plain JSON-ready dicts (the browser draws them).
+
+One figure so far: the level diagram (a Grotrian diagram). Levels are short
+horizontal bars in columns, one column per LS term (multiplicity, L, parity),
+ordered by multiplicity, then L, even before odd; the energy axis is cm-1 or eV;
+the ionization limit is a dashed line when known. Lines are segments from the
+lower to the upper level, one colour per multipole, with width and opacity
+growing with log10 A in five steps; a marker at each segment's middle carries
+the hover text and the line id for a click. The module holds no physics: every
+number drawn comes from the store rows it is given.
+"""
+
+from __future__ import annotations
+
+import functools
+import html
+import math
+from collections.abc import Sequence
+
+import numpy as np
+
+from levels.errors import NotationError
+from levels.notation import l_letter, parse_term
+from levels.units import CM1_EV
+
+#: colour of each multipole's lines (our own palette)
+MULTIPOLE_COLOURS = {
+    "E1": "#1f6f78", "M1": "#b4532a", "E2": "#6a4c93", "M2": "#8c7a1f", "E3": "#2f5d9e", "2E1": "#6b6b6b",
+    "": "#6b6b6b",
+}
+NO_A_COLOUR = "#9a9a9a"
+LEVEL_COLOUR = "#2b2b2b"
+LIMIT_COLOUR = "#a33b3b"
+PAPER = "#fbfaf6"
+#: steps of line width (px) and opacity by log10 A, weakest to strongest
+A_STEPS = 5
+WIDTHS = np.linspace(0.6, 3.2, A_STEPS)
+OPACITIES = np.linspace(0.22, 0.95, A_STEPS)
+BAR_HALF_WIDTH = 0.36
+
+
+@functools.lru_cache(maxsize=4096)
+def term_key(term: str, parity: int) -> tuple:
+    """Sort key and identity of a level's column: (multiplicity, L, parity); unknown terms last."""
+    try:
+        parsed = parse_term(term) if term else None
+    except NotationError:
+        parsed = None
+    if parsed is None:
+        return (10**6, 10**6, 0 if parity == 1 else 1, term or "")
+    return (parsed.multiplicity, parsed.L, 0 if parsed.parity == 1 else 1, "")
+
+
+def term_tick(key: tuple) -> str:
+    """Axis label of a column: ``<sup>2</sup>P°`` (plotly's subset of HTML)."""
+    multiplicity, big_l, odd, raw = key
+    if multiplicity == 10**6:
+        text = html.escape(raw) if raw else "no LS term"
+        return f"{text}{' °' if odd else ''}"
+    return f"<sup>{multiplicity}</sup>{html.escape(l_letter(big_l, upper=True))}{'°' if odd else ''}"
+
+
+def _nan_to_none(values: np.ndarray, digits: int) -> list:
+    rounded = np.round(values.astype(float), digits)
+    return [None if v != v else v for v in rounded.tolist()]
+
+
+def _segments(x0: np.ndarray, x1: np.ndarray, y0: np.ndarray, y1: np.ndarray, digits: int) -> tuple[list, list]:
+    """x and y lists of many separate segments (NaN gaps between them)."""
+    n = len(x0)
+    xs = np.full(3 * n, np.nan)
+    ys = np.full(3 * n, np.nan)
+    xs[0::3], xs[1::3] = x0, x1
+    ys[0::3], ys[1::3] = y0, y1
+    return _nan_to_none(xs, 3), _nan_to_none(ys, digits)
+
+
+def _fmt(value, spec: str) -> str:
+    return "–" if value is None or (isinstance(value, float) and not math.isfinite(value)) else format(value, spec)
+
+
+def grotrian_figure(levels: Sequence[dict], lines: Sequence[dict], *, unit: str = "cm-1",
+                    ionization_cm1: float | None = None, medium: str = "vacuum", title: str = "") -> dict:
+    """The level diagram as a plotly figure dict, with what could not be placed.
+
+    Parameters
+    ----------
+    levels : sequence of dict
+        Level rows (``LEVEL_COLUMNS``): label, term, parity, energy_cm1 (cm-1), dataset ...
+    lines : sequence of dict
+        Line rows of the same species (``LINE_COLUMNS`` plus ``id``); energies in cm-1,
+        wavelengths in nm, ``a_per_s`` in s-1.
+    unit : {"cm-1", "eV"}
+        Energy axis unit.
+    ionization_cm1 : float, optional
+        Ionization limit, cm-1, drawn as a dashed line.
+    title : str
+        Accessible name of the figure (kept in the layout's ``meta``; the page has its own heading).
+    medium : {"vacuum", "air"}
+        Which wavelength the hover text quotes first.
+
+    Returns
+    -------
+    dict
+        ``{"figure": {"data": [...], "layout": {...}}, "columns": int, "unplaced": int}``;
+        ``unplaced`` counts lines whose levels are not among ``levels``.
+    """
+    scale = CM1_EV if unit == "eV" else 1.0
+    digits = 7 if unit == "eV" else 4
+    unit_text = "eV" if unit == "eV" else "cm⁻¹"
+    level_keys = [term_key(lv["term"], lv["parity"]) for lv in levels]
+    keys = sorted(set(level_keys))
+    column_of = {key: i for i, key in enumerate(keys)}
+    n_levels = len(levels)
+    level_x = np.array([column_of[key] for key in level_keys], dtype=float)
+    level_e = np.array([lv["energy_cm1"] for lv in levels], dtype=float)
+    position = {lv["label"]: (level_x[i], level_e[i]) for i, lv in enumerate(levels)}
+
+    data: list[dict] = []
+    if n_levels:
+        xs, ys = _segments(level_x - BAR_HALF_WIDTH, level_x + BAR_HALF_WIDTH, level_e * scale, level_e * scale,
+                           digits)
+        data.append({"type": "scatter", "mode": "lines", "x": xs, "y": ys, "hoverinfo": "skip",
+                     "line": {"color": LEVEL_COLOUR, "width": 1.6}, "name": "levels", "showlegend": False})
+        hover = [
+            f"<b>{html.escape(lv['label'])}</b><br>E = {_fmt(lv['energy_cm1'], '.4f')} cm⁻¹"
+            f" ({_fmt(lv['energy_cm1'] * CM1_EV, '.6f')} eV)<br>J = {html.escape(lv['j'])}, g = {lv['g']}"
+            f"<br>{html.escape(lv['dataset'])}"
+            for lv in levels
+        ]
+        data.append({"type": "scatter", "mode": "markers", "x": _nan_to_none(level_x, 3),
+                     "y": _nan_to_none(level_e * scale, digits), "hovertext": hover, "hoverinfo": "text",
+                     "marker": {"symbol": "line-ew", "size": 22, "opacity": 0,
+                                "line": {"width": 0, "color": LEVEL_COLOUR}},
+                     "name": "level", "showlegend": False, "meta": "levels"})
+
+    placed = [ln for ln in lines if ln["lower"] in position and ln["upper"] in position]
+    unplaced = len(lines) - len(placed)
+    if placed:
+        lower = np.array([position[ln["lower"]] for ln in placed])
+        upper = np.array([position[ln["upper"]] for ln in placed])
+        same = lower[:, 0] == upper[:, 0]
+        direction = np.sign(upper[:, 0] - lower[:, 0])
+        x0 = np.where(same, lower[:, 0] - 0.18, lower[:, 0] + 0.22 * direction)
+        x1 = np.where(same, upper[:, 0] + 0.18, upper[:, 0] - 0.22 * direction)
+        y0, y1 = lower[:, 1] * scale, upper[:, 1] * scale
+        a = np.array([np.nan if ln["a_per_s"] is None else ln["a_per_s"] for ln in placed], dtype=float)
+        log_a = np.where(a > 0, np.log10(np.where(a > 0, a, 1.0)), np.nan)
+        has_a = np.isfinite(log_a)
+        step = np.full(len(placed), -1)
+        if has_a.any():
+            lo, hi = np.nanmin(log_a), np.nanmax(log_a)
+            frac = np.ones(len(placed)) if hi == lo else (log_a - lo) / (hi - lo)
+            step = np.where(has_a, np.clip((np.nan_to_num(frac) * A_STEPS).astype(int), 0, A_STEPS - 1), -1)
+        multipoles = np.array([ln["multipole"] or "" for ln in placed])
+        legend_done: set[str] = set()
+        for code in [c for c in MULTIPOLE_COLOURS if c in set(multipoles.tolist())]:
+            for k in range(A_STEPS - 1, -2, -1):
+                mask = (multipoles == code) & (step == k)
+                if not mask.any():
+                    continue
+                xs, ys = _segments(x0[mask], x1[mask], y0[mask], y1[mask], digits)
+                colour = MULTIPOLE_COLOURS[code] if k >= 0 else NO_A_COLOUR
+                line_style = {"color": colour, "width": float(WIDTHS[k]) if k >= 0 else 0.8}
+                if k < 0:
+                    line_style["dash"] = "dot"
+                data.append({"type": "scatter", "mode": "lines", "x": xs, "y": ys, "hoverinfo": "skip",
+                             "line": line_style, "opacity": float(OPACITIES[k]) if k >= 0 else 0.6,
+                             "name": code or "other", "legendgroup": code or "other",
+                             "showlegend": code not in legend_done})
+                legend_done.add(code)
+        wl_key, other_key = ("air_nm", "vacuum_nm") if medium == "air" else ("vacuum_nm", "air_nm")
+        hover = []
+        for ln in placed:
+            first = ln[wl_key] if ln[wl_key] is not None else ln["vacuum_nm"]
+            first_name = medium if ln[wl_key] is not None else "vacuum"
+            text = (f"<b>{html.escape(ln['lower'])} – {html.escape(ln['upper'])}</b>"
+                    f"<br>λ {first_name} {_fmt(first, '.5f')} nm")
+            if ln[other_key] is not None and first_name == medium:
+                text += f" ({'air' if other_key == 'air_nm' else 'vacuum'} {_fmt(ln[other_key], '.5f')} nm)"
+            text += (f"<br>σ = {_fmt(ln['wavenumber_cm1'], '.4f')} cm⁻¹"
+                     f"<br>A = {_fmt(ln['a_per_s'], '.3e')} s⁻¹ · {html.escape(ln['multipole'] or '?')}")
+            hover.append(text)
+        colours = [MULTIPOLE_COLOURS.get(ln["multipole"] or "", NO_A_COLOUR) for ln in placed]
+        data.append({"type": "scatter", "mode": "markers", "x": _nan_to_none((x0 + x1) / 2, 3),
+                     "y": _nan_to_none((y0 + y1) / 2, digits), "hovertext": hover, "hoverinfo": "text",
+                     "customdata": [[ln["id"], ln["vacuum_nm"]] for ln in placed],
+                     "marker": {"size": 7, "color": colours, "opacity": 0.55, "symbol": "diamond"},
+                     "name": "line", "showlegend": False, "meta": "lines"})
+
+    shapes, annotations = [], []
+    if ionization_cm1 is not None:
+        y = round(ionization_cm1 * scale, digits)
+        shapes.append({"type": "line", "xref": "paper", "x0": 0, "x1": 1, "yref": "y", "y0": y, "y1": y,
+                       "line": {"color": LIMIT_COLOUR, "width": 1.4, "dash": "dash"}})
+        annotations.append({"xref": "paper", "x": 1, "xanchor": "right", "yref": "y", "y": y, "yanchor": "bottom",
+                            "showarrow": False, "font": {"color": LIMIT_COLOUR, "size": 12},
+                            "text": f"ionization limit {_fmt(ionization_cm1 * scale, '.6g')} {unit_text}"})
+    top = max([float(level_e.max()) if n_levels else 0.0] + ([ionization_cm1] if ionization_cm1 else []))
+    layout = {
+        "paper_bgcolor": PAPER, "plot_bgcolor": PAPER,
+        "font": {"family": "DejaVu Sans, Verdana, sans-serif", "size": 12, "color": "#222"},
+        "margin": {"l": 70, "r": 20, "t": 24, "b": 60},
+        "hovermode": "closest", "dragmode": "zoom",
+        "xaxis": {"tickmode": "array", "tickvals": list(range(len(keys))),
+                  "ticktext": [term_tick(k) for k in keys], "range": [-0.7, max(len(keys), 1) - 0.3],
+                  "showgrid": False, "zeroline": False, "title": {"text": "term (2S+1, L, parity)"}, "fixedrange": False},
+        "yaxis": {"title": {"text": f"energy [{unit_text}]"}, "zeroline": False, "gridcolor": "#e6e2d8",
+                  "range": [-0.03 * top * scale, 1.06 * top * scale] if top > 0 else None},
+        "legend": {"title": {"text": "multipole"}, "orientation": "h", "y": -0.14, "x": 0},
+        "shapes": shapes, "annotations": annotations, "meta": {"title": title},
+    }
+    if layout["yaxis"]["range"] is None:
+        del layout["yaxis"]["range"]
+    return {"figure": {"data": data, "layout": layout}, "columns": len(keys), "unplaced": unplaced}

@@ -1,0 +1,350 @@
+"""A thin adapter between the web views and :class:`levels.catalog.Catalog`.
+
+The site holds no physics and no SQL: everything here calls public Catalog
+methods and arranges their results for pages (filtering and paging the level
+table, resolving a species from its URL name, finding one line by id).
+
+Where the Catalog has no method for a request, the work is done here on the
+results of the methods it has. Catalog methods that would replace these
+workarounds (and do the work in the store):
+
+* ``species_row(spectrum) -> dict`` instead of filtering ``species_rows()``
+  (which counts every species' levels and lines on each page view);
+* ``level_page(spectrum, datasets, configuration, two_j, parity, order, limit, offset)``
+  instead of filtering and paging ``level_rows()`` in Python;
+* ``line_record(line_id) -> dict`` instead of a narrow window search or a scan;
+* ``LineQuery.spectrum`` taking a ``Spectrum`` (with its mass number), so lines
+  of a non-default isotope can be listed;
+* ``species_rows()`` giving ``datasets`` as a list, not names joined by ``"; "``.
+"""
+
+from __future__ import annotations
+
+import math
+import re
+import threading
+import time
+from collections.abc import Sequence
+from dataclasses import dataclass
+
+from flask import current_app, g, has_request_context
+
+from levels.catalog import Catalog, LineQuery
+from levels.errors import NotationError, NotFoundError
+from levels.isotopes import default_isotope
+from levels.notation import Spectrum, parse_spectrum
+from levels.units import CM1_EV
+
+from webui.params import LevelFilter, LineFilter, Page
+
+#: the longest list of lines scanned when a line is looked up without its wavelength
+LINE_SCAN_CHUNK = 5000
+
+
+def catalog() -> Catalog:
+    """The application's one Catalog."""
+    return current_app.extensions["levels"]["catalog"]
+
+
+# ----------------------------------------------------------------- species
+
+@dataclass(frozen=True)
+class SpeciesRef:
+    """A stored species as the site addresses it.
+
+    Attributes
+    ----------
+    row : dict
+        Its species row (``SPECIES_COLUMNS``).
+    spectrum : Spectrum
+        Z, charge and mass number.
+    url_name : str
+        Spectrum notation with ``_`` for the space (``He_II``).
+    mass_query : int or None
+        The ``mass_number`` query parameter needed to address it (None for the default isotope).
+    lines_reachable : bool
+        Whether the line queries, which name species by text, reach this isotope.
+    """
+
+    row: dict
+    spectrum: Spectrum
+    url_name: str
+    mass_query: int | None
+    lines_reachable: bool
+
+    @property
+    def name(self) -> str:
+        return self.row["spectrum"]
+
+    @property
+    def datasets(self) -> list[str]:
+        text = self.row.get("datasets") or ""
+        return [name for name in text.split("; ") if name]
+
+    def url_args(self) -> dict:
+        """Keyword arguments of ``url_for`` for this species."""
+        out = {"spectrum": self.url_name}
+        if self.mass_query is not None:
+            out["mass_number"] = self.mass_query
+        return out
+
+
+def _by_name_choice(rows: Sequence[dict], z: int, charge: int) -> dict | None:
+    """The isotope a spectrum name without a mass number resolves to (as the store does)."""
+    same = [r for r in rows if r["z"] == z and r["charge"] == charge]
+    if not same:
+        return None
+    default_a = default_isotope(z).mass_number
+    for row in same:
+        if row["mass_number"] == default_a:
+            return row
+    return same[0] if len(same) == 1 else None
+
+
+def _ref(row: dict, rows: Sequence[dict]) -> SpeciesRef:
+    spec = Spectrum(row["z"], row["charge"], row["mass_number"])
+    named = parse_spectrum(row["spectrum"])
+    chosen = row if named.mass_number is not None else _by_name_choice(rows, row["z"], row["charge"])
+    reachable = chosen is row
+    return SpeciesRef(row=row, spectrum=spec, url_name=row["spectrum"].replace(" ", "_"),
+                      mass_query=None if reachable else row["mass_number"], lines_reachable=reachable)
+
+
+_SPECIES_CACHE_LOCK = threading.Lock()
+
+
+def species_rows(cat: Catalog) -> list[dict]:
+    """``Catalog.species_rows()``, shared by the lookups of one request and, for
+    ``LEVELS_SPECIES_CACHE_S`` seconds, by the requests of one app.
+
+    ``species_rows`` counts every species' levels and lines, which on a large store
+    costs more than the page itself; the short cache is dropped at once when this
+    site writes (:func:`forget_species`). Writes by other processes (the CLI) show
+    up within the cache time.
+    """
+    if not has_request_context():
+        return cat.species_rows()
+    cached = g.get("levels_species_rows")
+    if cached is not None:
+        return cached
+    ttl = float(current_app.config.get("LEVELS_SPECIES_CACHE_S") or 0)
+    store = current_app.extensions["levels"]
+    now = time.monotonic()
+    with _SPECIES_CACHE_LOCK:
+        entry = store.get("species_cache")
+        if ttl > 0 and entry is not None and now - entry[0] < ttl:
+            rows = entry[1]
+        else:
+            rows = None
+    if rows is None:
+        rows = cat.species_rows()
+        if ttl > 0:
+            with _SPECIES_CACHE_LOCK:
+                store["species_cache"] = (now, rows)
+    g.levels_species_rows = rows
+    return rows
+
+
+def forget_species() -> None:
+    """Drop the cached species table (after this site wrote to the store)."""
+    with _SPECIES_CACHE_LOCK:
+        current_app.extensions["levels"].pop("species_cache", None)
+    g.pop("levels_species_rows", None)
+
+
+def species_refs(cat: Catalog) -> list[SpeciesRef]:
+    """Every stored species, by Z, charge and mass number."""
+    rows = species_rows(cat)
+    return [_ref(row, rows) for row in rows]
+
+
+def resolve_species(cat: Catalog, url_name: str, mass_number: str | None = None) -> SpeciesRef:
+    """The stored species named in a URL (``He_II``, ``C5+``), optionally one isotope.
+
+    Raises
+    ------
+    NotFoundError
+        The name is not spectrum notation, or no such species is stored.
+    """
+    try:
+        spec = parse_spectrum(url_name)
+    except NotationError as exc:
+        raise NotFoundError(f"{url_name!r} is not a species name: {exc}") from None
+    wanted_a = None
+    if mass_number not in (None, ""):
+        if not str(mass_number).isascii() or not str(mass_number).isdigit() or len(str(mass_number)) > 3:
+            raise NotFoundError(f"mass number {mass_number!r} is not a whole number")
+        wanted_a = int(mass_number)
+    wanted_a = wanted_a if wanted_a is not None else spec.mass_number
+    rows = species_rows(cat)
+    if wanted_a is not None:
+        match = [r for r in rows if r["z"] == spec.z and r["charge"] == spec.charge and r["mass_number"] == wanted_a]
+        row = match[0] if match else None
+    else:
+        row = _by_name_choice(rows, spec.z, spec.charge)
+    if row is None:
+        raise NotFoundError(f"no species {spec.name}{f' (A = {wanted_a})' if wanted_a else ''} in the store")
+    return _ref(row, rows)
+
+
+def search_species(refs: Sequence[SpeciesRef], text: str) -> list[SpeciesRef]:
+    """Species matching a search text.
+
+    An element symbol (``Fe``) matches every ion of the element; spectrum or ion
+    notation (``Fe II``, ``C5+``) matches that ion; anything else is a
+    case-insensitive substring of the spectrum name or of a dataset name.
+    """
+    text = text.strip()
+    if not text:
+        return list(refs)
+    try:
+        spec = parse_spectrum(text)
+    except NotationError:
+        spec = None
+    if spec is not None:
+        if re.fullmatch(r"[A-Z][a-z]?", text):
+            return [r for r in refs if r.row["z"] == spec.z]
+        return [r for r in refs if r.row["z"] == spec.z and r.row["charge"] == spec.charge]
+    needle = text.lower()
+    return [r for r in refs if needle in r.name.lower() or needle in (r.row.get("datasets") or "").lower()]
+
+
+def ionization_ev(row: dict) -> float | None:
+    """The ionization energy of a species row in eV (None when unknown)."""
+    value = row.get("ionization_cm1")
+    return None if value is None else value * CM1_EV
+
+
+# ----------------------------------------------------------------- levels
+
+_LEVEL_SORT_KEYS = {
+    "energy": lambda r: (r["energy_cm1"], r["label"]),
+    "label": lambda r: (r["label"], r["energy_cm1"]),
+    "configuration": lambda r: (r["configuration"], r["energy_cm1"]),
+    "term": lambda r: (r["term"], r["energy_cm1"]),
+    "j": lambda r: (_two_j(r["j"]) is None, _two_j(r["j"]) or 0, r["energy_cm1"]),
+    "unc": lambda r: (math.inf if r["unc_cm1"] is None else r["unc_cm1"], r["energy_cm1"]),
+    "dataset": lambda r: (r["dataset"], r["energy_cm1"]),
+}
+
+
+def _two_j(text: str | None) -> int | None:
+    """2J of a level row's ``j`` text (``"3/2"`` -> 3); None for a term whose J is not resolved."""
+    if not text:
+        return None
+    if "/" in text:
+        return int(text.split("/")[0])
+    return 2 * int(text)
+
+
+def filtered_levels(cat: Catalog, ref: SpeciesRef, flt: LevelFilter) -> list[dict]:
+    """The species' levels under the filter, sorted (all of them, no paging).
+
+    Raises
+    ------
+    BadParameter
+        The dataset named is not one of the species' datasets.
+    """
+    from webui.params import BadParameter
+
+    datasets = None
+    if flt.dataset:
+        if flt.dataset not in ref.datasets:
+            raise BadParameter("dataset", f"{ref.name} has no levels in a dataset named {flt.dataset!r}")
+        datasets = [flt.dataset]
+    rows = cat.level_rows(ref.spectrum, datasets)
+    if flt.configuration:
+        needle = flt.configuration.lower()
+        rows = [r for r in rows if needle in r["configuration"].lower()]
+    if flt.two_j is not None:
+        rows = [r for r in rows if _two_j(r["j"]) == flt.two_j]
+    if flt.parity is not None:
+        rows = [r for r in rows if r["parity"] == flt.parity]
+    rows.sort(key=_LEVEL_SORT_KEYS[flt.sort], reverse=flt.descending)
+    return rows
+
+
+def level_page(cat: Catalog, ref: SpeciesRef, flt: LevelFilter, page: Page) -> tuple[list[dict], int]:
+    """One page of the filtered level table and the number of rows in all pages."""
+    rows = filtered_levels(cat, ref, flt)
+    return rows[page.offset:page.offset + page.per], len(rows)
+
+
+# ----------------------------------------------------------------- lines
+
+def line_name(ref: SpeciesRef | None) -> str | None:
+    """The spectrum text used in line queries (None = all species)."""
+    return None if ref is None else ref.name
+
+
+def line_page(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter, page: Page) -> tuple[list[dict], int]:
+    """One page of lines matching the filter, and the total count."""
+    if ref is not None and not ref.lines_reachable:
+        return [], 0
+    return cat.line_rows(flt.query(line_name(ref), limit=page.per, offset=page.offset))
+
+
+def all_lines(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter) -> list[dict]:
+    """Every line matching the filter (for downloads)."""
+    if ref is not None and not ref.lines_reachable:
+        return []
+    rows, _total = cat.line_rows(flt.query(line_name(ref)))
+    return rows
+
+
+def strongest_lines(cat: Catalog, ref: SpeciesRef, flt: LineFilter, limit: int) -> tuple[list[dict], int]:
+    """The ``limit`` lines with the largest Einstein A under the filter, and how many match in all."""
+    if not ref.lines_reachable:
+        return [], 0
+    return cat.line_rows(flt.query(line_name(ref), limit=limit, order="a"))
+
+
+def find_line(cat: Catalog, ref: SpeciesRef, line_id: int, near_vacuum_nm: float | None = None) -> dict:
+    """One stored line of a species by id.
+
+    With the line's vacuum wavelength the search is a narrow window (fast);
+    without it the species' lines are scanned in chunks.
+
+    Raises
+    ------
+    NotFoundError
+        No line with that id belongs to the species.
+    """
+    if ref.lines_reachable:
+        if near_vacuum_nm is not None and math.isfinite(near_vacuum_nm) and near_vacuum_nm > 0:
+            rows, _ = cat.line_rows(LineQuery(spectrum=ref.name, from_nm=near_vacuum_nm * (1 - 1e-9),
+                                              to_nm=near_vacuum_nm * (1 + 1e-9)))
+            for row in rows:
+                if row["id"] == line_id:
+                    return row
+        offset = 0
+        while True:
+            rows, total = cat.line_rows(LineQuery(spectrum=ref.name, limit=LINE_SCAN_CHUNK, offset=offset))
+            for row in rows:
+                if row["id"] == line_id:
+                    return row
+            offset += LINE_SCAN_CHUNK
+            if offset >= total or not rows:
+                break
+    raise NotFoundError(f"no line {line_id} of {ref.name} in the store")
+
+
+# ----------------------------------------------------------------- datasets and samples
+
+def writable_datasets(cat: Catalog) -> list[dict]:
+    """Measured and imported datasets that are not retracted (targets of the level form)."""
+    return [d for d in cat.dataset_rows() if d["kind"] in ("measured", "imported") and not d["retracted"]]
+
+
+def air_formula(cat: Catalog, dataset_names: Sequence[str]) -> str:
+    """The air-wavelength formula recorded in the options of the datasets used (when they say)."""
+    found = []
+    for name in dataset_names:
+        try:
+            options = cat.dataset_info(name).get("options") or {}
+        except NotFoundError:
+            continue
+        for key in ("air_formula", "air"):
+            if options.get(key) and str(options[key]) not in found:
+                found.append(str(options[key]))
+    return "; ".join(found) if found else "as stored by each dataset (not recorded in its options)"

@@ -1,0 +1,81 @@
+"""Jinja helpers: number formatting, query-string permalinks, site facts.
+
+Autoescaping stays on for every template (Flask's default for ``.html``);
+nothing here marks text as safe.
+"""
+
+from __future__ import annotations
+
+import math
+from urllib.parse import urlencode
+
+from flask import Flask, request
+
+from levels import __version__
+from levels.catalog import MULTIPOLE_CODES
+
+
+def fixed(value, digits: int = 4) -> str:
+    """A number with ``digits`` decimals (empty for missing)."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return ""
+    return f"{value:.{digits}f}"
+
+
+def sci(value, digits: int = 3) -> str:
+    """A number in scientific notation with ``digits`` decimals (empty for missing)."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return ""
+    return f"{value:.{digits}e}"
+
+
+def sig(value, digits: int = 6) -> str:
+    """A number with ``digits`` significant digits (empty for missing)."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return ""
+    return f"{value:.{digits}g}"
+
+
+def plain(value) -> str:
+    """A number as stored, shortest exact form (empty for missing)."""
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return ""
+    return repr(value) if isinstance(value, float) else str(value)
+
+
+def parity_word(value) -> str:
+    return {1: "even", -1: "odd"}.get(value, "")
+
+
+def with_query(**changes) -> str:
+    """The current URL with some query parameters changed (None removes one)."""
+    args = request.args.to_dict(flat=False)
+    for key, value in changes.items():
+        if value is None or value == "":
+            args.pop(key, None)
+        else:
+            args[key] = [str(value)]
+    query = urlencode(args, doseq=True)
+    return request.path + (f"?{query}" if query else "")
+
+
+def query_string(mapping: dict) -> str:
+    """``?a=1&b=2`` of a mapping (empty when it is empty)."""
+    query = urlencode({k: v for k, v in mapping.items() if v not in (None, "")}, doseq=True)
+    return f"?{query}" if query else ""
+
+
+def init_app(app: Flask) -> None:
+    """Register the helpers on ``app``'s Jinja environment."""
+    app.jinja_env.filters.update(fixed=fixed, sci=sci, sig=sig, plain=plain, parity_word=parity_word)
+    app.jinja_env.globals.update(with_query=with_query, query_string=query_string, tool_version=__version__,
+                                 all_multipoles=MULTIPOLE_CODES)
+    app.jinja_env.autoescape = True
+    app.jinja_env.trim_blocks = True
+    app.jinja_env.lstrip_blocks = True
+
+    @app.context_processor
+    def _site():
+        catalog = app.extensions["levels"]["catalog"]
+        return {"store_url": catalog.display_url,
+                "api_writes": bool(app.config.get("LEVELS_API_TOKEN"))}
