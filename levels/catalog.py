@@ -19,7 +19,7 @@ import numpy as np
 from sqlalchemy.orm import Session
 
 from levels import __version__
-from levels.errors import AlreadyExistsError, InputFileError, PhysicsInputError, Problem
+from levels.errors import AlreadyExistsError, InputFileError, NotFoundError, PhysicsInputError, Problem
 from levels.io import records as level_io
 from levels.io.tables import read_delimited
 from levels.notation import Spectrum, format_j, parse_spectrum
@@ -126,11 +126,16 @@ class Catalog:
 
     def init(self) -> str:
         """Create or upgrade the schema; return the revision."""
-        return database.upgrade(self.engine)
+        revision = database.upgrade(self.engine)
+        self._ready = revision == database.head_revision()
+        return revision
 
     def check_ready(self) -> None:
-        """Refuse to work on an uninitialised or outdated store."""
+        """Refuse to work on an uninitialised or outdated store (checked once per Catalog, then remembered)."""
+        if getattr(self, "_ready", False):
+            return
         database.require_current(self.engine)
+        self._ready = True
 
     def write(self, work):
         """Run ``work(session)`` as one transaction (with retries on a busy SQLite store)."""
@@ -179,6 +184,15 @@ class Catalog:
             return rows
 
         return self.read(work)
+
+    def species_row(self, spectrum: str | Spectrum) -> dict:
+        """One row of :meth:`species_rows` (NotFoundError if the species is not stored)."""
+        spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
+        name = self.read(lambda session: queries.require_species(session, spec).name)
+        for row in self.species_rows():
+            if row["spectrum"] == name:
+                return row
+        raise NotFoundError(f"no species {spec.name} in the store")
 
     # ------------------------------------------------------------- levels
     def level_rows(self, spectrum: str | Spectrum, datasets: Sequence[str] | None = None) -> list[dict]:
@@ -267,6 +281,21 @@ class Catalog:
             return _store_derived_lines(session, queries.require_species(session, spec), self.actor)
 
         return self.write(work)
+
+    def line_record(self, line_id: int) -> dict:
+        """One stored line by id, with its levels (NotFoundError if absent)."""
+        from levels.store.schema import Line
+
+        def work(session: Session) -> dict:
+            line = session.get(Line, int(line_id))
+            if line is None:
+                raise NotFoundError(f"no line with id {line_id}")
+            species = session.get(Species, line.species_id)
+            dataset = session.get(Dataset, line.dataset_id)
+            return queries.line_row(line, session.get(Level, line.lower_id), session.get(Level, line.upper_id),
+                                    species.name, dataset.name)
+
+        return self.read(work)
 
     # ------------------------------------------------------------- datasets
     def dataset_info(self, name_or_id: str | int) -> dict:

@@ -525,10 +525,16 @@ def insert_rows_from_file(session: Session, path: str | os.PathLike, header: dic
 
 def _copy_rows(session: Session, table: str, names: list[str], rows: list[dict]) -> None:
     """Bulk-load rows on PostgreSQL with COPY (in the session's transaction)."""
+    import psycopg
+
     cursor = session.connection().connection.driver_connection.cursor()
-    with cursor.copy(f"COPY {table} ({', '.join(names)}) FROM STDIN") as copy:
-        for row in rows:
-            copy.write_row([row[n] for n in names])
+    try:
+        with cursor.copy(f"COPY {table} ({', '.join(names)}) FROM STDIN") as copy:
+            for row in rows:
+                copy.write_row([row[n] for n in names])
+    except psycopg.Error as exc:
+        raise StoreError(f"the store refused the rows of table {table}: "
+                         f"{database._first_line(str(exc))}; nothing was written") from None
 
 
 def reset_sequences(session: Session) -> None:

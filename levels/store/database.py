@@ -10,6 +10,7 @@ unit of work, retried with backoff when SQLite reports ``database is locked``.
 from __future__ import annotations
 
 import contextlib
+import functools
 import json
 import math
 import os
@@ -168,8 +169,9 @@ def current_revision(engine: Engine) -> str | None:
         raise StoreError(f"cannot open the store at {display_url(str(engine.url))}: {exc.orig}") from None
 
 
+@functools.lru_cache(maxsize=1)
 def head_revision() -> str:
-    """The newest revision the code knows."""
+    """The newest revision the code knows (read once per process)."""
     from alembic.script import ScriptDirectory
 
     config = _alembic_config(create_engine("sqlite://"))
