@@ -604,7 +604,8 @@ class Catalog:
             te_k=te_k, ne_m3=ne_m3, tgas_k=tgas_k, window=(from_nm, to_nm), medium=medium,
             instrument_fwhm_nm=instrument_fwhm_nm, path_length_m=path_length_m,
             element_density_m3=element_density_m3, cutoff_method=cutoff_method, grid_points=grid_points)
-        result.conditions["datasets"] = info["datasets"]
+        used = {row["dataset"] for row in result.lines}
+        result.conditions["datasets"] = [name for name in info["datasets"] if name in used]
         return result
 
     def import_level_records(self, records: Sequence[level_io.LevelRecord], *, source: str,

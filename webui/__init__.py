@@ -2,8 +2,9 @@
 
 ``create_app(config)`` builds the site over one store (one
 :class:`levels.catalog.Catalog` per app, in ``app.extensions["levels"]``) with
-three blueprints: ``browse`` (reading pages and downloads), ``edit`` (the
-sample desk, under ``/desk``) and ``api`` (JSON, under ``/api/v1``).
+four blueprints: ``browse`` (reading pages and downloads), ``workbench`` (the
+emission workbench, under ``/emission``), ``edit`` (the sample desk, under
+``/desk``) and ``api`` (JSON, under ``/api/v1``).
 
 Configuration, later sources winning:
 
@@ -112,12 +113,13 @@ def create_app(config: Mapping | None = None) -> Flask:
         catalog.init()
     app.extensions["levels"] = {"catalog": catalog}
 
-    from webui import api, browse, edit, security, templating
+    from webui import api, browse, edit, security, templating, workbench
 
     security.init_app(app)
     templating.init_app(app)
     app.register_blueprint(browse.bp)
     app.register_blueprint(edit.bp)
+    app.register_blueprint(workbench.bp)
     app.register_blueprint(api.bp)
     security.csrf.exempt(api.bp)
     _register_cli(app)

@@ -8,8 +8,8 @@ from __future__ import annotations
 
 from flask import Blueprint, abort, current_app, render_template, request, url_for
 
-from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, LINE_COLUMNS, LINE_UNITS, SPECIES_COLUMNS
-from levels.errors import NotFoundError
+from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, LINE_COLUMNS, LINE_UNITS, SPECIES_COLUMNS, LineQuery
+from levels.errors import NotFoundError, PhysicsInputError
 
 from webui import params, security, services
 from webui.downloads import json_response, table_download
@@ -175,11 +175,43 @@ def line_json(spectrum: str, line_id: int):
 
 # ----------------------------------------------------------------- diagram
 
+#: multipoles the line engine builds from the levels
+ENGINE_MULTIPOLES = ("E1", "M1", "E2")
+
+
 def _diagram_options():
     unit = params.choice(request.args, "unit", params.ENERGY_UNITS, "cm-1")
     max_lines = params.integer(request.args, "max_lines", int(current_app.config["LEVELS_DIAGRAM_MAX_LINES"]),
                                minimum=1, maximum=params.DIAGRAM_MAX_LINES_CAP)
     return unit, max_lines
+
+
+def _engine_flag() -> bool:
+    """Whether the diagram draws the lines implied by the levels (``engine=1``) instead of the stored ones."""
+    return params.choice(request.args, "engine", ("0", "1"), "0") == "1"
+
+
+def _engine_multipoles(flt: LineFilter) -> tuple[str, ...]:
+    """The multipoles asked of the engine: the filter's E1/M1/E2 (E1 when the filter names none)."""
+    if not flt.multipoles:
+        return ("E1",)
+    chosen = tuple(m for m in flt.multipoles if m in ENGINE_MULTIPOLES)
+    if not chosen:
+        raise BadParameter("multipole", "the lines implied by the levels are E1, M1 or E2; pick at least one of them")
+    return chosen
+
+
+def engine_lines(cat, ref: services.SpeciesRef, flt: LineFilter, limit: int) -> tuple[list[dict], int, int]:
+    """The ``limit`` strongest lines the selection rules allow between the species' levels (engine rows,
+    without a stored id), how many match in all, and how many of those have no known A."""
+    if not ref.lines_reachable:
+        return [], 0, 0
+    query = LineQuery(spectrum=ref.name, from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium,
+                      min_a=flt.min_a, order="a", limit=limit)
+    rows, info = cat.species_lines(query, multipoles=_engine_multipoles(flt))
+    for row in rows:
+        row["id"] = None
+    return rows, info["total"], info["without_rates"]
 
 
 @bp.get("/species/<spectrum>/diagram")
@@ -188,13 +220,17 @@ def diagram(spectrum: str):
     ref = _species(spectrum)
     errors: dict[str, str] = {}
     flt, unit, max_lines = LineFilter(), "cm-1", int(current_app.config["LEVELS_DIAGRAM_MAX_LINES"])
+    engine = False
     try:
         flt = params.line_filter(request.args)
         unit, max_lines = _diagram_options()
+        engine = _engine_flag()
+        if engine:
+            _engine_multipoles(flt)
     except BadParameter as exc:
         errors[exc.field] = exc.message
     security.allow_plot_styles()
-    return render_template("diagram.html", ref=ref, errors=errors, line_filter=flt, unit=unit,
+    return render_template("diagram.html", ref=ref, errors=errors, line_filter=flt, unit=unit, engine=engine,
                            max_lines=max_lines, multipoles=params.MULTIPOLE_CODES,
                            units=params.ENERGY_UNITS), 400 if errors else 200
 
@@ -206,14 +242,21 @@ def diagram_json(spectrum: str):
         ref = services.resolve_species(services.catalog(), spectrum, request.args.get("mass_number"))
     except NotFoundError as exc:
         return json_response({"error": {"code": "not_found", "message": str(exc), "field": "spectrum"}}, 404)
+    cat = services.catalog()
+    without_rates = None
     try:
         flt = params.line_filter(request.args)
         unit, max_lines = _diagram_options()
+        engine = _engine_flag()
+        if engine:
+            lines, total, without_rates = engine_lines(cat, ref, flt, max_lines)
+        else:
+            lines, total = services.strongest_lines(cat, ref, flt, max_lines)
     except BadParameter as exc:
         return json_response({"error": {"code": "bad_parameter", "message": exc.message, "field": exc.field}}, 400)
-    cat = services.catalog()
+    except PhysicsInputError as exc:
+        return json_response({"error": {"code": "bad_parameter", "message": str(exc), "field": None}}, 400)
     levels = cat.level_rows(ref.spectrum)
-    lines, total = services.strongest_lines(cat, ref, flt, max_lines)
     built = grotrian_figure(levels, lines, unit=unit, ionization_cm1=ref.row["ionization_cm1"],
                             medium=flt.medium, title=f"{ref.name} level diagram")
     listed = [{k: ln[k] for k in ("id", "lower", "upper", "vacuum_nm", "air_nm", "a_per_s", "multipole")}
@@ -223,7 +266,7 @@ def diagram_json(spectrum: str):
         "levels": len(levels), "columns": built["columns"],
         "lines_total": total, "lines_shown": len(lines), "lines_omitted": total - len(lines),
         "lines_unplaced": built["unplaced"], "max_lines": max_lines,
-        "lines_reachable": ref.lines_reachable,
+        "lines_reachable": ref.lines_reachable, "engine": engine, "lines_without_rates": without_rates,
         "ionization_cm1": ref.row["ionization_cm1"],
         "record_base": url_for("browse.species", spectrum=ref.url_name) + "/lines/",
         "strongest": listed, "figure": built["figure"],

@@ -213,3 +213,76 @@ def grotrian_figure(levels: Sequence[dict], lines: Sequence[dict], *, unit: str 
     if layout["yaxis"]["range"] is None:
         del layout["yaxis"]["range"]
     return {"figure": {"data": data, "layout": layout}, "columns": len(keys), "unplaced": unplaced}
+
+
+# ----------------------------------------------------------------- emission spectrum
+
+SPECTRUM_COLOUR = "#1f6f78"
+MARK_COLOUR = "#c9822b"
+#: the most lines marked by a stick and a hover label
+MARKED_LINES = 40
+
+
+def emission_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[dict], *, medium: str = "air",
+                    title: str = "", max_marked: int = MARKED_LINES) -> dict:
+    """The synthetic spectrum of the emission workbench as a plotly figure dict.
+
+    Parameters
+    ----------
+    grid_nm : array
+        Wavelength grid, nm (in ``medium``).
+    density : array
+        Spectral radiance on the grid, W m-3 sr-1 nm-1.
+    lines : sequence of dict
+        Emission rows (``rel_intensity``, ``air_nm``, ``vacuum_nm``, ``a_per_s``, ``lower``, ``upper``),
+        strongest first or in any order.
+    medium : {"air", "vacuum"}
+        Which wavelength the axis and the sticks use (vacuum where a line has no air wavelength).
+    title : str
+        Accessible name (kept in the layout's ``meta``; the page has its own heading).
+    max_marked : int
+        The strongest lines marked by a stick whose hover text names the line.
+
+    Returns
+    -------
+    dict
+        ``{"data": [...], "layout": {...}}``. Text from the store is HTML-escaped.
+    """
+    grid = np.asarray(grid_nm, dtype=float)
+    dens = np.asarray(density, dtype=float)
+    peak = float(np.nanmax(dens)) if dens.size else 1.0
+    peak = peak if peak > 0 and math.isfinite(peak) else 1.0
+    marked = sorted(lines, key=lambda r: -r["rel_intensity"])[:max_marked]
+    xs: list = []
+    ys: list = []
+    hover: list = []
+    for row in marked:
+        in_air = medium == "air" and row.get("air_nm") is not None
+        x = row["air_nm"] if in_air else row["vacuum_nm"]
+        xs.extend([round(float(x), 6), round(float(x), 6), None])
+        ys.extend([0.0, peak * float(row["rel_intensity"]), None])
+        label = (f"<b>{html.escape(str(row['lower']))} – {html.escape(str(row['upper']))}</b>"
+                 f"<br>λ {'air' if in_air else 'vacuum'} {_fmt(x, '.4f')} nm"
+                 f"<br>rel. intensity {_fmt(row['rel_intensity'], '.3g')}"
+                 f"<br>A = {_fmt(row.get('a_per_s'), '.3e')} s⁻¹")
+        hover.extend([label, label, None])
+    data = [
+        {"type": "scatter", "mode": "lines", "x": _nan_to_none(grid, 6), "y": [None if v != v else float(v) for v in dens],
+         "name": "synthetic spectrum", "line": {"color": SPECTRUM_COLOUR, "width": 1.3}, "hoverinfo": "x+y",
+         "meta": "spectrum"},
+        {"type": "scatter", "mode": "lines", "x": xs, "y": ys, "name": f"strongest {len(marked)} lines (height = rel. intensity)",
+         "hovertext": hover, "hoverinfo": "text", "line": {"color": MARK_COLOUR, "width": 1, "dash": "dot"},
+         "meta": "lines"},
+    ]
+    layout = {
+        "paper_bgcolor": PAPER, "plot_bgcolor": PAPER,
+        "font": {"family": "DejaVu Sans, Verdana, sans-serif", "size": 12, "color": "#222"},
+        "margin": {"l": 80, "r": 20, "t": 20, "b": 60}, "hovermode": "closest",
+        "xaxis": {"title": {"text": f"wavelength in {'air' if medium == 'air' else 'vacuum'} [nm]"},
+                  "gridcolor": "#e6e2d8", "zeroline": False},
+        "yaxis": {"title": {"text": "spectral radiance [W m⁻³ sr⁻¹ nm⁻¹]"}, "gridcolor": "#e6e2d8",
+                  "rangemode": "tozero", "exponentformat": "power"},
+        "legend": {"orientation": "h", "y": -0.18, "x": 0},
+        "meta": {"title": title},
+    }
+    return {"data": data, "layout": layout}

@@ -204,3 +204,57 @@ def test_download_a_line_list_and_read_its_header(page, site):
     assert rows[0] == list(LINE_COLUMNS)
     _, total = site["catalog"].line_rows(LineQuery(spectrum="Li I", from_nm=600, to_nm=700, medium="air"))
     assert len(rows) - 1 == total > 0
+
+
+@pytest.fixture(scope="module")
+def emission_site(tmp_path_factory):
+    """A live site whose store holds the test content and computed H I (n <= 8, with rates)."""
+    folder = tmp_path_factory.mktemp("browser-emission")
+    url = f"sqlite:///{folder / 'store.sqlite'}"
+    catalog = Catalog(url, actor="pytest")
+    catalog.init()
+    facts = fill_store(catalog)
+    catalog.compute_hydrogenic("H I", n_max=8)
+    application = create_app(make_config(url, folder))
+    with LiveServer(application) as live:
+        yield {"url": live.url, **facts}
+    application.extensions["levels"]["catalog"].close()
+    catalog.close()
+
+
+def test_emission_workbench_draws_the_spectrum_metrics_and_swatch(page, emission_site):
+    from levels.physics.colour import srgb_swatch
+    from levels.units import temperature_k
+
+    page.goto(emission_site["url"] + "/")
+    page.get_by_role("link", name="Emission", exact=True).click()
+    page.wait_for_url("**/emission")
+    page.locator("#em-species").select_option("H I")
+    page.locator("#em-te").fill("1eV")
+    page.locator("#em-ne").fill("1e19m-3")
+    page.locator("#em-from").fill("380nm")
+    page.locator("#em-to").fill("700nm")
+    page.get_by_role("button", name="Compute").click()
+    page.wait_for_url("**species=H+I**")
+    plot = page.locator("#emission-plot[data-state=ready]")
+    plot.wait_for()
+    # the figure is drawn: plotly put the spectrum trace and the line sticks into the SVG
+    assert page.locator("#emission-plot .scatterlayer .trace").count() == 2
+    result = emission_site["catalog"].emission("H I", te_k=temperature_k("1eV"), ne_m3=1e19, tgas_k=600.0,
+                                               from_nm=380.0, to_nm=700.0, medium="air",
+                                               instrument_fwhm_nm=0.05, grid_points=4001)
+    assert plot.get_attribute("data-lines-total") == str(len(result.lines))
+    metrics = page.locator("#metrics").inner_text()
+    assert f"{result.metrics['cie_x']:.4f}, {result.metrics['cie_y']:.4f}" in metrics
+    assert "lm/W" in metrics
+    hex_colour = srgb_swatch(result.metrics["cie_x"], result.metrics["cie_y"])
+    painted = page.evaluate("() => getComputedStyle(document.getElementById('swatch')).backgroundColor")
+    rgb = tuple(int(hex_colour[i:i + 2], 16) for i in (1, 3, 5))
+    assert painted == f"rgb({rgb[0]}, {rgb[1]}, {rgb[2]})"
+    # nothing covers the colour (the placeholder pattern goes once the swatch is painted)
+    assert page.evaluate("() => getComputedStyle(document.getElementById('swatch')).backgroundImage") == "none"
+    first = page.locator("#emission-lines tbody tr").first.locator("td").all_inner_texts()
+    assert first[:2] == [result.lines[0]["lower"], result.lines[0]["upper"]]
+    assert page.locator("#busy").is_hidden()
+    shot(page, "emission")
+    assert page.problems == []

@@ -32,7 +32,7 @@
     var data = new FormData(form);
     data.forEach(function (value, key) {
       if (value === "") { return; }
-      if (forDownload && (key === "unit" || key === "max_lines")) { return; }
+      if (forDownload && (key === "unit" || key === "max_lines" || key === "engine")) { return; }
       params.append(key, value);
     });
     return params;
@@ -80,6 +80,10 @@
     if (body.lines_omitted > 0) { text += "; " + body.lines_omitted.toLocaleString() + " left out"; }
     if (body.lines_unplaced > 0) { text += "; " + body.lines_unplaced + " have a level not in the level list"; }
     text += " · " + body.levels.toLocaleString() + " levels in " + body.columns + " term columns";
+    if (body.engine) {
+      text += " · lines implied by the levels (engine)";
+      if (body.lines_without_rates) { text += ", " + body.lines_without_rates.toLocaleString() + " without a known A"; }
+    }
     if (!body.lines_reachable) { text += " · lines of this isotope cannot be listed yet"; }
     return text;
   }
@@ -95,7 +99,7 @@
       pair.textContent = line.lower + " – " + line.upper;
       var nums = document.createElement("span");
       nums.className = "nums";
-      nums.textContent = "λ vac " + number(line.vacuum_nm, 4) + " nm · A " + number(line.a_per_s, 2, true) + " s⁻¹ · " +
+      nums.textContent = "λ vac " + number(line.vacuum_nm, 4) + " nm · " + (line.a_per_s === null ? "A unknown" : "A " + number(line.a_per_s, 2, true) + " s⁻¹") + " · " +
         line.multipole;
       button.appendChild(pair);
       button.appendChild(nums);
@@ -169,6 +173,13 @@
 
   function showRecord(id, vacuumNm) {
     if (!recordBase) { return; }
+    if (id === null || id === undefined) {
+      recordHint.textContent = "This line is implied by the levels (λ vac " + number(vacuumNm, 4) +
+        " nm) and has no stored record.";
+      recordBox.hidden = true;
+      recordLink.hidden = true;
+      return;
+    }
     site.busy(true, "Fetching the line…");
     recordHint.textContent = "Loading line " + id + "…";
     window.fetch(recordBase + encodeURIComponent(id) + ".json?nm=" + encodeURIComponent(vacuumNm),
