@@ -519,6 +519,50 @@ class Catalog:
 
         return self.write(work)
 
+    def import_dataset(self, level_records: Sequence[level_io.LevelRecord],
+                       line_records: Sequence[level_io.LineRecord], *, name: str, source: str,
+                       sample: str | None = None, kind: str = "measured", citation: str = "",
+                       description: str = "", air_formula: str = "iau2000",
+                       line_source: str | None = None) -> ImportReport:
+        """One new dataset with levels and/or measured lines, in one transaction.
+
+        Line labels resolve against the store's levels with the new levels first
+        (the new dataset is the newest measured one), so a body may carry a
+        sample's levels and the lines between them together.
+        """
+        from levels import lab
+
+        if not level_records and not line_records:
+            raise InputFileError([Problem(source, None, None, "a dataset needs levels or lines")])
+        if kind not in ("measured", "imported"):
+            raise ValueError("imports make measured or imported datasets")
+
+        def work(session: Session) -> ImportReport:
+            sample_row = queries.get_or_create_sample(session, sample) if sample else None
+            ds = queries.create_dataset(session, name=name, kind=kind, citation=citation, author=self.actor,
+                                        description=description or f"imported from {source}", method="file import",
+                                        sample=sample_row, options={"air_formula": air_formula})
+            species_ids: dict[Spectrum, int] = {}
+            rows = []
+            for rec in level_records:
+                if rec.spectrum not in species_ids:
+                    species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
+                rows.append(_level_insert_row(rec, ds.id, species_ids[rec.spectrum]))
+            queries.insert_rows(session, Level, rows)
+            session.flush()
+            count = (lab.store_measured_lines(session, line_records, ds.id, line_source or source, air_formula)
+                     if line_records else 0)
+            for species_id in species_ids.values():
+                _store_derived_lines(session, session.get(Species, species_id), self.actor)
+            names = sorted({r.spectrum.name for r in level_records} | {r.spectrum.name for r in line_records})
+            queries.record_audit(session, "import-dataset", f"dataset {ds.name}",
+                                 {"source": source, "levels": len(rows), "lines": count, "species": names,
+                                  "sample": sample}, actor=self.actor)
+            return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
+                                species=names, levels=len(rows), lines=count)
+
+        return self.write(work)
+
     # ------------------------------------------------------------- lab workflow
     def fit_limit(self, spectrum: str, patterns: Sequence[str], *, datasets: Sequence[str] | None = None,
                   n_defect_terms: int = 2, n_min: int | None = None, save: bool = True) -> dict:

@@ -18,7 +18,7 @@ from flask import Blueprint, current_app, request, url_for
 from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, SPECIES_COLUMNS
 from levels.errors import AlreadyExistsError, InputFileError, NotFoundError, Problem, StoreError
 from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
-from levels.io.records import validate_levels
+from levels.io.records import LINE_FILE_COLUMNS, validate_levels, validate_lines
 
 from webui import params, services
 from webui.downloads import json_response, json_table
@@ -31,6 +31,8 @@ API_SOURCE = "<api>"
 MAX_LEVELS_PER_POST = 100_000
 DATASET_KEYS = {"name", "kind", "sample", "citation", "description", "levels", "lines"}
 LEVEL_KEYS = set(LEVEL_FIELDS) - {"dataset"}
+LINE_KEYS = set(LINE_FILE_COLUMNS)
+LINES_SOURCE = "<api lines>"
 
 
 def error(status: int, code: str, message: str, field: str | None = None, problems: list | None = None,
@@ -131,7 +133,8 @@ def _authorised() -> tuple[bool, str]:
 def _problem_json(problem: Problem) -> dict:
     field = problem.field
     if problem.line is not None:
-        field = f"levels[{problem.line - 1}]" + (f".{problem.field}" if problem.field else "")
+        key = "lines" if problem.source == LINES_SOURCE else "levels"
+        field = f"{key}[{problem.line - 1}]" + (f".{problem.field}" if problem.field else "")
     return {"field": field, "message": problem.message}
 
 
@@ -143,6 +146,24 @@ def _scalar_ok(value) -> bool:
     if isinstance(value, (int, float)):
         return math.isfinite(value)
     return False
+
+
+def _shape_problems(key: str, items: list, known: set) -> list[dict]:
+    """Shape problems of a list of row objects (not objects, unknown fields, non-scalar values)."""
+    out: list[dict] = []
+    for index, item in enumerate(items):
+        if not isinstance(item, dict):
+            out.append({"field": f"{key}[{index}]", "message": f"each entry of {key} must be a JSON object"})
+            continue
+        for name in sorted(set(item) - known):
+            out.append({"field": f"{key}[{index}].{name}",
+                        "message": f"unknown field; known: {', '.join(sorted(known))}"})
+        for name, value in item.items():
+            if name in known and not _scalar_ok(value):
+                out.append({"field": f"{key}[{index}].{name}", "message": "must be a string or a finite number"})
+        if len(out) >= 100:
+            break
+    return out
 
 
 @bp.post("/datasets")
@@ -175,46 +196,41 @@ def create_dataset():
     for key, limit in (("citation", 4000), ("description", 4000)):
         if len(body.get(key) or "") > limit:
             return error(400, "bad_body", f"{key} must be at most {limit} characters", key)
-    if body.get("lines"):
-        return error(422, "not_supported", "lines cannot be posted yet; post the levels of the dataset", "lines")
-    items = body.get("levels")
-    if not isinstance(items, list) or not items:
-        return error(400, "bad_body", "levels must be a non-empty list of level objects", "levels")
-    if len(items) > MAX_LEVELS_PER_POST:
-        return error(413, "too_large", f"at most {MAX_LEVELS_PER_POST} levels per request", "levels")
-    shape_problems = []
-    for index, item in enumerate(items):
-        if not isinstance(item, dict):
-            shape_problems.append({"field": f"levels[{index}]", "message": "each level must be a JSON object"})
-            continue
-        for key in sorted(set(item) - LEVEL_KEYS):
-            shape_problems.append({"field": f"levels[{index}].{key}",
-                                   "message": f"unknown level field; known: {', '.join(sorted(LEVEL_KEYS))}"})
-        for key, value in item.items():
-            if key in LEVEL_KEYS and not _scalar_ok(value):
-                shape_problems.append({"field": f"levels[{index}].{key}",
-                                       "message": "must be a string or a finite number"})
-        if len(shape_problems) >= 100:
-            break
+    items = body.get("levels") if body.get("levels") is not None else []
+    line_items = body.get("lines") if body.get("lines") is not None else []
+    for key, value in (("levels", items), ("lines", line_items)):
+        if not isinstance(value, list):
+            return error(400, "bad_body", f"{key} must be a list of objects", key)
+    if not items and not line_items:
+        return error(400, "bad_body", "levels must be a non-empty list of level objects (or give lines)", "levels")
+    if len(items) > MAX_LEVELS_PER_POST or len(line_items) > MAX_LEVELS_PER_POST:
+        return error(413, "too_large", f"at most {MAX_LEVELS_PER_POST} levels and lines per request", "levels")
+    shape_problems = _shape_problems("levels", items, LEVEL_KEYS) + _shape_problems("lines", line_items, LINE_KEYS)
     if shape_problems:
         first = shape_problems[0]
-        return error(400, "invalid_levels", first["message"], first["field"], shape_problems)
+        code = "invalid_levels" if first["field"].startswith("levels") else "invalid_lines"
+        return error(400, code, first["message"], first["field"], shape_problems)
     try:
         records = validate_levels(((i + 1, item) for i, item in enumerate(items)), source=API_SOURCE,
-                                  default_dataset=name)
+                                  default_dataset=name) if items else []
+        line_records = validate_lines(((i + 1, item) for i, item in enumerate(line_items)),
+                                      source=LINES_SOURCE) if line_items else []
     except InputFileError as exc:
         problems = [_problem_json(p) for p in exc.problems]
-        return error(400, "invalid_levels", problems[0]["message"], problems[0]["field"], problems)
+        code = "invalid_lines" if problems[0]["field"].startswith("lines") else "invalid_levels"
+        return error(400, code, problems[0]["message"], problems[0]["field"], problems)
     cat = services.catalog()
     try:
-        report = cat.import_level_records(records, source=API_SOURCE, sample=sample, kind=kind,
-                                          citation=body.get("citation") or "",
-                                          description=body.get("description") or "posted through the API")
+        report = cat.import_dataset(records, line_records, name=name, source=API_SOURCE, line_source=LINES_SOURCE,
+                                    sample=sample, kind=kind,
+                                    citation=body.get("citation") or "",
+                                    description=body.get("description") or "posted through the API")
     except AlreadyExistsError as exc:
         return error(409, "already_exists", str(exc), "name")
     except InputFileError as exc:
         problems = [_problem_json(p) for p in exc.problems]
-        return error(400, "invalid_levels", problems[0]["message"], problems[0]["field"], problems)
+        code = "invalid_lines" if problems[0]["field"].startswith("lines") else "invalid_levels"
+        return error(400, code, problems[0]["message"], problems[0]["field"], problems)
     except StoreError as exc:
         return error(422, "store_refused", str(exc), None)
     services.forget_species()

@@ -102,19 +102,34 @@ NEW_LEVEL = {
         "lifetime_s": {**_TEXT_OR_NUMBER, "description": "s"}, "lande_g": _TEXT_OR_NUMBER,
     },
 }
+NEW_LINE = {
+    "type": "object",
+    "additionalProperties": False,
+    "required": ["spectrum", "lower", "upper", "wavelength_nm", "medium", "unc_nm"],
+    "properties": {
+        "spectrum": {"type": "string", "maxLength": 32, "example": "Li I"},
+        "lower": {"type": "string", "maxLength": 200, "description": "label of a stored or posted level"},
+        "upper": {"type": "string", "maxLength": 200},
+        "wavelength_nm": {**_TEXT_OR_NUMBER, "description": "nm, in the given medium"},
+        "medium": {"type": "string", "enum": ["air", "vacuum"]},
+        "unc_nm": {**_TEXT_OR_NUMBER, "description": "nm"},
+        "intensity": _TEXT_OR_NUMBER, "a_per_s": {**_TEXT_OR_NUMBER, "description": "s-1"}, "f_abs": _TEXT_OR_NUMBER,
+        "multipole": {"type": "string", "enum": ["E1", "M1", "E2"]}, "note": {"type": "string", "maxLength": 4000},
+    },
+}
 NEW_DATASET = {
     "type": "object",
     "additionalProperties": False,
-    "required": ["name", "levels"],
+    "required": ["name"],
     "properties": {
         "name": {"type": "string", "minLength": 1, "maxLength": 200},
         "kind": {"type": "string", "enum": ["measured", "imported"], "default": "measured"},
         "sample": {"type": "string", "maxLength": 200, "description": "lab sample (created if new)"},
         "citation": {"type": "string", "maxLength": 4000},
         "description": {"type": "string", "maxLength": 4000},
-        "levels": {"type": "array", "minItems": 1, "maxItems": 100000, "items": {"$ref": "#/components/schemas/NewLevel"}},
-        "lines": {"type": "array", "maxItems": 0, "items": {"type": "object"},
-                  "description": "not accepted yet (a non-empty list gives 422)"},
+        "levels": {"type": "array", "maxItems": 100000, "items": {"$ref": "#/components/schemas/NewLevel"}},
+        "lines": {"type": "array", "maxItems": 100000, "items": {"$ref": "#/components/schemas/NewLine"},
+                  "description": "measured lines; lower/upper are labels of posted or stored levels"},
     },
 }
 
@@ -210,7 +225,7 @@ def openapi_document() -> dict:
                     "409": _error("a dataset of that name exists; nothing written"),
                     "413": _error("the body is too large"),
                     "415": _error("the body is not JSON"),
-                    "422": _error("the store refused the data, or lines were sent; nothing written"),
+                    "422": _error("the store refused the data; nothing written"),
                 },
             }},
             "/datasets/{id}": {"get": {
@@ -227,6 +242,6 @@ def openapi_document() -> dict:
             "securitySchemes": {"bearer": {"type": "http", "scheme": "bearer"}},
             "schemas": {"SpeciesRow": SPECIES_ROW, "LevelRow": LEVEL_ROW, "LineRow": LINE_ROW,
                         "Provenance": PROVENANCE, "Dataset": DATASET, "Error": ERROR,
-                        "NewLevel": NEW_LEVEL, "NewDataset": NEW_DATASET},
+                        "NewLevel": NEW_LEVEL, "NewLine": NEW_LINE, "NewDataset": NEW_DATASET},
         },
     }

@@ -170,9 +170,22 @@ BAD_BODIES = [
     ({**GOOD_BODY, "levels": [{**GOOD_BODY["levels"][0], "energy_cm1": True}]}, 400, "levels[0].energy_cm1"),
     ({**GOOD_BODY, "levels": [{**GOOD_BODY["levels"][0], "dataset": "other"}]}, 400, "levels[0].dataset"),
     ({**GOOD_BODY, "owner": "me"}, 400, "owner"),
-    ({**GOOD_BODY, "lines": [{"lower": "a"}]}, 422, "lines"),
+    ({**GOOD_BODY, "lines": [{"lower": "a"}]}, 400, "lines[0].spectrum"),
+    ({**GOOD_BODY, "lines": [{"spectrum": "Li I", "lower": "1s2.2s 2S1/2", "upper": "1s2.30p 2P°1/2",
+                               "wavelength_nm": 300, "medium": "air", "unc_nm": 0.01}]}, 400, "lines[0].upper"),
+    ({**GOOD_BODY, "lines": {"x": 1}}, 400, "lines"),
     ([GOOD_BODY], 400, None),
 ]
+
+
+def test_post_levels_and_lines_together(reader, shared):
+    line = {"spectrum": "Li I", "lower": "1s2.2s 2S1/2", "upper": "1s2.2p 2P°3/2", "wavelength_nm": 670.96,
+            "medium": "air", "unc_nm": 0.002, "intensity": 100}
+    body = {**GOOD_BODY, "name": "cell-5/with-lines", "lines": [line]}
+    response = reader.post("/api/v1/datasets", json=body, headers=AUTH)
+    assert response.status_code == 201, response.get_json()
+    dataset = response.get_json()["dataset"]
+    assert dataset["levels"] == 3 and dataset["lines"] == 1
 
 
 def test_bad_bodies(reader, shared):
