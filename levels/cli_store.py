@@ -124,7 +124,7 @@ def _counts(counts: dict) -> str:
 
 
 @main.command()
-@click.option("--limit", type=int, default=50, show_default=True, help="At most this many entries (0: all).")
+@click.option("--limit", type=click.IntRange(min=0), default=50, show_default=True, help="At most this many entries (0: all).")
 @click.option("--action", metavar="ACTION", help="Only this action (import-levels, retract-dataset, ...).")
 @click.option("--target", metavar="TEXT", help="Only entries whose target contains TEXT.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)
@@ -140,6 +140,7 @@ def history(obj: Context, limit: int, action: str | None, target: str | None, fm
     """
     from levels import maintenance
 
+    _existing_store(obj)
     rows = maintenance.history(obj.catalog, limit=limit or None, action=action, target=target)
     if fmt == "json":
         click.echo(json.dumps(rows, indent=1, ensure_ascii=False))
@@ -173,6 +174,7 @@ def retract(obj: Context, dataset: str, reason: str) -> None:
     """
     from levels import maintenance
 
+    _existing_store(obj)
     _print_state_change(maintenance.retract_dataset(obj.catalog, dataset, reason=reason), "retracted")
 
 
@@ -190,4 +192,5 @@ def restore(obj: Context, dataset: str, reason: str) -> None:
     """
     from levels import maintenance
 
+    _existing_store(obj)
     _print_state_change(maintenance.restore_dataset(obj.catalog, dataset, reason=reason), "restored")

@@ -116,7 +116,7 @@ def history(catalog: Catalog, *, limit: int | None = 50, action: str | None = No
         Rows with HISTORY_COLUMNS; ``at`` is ISO 8601 UTC, ``detail`` a dict.
     """
     if limit is not None and limit < 0:
-        raise DatasetStateError("limit must not be negative")
+        raise ValueError("limit must not be negative")
 
     def work(session: Session) -> list[dict]:
         query = select(AuditEntry).order_by(AuditEntry.id.desc())

@@ -226,7 +226,10 @@ def _ids(rows) -> str:
 
 
 def _report_rows(conn, problems: list[str], query, what: str, table: str) -> None:
-    """Run ``query`` (selecting ids, ordered) and add one problem line if it returns rows."""
+    """Run ``query`` (selecting ids, ordered) and add one problem line if it returns rows.
+
+    The line reads ``<table>: <count> row(s) <what> (id <first ids>)``.
+    """
     ids = list(conn.scalars(query.limit(SHOWN_IDS + 1)))
     if not ids:
         return
@@ -245,13 +248,13 @@ def _recheck_constraints(conn, tables, problems: list[str]) -> int:
             if not column.nullable and not column.primary_key:
                 count += 1
                 _report_rows(conn, problems, select(pk).where(column.is_(None)).order_by(pk),
-                             f"have no value in the required column {column.name}", table.name)
+                             f"with no value in the required column {column.name}", table.name)
         for constraint in sorted(table.constraints, key=lambda c: str(c.name)):
             if isinstance(constraint, CheckConstraint):
                 count += 1
                 condition = text(f"NOT ({constraint.sqltext.text})")
                 _report_rows(conn, problems, select(pk).where(condition).order_by(pk),
-                             f"break the CHECK constraint {constraint.name} ({constraint.sqltext.text})", table.name)
+                             f"breaking the CHECK constraint {constraint.name} ({constraint.sqltext.text})", table.name)
             elif isinstance(constraint, UniqueConstraint):
                 count += 1
                 cols = list(constraint.columns)
@@ -259,7 +262,7 @@ def _recheck_constraints(conn, tables, problems: list[str]) -> int:
                        .having(func.count() > 1).subquery())
                 query = (select(pk).join(dup, and_(*[c == dup.c[c.name] for c in cols])).order_by(pk))
                 _report_rows(conn, problems, query,
-                             f"share their ({', '.join(c.name for c in cols)}) with another row "
+                             f"repeating the ({', '.join(c.name for c in cols)}) of another row "
                              f"(unique constraint {constraint.name})", table.name)
             elif isinstance(constraint, ForeignKeyConstraint):
                 count += 1
@@ -269,7 +272,7 @@ def _recheck_constraints(conn, tables, problems: list[str]) -> int:
                 query = (select(pk).outerjoin(parent, child == parent.c[parent_col.name])
                          .where(child.is_not(None), parent.c[parent_col.name].is_(None)).order_by(pk))
                 _report_rows(conn, problems, query,
-                             f"refer to a missing {parent_col.table.name} row through {child.name} "
+                             f"pointing through {child.name} to a missing {parent_col.table.name} row "
                              f"(foreign key {constraint.name})", table.name)
     return count
 
@@ -318,26 +321,26 @@ def _invariants(conn, problems: list[str]) -> str:
     lower, upper = aliased(Level), aliased(Level)
     # every line's levels exist and belong to the line's species
     _report_rows(conn, problems, select(Line.id).outerjoin(lower, lower.id == Line.lower_id)
-                 .where(lower.id.is_(None)).order_by(Line.id), "refer to a lower level that does not exist", "lines")
+                 .where(lower.id.is_(None)).order_by(Line.id), "whose lower level does not exist", "lines")
     _report_rows(conn, problems, select(Line.id).outerjoin(upper, upper.id == Line.upper_id)
-                 .where(upper.id.is_(None)).order_by(Line.id), "refer to an upper level that does not exist", "lines")
+                 .where(upper.id.is_(None)).order_by(Line.id), "whose upper level does not exist", "lines")
     _report_rows(conn, problems, select(Line.id).join(lower, lower.id == Line.lower_id)
                  .join(upper, upper.id == Line.upper_id)
                  .where(or_(lower.species_id != Line.species_id, upper.species_id != Line.species_id))
-                 .order_by(Line.id), "join levels of another species than the line's own", "lines")
+                 .order_by(Line.id), "joining levels of another species than the line's own", "lines")
     # lower below upper in energy
     _report_rows(conn, problems, select(Line.id).join(lower, lower.id == Line.lower_id)
                  .join(upper, upper.id == Line.upper_id).where(lower.energy_cm1 >= upper.energy_cm1)
-                 .order_by(Line.id), "have a lower level that is not below the upper level in energy", "lines")
+                 .order_by(Line.id), "whose lower level is not below the upper level in energy", "lines")
     # finite energies and wavenumbers
     for model, column in ((Level, Level.energy_cm1), (IonizationLimit, IonizationLimit.energy_cm1),
                           (Line, Line.wavenumber_cm1), (Line, Line.vacuum_nm)):
         _report_rows(conn, problems, select(model.id).where(_not_finite(column)).order_by(model.id),
-                     f"have a {column.key} that is not a finite number", model.__tablename__)
+                     f"whose {column.key} is not a finite number", model.__tablename__)
     # wavenumber consistent with the vacuum wavelength: |sigma * lambda / 1e7 - 1| <= 1e-9
     _report_rows(conn, problems, select(Line.id).where(
         func.abs(Line.wavenumber_cm1 * Line.vacuum_nm - 1e7) > WAVENUMBER_TOLERANCE * 1e7).order_by(Line.id),
-        f"have a wavenumber_cm1 that differs from 1e7 / vacuum_nm by more than {WAVENUMBER_TOLERANCE:g} (relative)",
+        f"whose wavenumber_cm1 differs from 1e7 / vacuum_nm by more than {WAVENUMBER_TOLERANCE:g} (relative)",
         "lines")
     # orphan datasets
     has_levels = select(Level.id).where(Level.dataset_id == Dataset.id).exists()
