@@ -6,6 +6,7 @@ through the connection's search_path, and dropped afterwards.
 
 from __future__ import annotations
 
+import contextlib
 import os
 import uuid
 
@@ -37,12 +38,9 @@ def _postgres_schema_url(base: str, schema: str) -> str:
     return url.render_as_string(hide_password=False)
 
 
-@pytest.fixture(params=BACKENDS)
-def store_url(request, tmp_path):
-    """URL of an empty, not yet initialised store on each backend."""
-    if request.param == "sqlite":
-        yield f"sqlite:///{tmp_path / 'store.sqlite'}"
-        return
+@contextlib.contextmanager
+def postgres_schema():
+    """URL of a fresh PostgreSQL schema of its own (random name), dropped afterwards."""
     schema = f"t_{uuid.uuid4().hex[:16]}"
     admin = create_engine(_postgres_schema_url(POSTGRES_URL, "public"))
     with admin.begin() as conn:
@@ -53,6 +51,23 @@ def store_url(request, tmp_path):
         with admin.begin() as conn:
             conn.execute(text(f'DROP SCHEMA "{schema}" CASCADE'))
         admin.dispose()
+
+
+@contextlib.contextmanager
+def backend_url(backend: str, folder):
+    """A fresh, empty store URL on ``backend`` ("sqlite" in ``folder``, or "postgresql")."""
+    if backend == "sqlite":
+        yield f"sqlite:///{folder / 'store.sqlite'}"
+        return
+    with postgres_schema() as url:
+        yield url
+
+
+@pytest.fixture(params=BACKENDS)
+def store_url(request, tmp_path):
+    """URL of an empty, not yet initialised store on each backend."""
+    with backend_url(request.param, tmp_path) as url:
+        yield url
 
 
 @pytest.fixture

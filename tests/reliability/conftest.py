@@ -52,21 +52,9 @@ def raw_execute(catalog, *statements: str) -> None:
 @pytest.fixture
 def postgres_url():
     """URL of a fresh, empty PostgreSQL schema (skips when LEVELS_TEST_POSTGRES_URL is not set)."""
-    import uuid
-
-    from sqlalchemy import create_engine
-
-    from tests.conftest import POSTGRES_URL, _postgres_schema_url
+    from tests.conftest import POSTGRES_URL, postgres_schema
 
     if not POSTGRES_URL:
         pytest.skip("LEVELS_TEST_POSTGRES_URL is not set: PostgreSQL leg skipped")
-    schema = f"t_{uuid.uuid4().hex[:16]}"
-    admin = create_engine(_postgres_schema_url(POSTGRES_URL, "public"))
-    with admin.begin() as conn:
-        conn.execute(text(f'CREATE SCHEMA "{schema}"'))
-    try:
-        yield _postgres_schema_url(POSTGRES_URL, schema)
-    finally:
-        with admin.begin() as conn:
-            conn.execute(text(f'DROP SCHEMA "{schema}" CASCADE'))
-        admin.dispose()
+    with postgres_schema() as url:
+        yield url

@@ -8,19 +8,17 @@ and one dataset whose label and name carry HTML, to prove it is escaped.
 
 from __future__ import annotations
 
-import contextlib
 import re
 import threading
-import uuid
 import warnings
 from pathlib import Path
 
 import numpy as np
 import pytest
-from sqlalchemy import create_engine, select, text
+from sqlalchemy import select
 
 from levels.catalog import Catalog
-from tests.conftest import BACKENDS, POSTGRES_URL, _postgres_schema_url
+from tests.conftest import BACKENDS
 from levels.physics.air import vacuum_to_air
 from levels.store import database, queries
 from levels.store.schema import IonizationLimit, Level, Line
@@ -132,22 +130,11 @@ def store(catalog):
     return fill_store(catalog)
 
 
-@contextlib.contextmanager
 def _backend_url(backend: str, folder: Path):
-    """A fresh, empty store URL on ``backend`` (as tests/conftest.py's ``store_url``, for other scopes)."""
-    if backend == "sqlite":
-        yield f"sqlite:///{folder / 'store.sqlite'}"
-        return
-    schema = f"t_{uuid.uuid4().hex[:16]}"
-    admin = create_engine(_postgres_schema_url(POSTGRES_URL, "public"))
-    with admin.begin() as conn:
-        conn.execute(text(f'CREATE SCHEMA "{schema}"'))
-    try:
-        yield _postgres_schema_url(POSTGRES_URL, schema)
-    finally:
-        with admin.begin() as conn:
-            conn.execute(text(f'DROP SCHEMA "{schema}" CASCADE'))
-        admin.dispose()
+    """A fresh, empty store URL on ``backend`` (tests/conftest.py's helper, for other scopes)."""
+    from tests.conftest import backend_url
+
+    return backend_url(backend, folder)
 
 
 @pytest.fixture(scope="module", params=BACKENDS)
