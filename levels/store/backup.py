@@ -446,7 +446,7 @@ def check_empty(session: Session, where: str) -> None:
     if held:
         listed = ", ".join(f"{name}: {n}" for name, n in held.items())
         raise StoreFileError(f"the target store {where} is not empty ({listed}); import-store fills an empty "
-                             "store only (create a new one with 'levels --db NEW init')")
+                             "store only (name a new file or database with --db)")
 
 
 def insert_rows_from_file(session: Session, path: str | os.PathLike, header: dict) -> dict[str, int]:

@@ -196,9 +196,13 @@ def _sqlite_pragma(engine: Engine, report: StoreReport, pragma: str) -> None:
             if rows != ["ok"]:
                 report.problems.extend(f"sqlite: integrity_check: {r}" for r in rows)
         else:
-            for row in conn.exec_driver_sql("PRAGMA foreign_key_check"):
+            rows = conn.exec_driver_sql("PRAGMA foreign_key_check").all()
+            for row in rows[:SHOWN_IDS]:
                 report.problems.append(f"sqlite: foreign_key_check: table {row[0]} row {row[1]} refers to "
                                        f"missing {row[2]}")
+            if len(rows) > SHOWN_IDS:
+                report.problems.append(f"sqlite: foreign_key_check: {len(rows) - SHOWN_IDS} more rows refer to "
+                                       "missing parents")
 
 
 def _check_schema(engine: Engine, report: StoreReport, existing: set[str]) -> None:
