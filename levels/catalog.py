@@ -710,7 +710,7 @@ def _store_derived_lines(session: Session, species: Species, actor: str) -> int:
 
     # one writer per species at a time rebuilds its derived lines (row lock on PostgreSQL;
     # SQLite write transactions are serialised already)
-    session.execute(select(Species.id).where(Species.id == species.id).with_for_update())
+    session.execute(select(Species.id).where(Species.id == species.id).with_for_update(key_share=True))
     name = derived_dataset_name(species.name, species.mass_number)
     old = queries.find_dataset(session, name)
     if old is not None:

@@ -19,6 +19,7 @@ brackets, ``45[27]`` for n = 45, l = 27; ``2[27]`` for a doublet with L = 27.
 
 from __future__ import annotations
 
+import math
 import re
 from dataclasses import dataclass
 from fractions import Fraction
@@ -246,6 +247,8 @@ def parse_j(text: str | float | int) -> int:
     (3, 3, 0)
     """
     if isinstance(text, bool):
+        raise NotationError(f"{text!r} is not a J value")
+    if isinstance(text, float) and not math.isfinite(text):
         raise NotationError(f"{text!r} is not a J value")
     if isinstance(text, (int, float)):
         raw = repr(text)

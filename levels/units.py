@@ -187,10 +187,14 @@ def parse_quantity(text: str, dimension: str, default_unit: str | None = None) -
         raise UnitError(f"{text!r}: unknown unit {unit!r}")
     unit_dim, factor = _UNITS[unit]
     if dimension == "temperature" and unit_dim == "energy":
-        return value * factor / K_B
-    if unit_dim != dimension:
+        result = value * factor / K_B
+    elif unit_dim != dimension:
         raise UnitError(f"{text!r}: {unit!r} is a unit of {unit_dim}, expected a {dimension}")
-    return value * factor
+    else:
+        result = value * factor
+    if not math.isfinite(result):
+        raise UnitError(f"{text!r} is too large a {dimension}")
+    return result
 
 
 def _example(dimension: str) -> str:
@@ -206,7 +210,10 @@ def _example(dimension: str) -> str:
 
 def wavelength_nm(text: str) -> float:
     """Parse a wavelength with a unit and return it in nm (``"6563A"`` -> 656.3)."""
-    return parse_quantity(text, "length") * 1e9
+    value = parse_quantity(text, "length") * 1e9
+    if not math.isfinite(value):
+        raise UnitError(f"{text!r} is too large a wavelength")
+    return value
 
 
 def temperature_k(text: str) -> float:

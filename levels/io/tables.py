@@ -122,7 +122,10 @@ def read_delimited(path_or_bytes: str | os.PathLike | bytes, *, source: str | No
     if index == len(lines):
         raise InputFileError([Problem(name, None, None, "no header line; the file holds only comments or blank lines")])
     header_line = index + 1
-    header = [cell.strip() for cell in next(csv.reader([lines[index]]))]
+    try:
+        header = [cell.strip() for cell in next(csv.reader([lines[index]]))]
+    except csv.Error as exc:
+        raise InputFileError([Problem(name, header_line, None, f"malformed CSV header: {exc}")]) from None
     problems = _check_header(name, header_line, header, known_columns, required_columns)
     if problems:
         raise InputFileError(problems)

@@ -248,8 +248,13 @@ def _first_line(message: str) -> str:
 
 @contextlib.contextmanager
 def read_session(engine: Engine) -> Iterator[Session]:
-    """A session for reads (one consistent snapshot per transaction)."""
-    with session_factory(engine)() as session:
+    """A session for reads (one consistent snapshot per transaction).
+
+    SQLite gives a snapshot per read transaction under WAL; on PostgreSQL the
+    session runs REPEATABLE READ so every statement of it sees the same moment.
+    """
+    bind = engine if is_sqlite(engine) else engine.execution_options(isolation_level="REPEATABLE READ")
+    with session_factory(bind)() as session:
         yield session
 
 
