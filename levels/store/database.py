@@ -23,7 +23,7 @@ from typing import TypeVar
 
 from sqlalchemy import Engine, create_engine, event, inspect, select, text
 from sqlalchemy.engine import make_url
-from sqlalchemy.exc import ArgumentError, IntegrityError, OperationalError
+from sqlalchemy.exc import ArgumentError, DatabaseError, IntegrityError, OperationalError
 from sqlalchemy.orm import Session, sessionmaker
 
 from levels.errors import AlreadyExistsError, StoreError
@@ -165,7 +165,7 @@ def current_revision(engine: Engine) -> str | None:
     try:
         with engine.connect() as connection:
             return MigrationContext.configure(connection).get_current_revision()
-    except OperationalError as exc:
+    except DatabaseError as exc:
         raise StoreError(f"cannot open the store at {display_url(str(engine.url))}: {exc.orig}") from None
 
 
@@ -312,5 +312,5 @@ def ping(engine: Engine) -> None:
     try:
         with engine.connect() as connection:
             connection.execute(text("SELECT 1"))
-    except OperationalError as exc:
+    except DatabaseError as exc:
         raise StoreError(f"cannot reach the store at {display_url(str(engine.url))}: {_first_line(str(exc.orig))}") from None
