@@ -51,6 +51,13 @@ below any physical relevance) underflow to 0. Relative accuracy is about 1e-15
 for ``n <= 30`` and a few 1e-13 at ``n = 1000`` (limited by the log-gamma of the
 start value).
 
+Implementation: the recurrence is a scalar loop per element or per shell pair,
+compiled with numba (``numba.njit``, cached on disk after the first run). Where
+numba is not importable, or ``LEVELS_NO_JIT=1`` is set, the same loops run as
+plain Python for single elements and a numpy kernel vectorised over shell pairs
+(one array step per value of l) serves the array functions; the tests check the
+two against each other and against the closed forms.
+
 Sign convention: that of :func:`sympy.physics.hydrogen.R_nl` (radial functions
 positive near the origin); with it every integral with ``n != n'`` computed
 here is positive. For ``n = n'`` the closed form is
@@ -74,7 +81,8 @@ L. Infeld and T. E. Hull, "The factorization method", Rev. Mod. Phys. 23, 21-68 
 from __future__ import annotations
 
 import math
-from typing import Any
+import os
+from typing import Any, Callable
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -98,6 +106,30 @@ DEFAULT_MAX_ROWS = 60_000_000
 _RESCALE_EVERY = 16
 # Work-array size (elements) of one chunk of the vectorised recurrence.
 _CHUNK_ELEMENTS = 1 << 17
+# Below this many elements radial_dipole_array runs each element on its own
+# (cost: steps from l = n_lower down to its l); above it, the distinct shell
+# pairs once each (cost: n_lower steps per pair, plus a sort).
+_PER_ELEMENT_LIMIT = 4096
+
+
+def _load_jit() -> Callable[[Callable[..., Any]], Callable[..., Any]] | None:
+    """``numba.njit(cache=True)`` when numba imports and ``LEVELS_NO_JIT`` is not set, else None."""
+    if os.environ.get("LEVELS_NO_JIT", "").strip() not in ("", "0"):
+        return None
+    try:
+        import numba
+    except ImportError:  # pragma: no cover - numba is a declared dependency
+        return None
+    return numba.njit(cache=True, nogil=True)
+
+
+_JIT = _load_jit()
+#: True when the loop kernels are compiled (numba); False: numpy fallback.
+COMPILED = _JIT is not None
+
+
+def _maybe_jit(func: Callable[..., Any]) -> Callable[..., Any]:
+    return _JIT(func) if _JIT is not None else func
 
 
 # ----------------------------------------------------------------------------
@@ -147,27 +179,27 @@ def _as_int_array(value: ArrayLike, name: str) -> NDArray[np.int64]:
     raise QuantumNumberError(f"{name} must hold integers, got dtype {arr.dtype}")
 
 
+def _nl_problem(n: NDArray[np.int64], l: NDArray[np.int64], index: int, name: str = "") -> QuantumNumberError:
+    """The error for element ``index`` of flat arrays ``n``, ``l`` (which breaks ``n >= 1`` or ``0 <= l < n``)."""
+    n_i, l_i = int(n[index]), int(l[index])
+    if n_i < 1:
+        return QuantumNumberError(f"principal quantum number n{name} must be >= 1; element {index} has n{name}={n_i}")
+    return QuantumNumberError(
+        f"orbital quantum number l{name} must satisfy 0 <= l{name} < n{name}; element {index} has "
+        f"n{name}={n_i}, l{name}={l_i}"
+    )
+
+
 def _check_nl_arrays(n: NDArray[np.int64], l: NDArray[np.int64], name: str = "") -> None:
-    if n.size and n.min() < 1:
-        raise QuantumNumberError(f"principal quantum number n{name} must be >= 1 everywhere")
-    if n.size and (np.any(l < 0) or np.any(l >= n)):
-        raise QuantumNumberError(f"orbital quantum number l{name} must satisfy 0 <= l < n everywhere")
+    n, l = np.broadcast_arrays(n, l)
+    bad = np.flatnonzero((n < 1) | (l < 0) | (l >= n))
+    if bad.size:
+        raise _nl_problem(n.ravel(), l.ravel(), int(bad[0]), name)
 
 
 # ----------------------------------------------------------------------------
 # kernels (infinite nuclear mass, z = 1, Bohr radii)
 # ----------------------------------------------------------------------------
-
-
-def _log_start(n: float, m: float) -> float:
-    """log P_{m} = log <n, m | r | m, m-1> for n > m >= 1 (Gordon 1929)."""
-    x = (n - m) / (n + m)
-    return (
-        math.log(0.25)
-        + 0.5 * (math.lgamma(n + m + 1) - math.lgamma(n - m) - math.lgamma(2 * m))
-        + (m + 2) * math.log1p(-x * x)
-        + (n - m - 2) * math.log(x)
-    )
 
 
 def _log_start_array(n: NDArray[np.float64], m: NDArray[np.float64]) -> NDArray[np.float64]:
@@ -181,46 +213,128 @@ def _log_start_array(n: NDArray[np.float64], m: NDArray[np.float64]) -> NDArray[
     )
 
 
-def _pair_kernel(n: int, m: int, l_stop: int = 1) -> tuple[list[float], list[float]]:
-    """P_l and Q_l of one pair n > m for l = m down to ``l_stop`` (pure Python floats).
+@_maybe_jit
+def _log_start(n: int, m: int) -> float:
+    """log P_{m} = log <n, m | r | m, m-1> for n > m >= 1 (Gordon 1929)."""
+    x = (n - m) / (n + m)
+    return (
+        math.log(0.25)
+        + 0.5 * (math.lgamma(n + m + 1.0) - math.lgamma(n - m + 0.0) - math.lgamma(2.0 * m))
+        + (m + 2) * math.log1p(-x * x)
+        + (n - m - 2) * math.log(x)
+    )
 
-    Returns lists indexed by l (index 0 unused): ``P[l]`` for l_stop <= l <= m,
-    ``Q[l]`` for l_stop <= l <= m - 1 (``Q[m] = 0``).
+
+@_maybe_jit
+def _step(l: int, n: int, m: int, p: float, q: float, a1: float, b1: float) -> tuple[float, float, float, float]:
+    """One downward step ``l + 1 -> l`` of the recurrence; returns ``(P_l, Q_l, a_l, b_l)`` (unscaled)."""
+    ll = float(l) * l
+    a0 = math.sqrt(float(n) * n - ll) / n
+    b0 = math.sqrt(float(m) * m - ll) / m
+    t = 2.0 * l + 1.0
+    d = 2.0 * (l + 1)
+    return (t * a1 * p + b1 * q) / (d * b0), (a1 * p + t * b1 * q) / (d * a0), a0, b0
+
+
+@_maybe_jit
+def _one_element(n: int, m: int, l_big: int, want_p: bool) -> float:
+    """One integral of the pair ``n > m``: ``P_{l_big}`` or ``Q_{l_big}`` (infinite mass, z = 1).
+
+    Runs the recurrence of the module docstring from ``l = m`` down to
+    ``l = l_big`` (``1 <= l_big <= m``; for Q, ``l_big <= m - 1``), rescaling
+    every ``_RESCALE_EVERY`` steps into a running logarithm.
     """
-    P = [0.0] * (m + 1)
-    Q = [0.0] * (m + 1)
     log_scale = _log_start(n, m)
-    scale = math.exp(log_scale)
-    P[m] = scale
-    p, q = 1.0, 0.0
-    n2, m2 = float(n) * n, float(m) * m
-    a1 = math.sqrt(n2 - m2) / n  # a_{l+1}
+    p = 1.0
+    q = 0.0
+    a1 = math.sqrt(float(n) * n - float(m) * m) / n  # a_{l+1}
     b1 = 0.0  # b_{l+1} = b_m = 0
     steps = 0
-    for l in range(m - 1, l_stop - 1, -1):
-        ll = float(l) * l
-        a0 = math.sqrt(n2 - ll) / n
-        b0 = math.sqrt(m2 - ll) / m
-        t = 2.0 * l + 1.0
-        d = 2.0 * (l + 1)
-        p, q = (t * a1 * p + b1 * q) / (d * b0), (a1 * p + t * b1 * q) / (d * a0)
+    for l in range(m - 1, l_big - 1, -1):
+        p, q, a1, b1 = _step(l, n, m, p, q, a1, b1)
         steps += 1
         if steps % _RESCALE_EVERY == 0:
-            s = max(abs(p), abs(q))
+            s = max(p, q)  # both are positive
             p /= s
             q /= s
             log_scale += math.log(s)
-            scale = math.exp(log_scale)
-        P[l] = p * scale
-        Q[l] = q * scale
-        a1, b1 = a0, b0
-    return P, Q
+    return (p if want_p else q) * math.exp(log_scale)
+
+
+@_maybe_jit
+def _loop_elements(
+    n_hi: NDArray[np.int64], n_lo: NDArray[np.int64], l_big: NDArray[np.int64], want_p: NDArray[np.bool_],
+    out: NDArray[np.float64],
+) -> None:
+    """:func:`_one_element` for each element; writes ``out``."""
+    for i in range(n_hi.size):
+        out[i] = _one_element(n_hi[i], n_lo[i], l_big[i], want_p[i])
+
+
+@_maybe_jit
+def _loop_any_order(
+    n_a: NDArray[np.int64], l_a: NDArray[np.int64], n_b: NDArray[np.int64], l_b: NDArray[np.int64],
+    out: NDArray[np.float64],
+) -> int:
+    """Check and compute elements given in any order of the two states (infinite mass, z = 1).
+
+    Writes ``out`` (NaN where ``|l_a - l_b| != 1``) and returns -1, or, before
+    writing anything, returns the index of the first element with ``n < 1`` or
+    ``l`` outside ``0 .. n-1`` in either state.
+    """
+    for i in range(n_a.size):
+        if n_a[i] < 1 or l_a[i] < 0 or l_a[i] >= n_a[i] or n_b[i] < 1 or l_b[i] < 0 or l_b[i] >= n_b[i]:
+            return i
+    for i in range(n_a.size):
+        na, la, nb, lb = n_a[i], l_a[i], n_b[i], l_b[i]
+        if abs(la - lb) != 1:
+            out[i] = np.nan
+        elif na == nb:
+            big = float(max(la, lb))
+            out[i] = -1.5 * na * math.sqrt(float(na) * na - big * big)
+        elif na > nb:
+            out[i] = _one_element(na, nb, max(la, lb), la == lb + 1)
+        else:
+            out[i] = _one_element(nb, na, max(la, lb), lb == la + 1)
+    return -1
+
+
+@_maybe_jit
+def _loop_pairs(
+    n_hi: NDArray[np.int64], n_lo: NDArray[np.int64], offset_p: NDArray[np.int64], offset_q: NDArray[np.int64],
+    P: NDArray[np.float64], Q: NDArray[np.float64],
+) -> None:
+    """Every ``P_l`` (l = 1..m) and ``Q_l`` (l = 1..m-1) of each pair ``n > m``; layout of :func:`_pairs_kernel`."""
+    for k in range(n_hi.size):
+        n = n_hi[k]
+        m = n_lo[k]
+        op = offset_p[k]
+        oq = offset_q[k]
+        log_scale = _log_start(n, m)
+        scale = math.exp(log_scale)
+        P[op + m - 1] = scale
+        p = 1.0
+        q = 0.0
+        a1 = math.sqrt(float(n) * n - float(m) * m) / n
+        b1 = 0.0
+        steps = 0
+        for l in range(m - 1, 0, -1):
+            p, q, a1, b1 = _step(l, n, m, p, q, a1, b1)
+            steps += 1
+            if steps % _RESCALE_EVERY == 0:
+                s = max(p, q)
+                p /= s
+                q /= s
+                log_scale += math.log(s)
+                scale = math.exp(log_scale)
+            P[op + l - 1] = p * scale
+            Q[oq + l - 1] = q * scale
 
 
 def _pairs_kernel(
     n_hi: NDArray[np.int64], n_lo: NDArray[np.int64]
 ) -> tuple[NDArray[np.float64], NDArray[np.float64], NDArray[np.int64], NDArray[np.int64]]:
-    """Run the recurrence for many pairs at once, vectorised over pairs.
+    """Run the recurrence for many pairs: compiled loop, or numpy vectorised over pairs.
 
     Parameters
     ----------
@@ -249,7 +363,10 @@ def _pairs_kernel(
     Q = np.empty(int(count_q.sum()), dtype=np.float64)
     if n_lo.size == 0:
         return P, Q, offset_p, offset_q
-    # pairs in order of decreasing n_lo: in each chunk the pairs still running at
+    if COMPILED:
+        _loop_pairs(n_hi, n_lo, offset_p, offset_q, P, Q)
+        return P, Q, offset_p, offset_q
+    # numpy fallback: pairs in order of decreasing n_lo: in each chunk the pairs still running at
     # step k (l = n_lo - k >= 1) are a prefix of the columns
     order = np.argsort(-n_lo, kind="stable")
     hs, ls, op, oq = n_hi[order], n_lo[order], offset_p[order], offset_q[order]
@@ -394,13 +511,8 @@ def radial_dipole(n: int, l: int, n2: int, l2: int, z: int = 1, mass_ratio: floa
     if n < n2:
         n, l, n2, l2 = n2, l2, n, l
     # now n > n2: the upper state is (n, l)
-    if l == l2 + 1:
-        P, _ = _pair_kernel(n, n2, l_stop=l)
-        value = P[l]
-    else:  # l == l2 - 1: Q_{l2} = <n l2-1 | r | n2 l2>
-        _, Q = _pair_kernel(n, n2, l_stop=l2)
-        value = Q[l2]
-    return value / divisor
+    # l == l2 + 1: P_l; l == l2 - 1: Q_{l2} = <n l2-1 | r | n2 l2>
+    return float(_one_element(n, n2, max(l, l2), l == l2 + 1)) / divisor
 
 
 def radial_dipole_all_l(
@@ -461,10 +573,11 @@ def radial_dipole_all_l(
     if n_upper <= n_lower:
         raise QuantumNumberError(f"n_upper must be > n_lower, got n_upper={n_upper}, n_lower={n_lower}")
     divisor = _check_scale(z, mass_ratio)
-    P, Q = _pair_kernel(n_upper, n_lower)
-    r_down = np.array(P[1:], dtype=np.float64) / divisor
-    r_up = np.array(Q[1:n_lower], dtype=np.float64) / divisor
-    return r_down, r_up
+    P = np.empty(n_lower)
+    Q = np.empty(n_lower - 1)
+    zero = np.zeros(1, dtype=np.int64)
+    _loop_pairs(np.array([n_upper], dtype=np.int64), np.array([n_lower], dtype=np.int64), zero, zero, P, Q)
+    return P / divisor, Q / divisor
 
 
 def radial_dipole_array(
@@ -496,8 +609,10 @@ def radial_dipole_array(
 
     Notes
     -----
-    The distinct ``(n_upper, n_lower)`` pairs are run through the recurrence
-    together, vectorised over pairs, one step per value of l.
+    Up to a few thousand elements, each runs the compiled recurrence from
+    ``l = n_lower`` down to its own l. Larger inputs run each distinct
+    ``(n_upper, n_lower)`` pair once over all l (compiled loop, or the numpy
+    fallback vectorised over pairs when numba is not available).
 
     Examples
     --------
@@ -509,9 +624,18 @@ def radial_dipole_array(
     )
     shape = n_a.shape
     n_a, l_a, n_b, l_b = (x.ravel() for x in (n_a, l_a, n_b, l_b))
+    divisor = _check_scale(z, mass_ratio)
+    if COMPILED and n_a.size <= _PER_ELEMENT_LIMIT:
+        out = np.empty(n_a.size)
+        bad = _loop_any_order(n_a, l_a, n_b, l_b, out)
+        if bad >= 0:
+            first_state_bad = n_a[bad] < 1 or not 0 <= l_a[bad] < n_a[bad]
+            raise _nl_problem(n_a, l_a, bad) if first_state_bad else _nl_problem(n_b, l_b, bad, "2")
+        if divisor != 1.0:
+            out /= divisor
+        return out.reshape(shape)
     _check_nl_arrays(n_a, l_a)
     _check_nl_arrays(n_b, l_b, "2")
-    divisor = _check_scale(z, mass_ratio)
     out = np.full(n_a.size, np.nan)
     e1 = np.abs(l_a - l_b) == 1
     same = e1 & (n_a == n_b)

@@ -3,6 +3,9 @@
 from __future__ import annotations
 
 import math
+import os
+import subprocess
+import sys
 import warnings
 from fractions import Fraction
 from functools import lru_cache
@@ -15,6 +18,7 @@ from scipy.integrate import quad
 from sympy.physics.hydrogen import R_nl
 
 from levels.errors import PhysicsInputError, QuantumNumberError, TooLargeError
+from levels.physics import radial
 from levels.physics.radial import (
     radial_dipole,
     radial_dipole_all_l,
@@ -266,7 +270,7 @@ def test_vectorised_path_at_high_n_matches_scalar_path_without_warnings():
             ls = np.arange(1, n2 + 1)
             got_down = radial_dipole_array(n, ls, n2, ls - 1)
             got_up = radial_dipole_array(n, ls[:-1] - 1, n2, ls[:-1])
-            # scalar and vectorised paths differ only in the log-gamma routine (math vs scipy)
+            # same recurrence; the two paths may differ in the log-gamma routine (math vs scipy)
             np.testing.assert_allclose(got_down, down, rtol=1e-11, atol=0)
             np.testing.assert_allclose(got_up, up, rtol=1e-11, atol=0)
 
@@ -320,6 +324,79 @@ def test_table_scaling_and_small_cases():
 
 
 # ----------------------------------------------------------------------------
+# compiled kernels and the numpy fallback
+# ----------------------------------------------------------------------------
+
+
+@pytest.fixture
+def numpy_fallback(monkeypatch):
+    """Run the array paths through the numpy fallback (as without numba)."""
+    monkeypatch.setattr(radial, "COMPILED", False)
+
+
+def test_kernels_are_compiled_when_numba_is_installed():
+    pytest.importorskip("numba")
+    assert radial.COMPILED
+
+
+def test_numpy_fallback_table_matches_compiled_table(monkeypatch):
+    compiled = radial_dipole_table(80)[4]
+    monkeypatch.setattr(radial, "COMPILED", False)
+    fallback = radial_dipole_table(80)[4]
+    # the two start values use different log-gamma routines (math.lgamma compiled,
+    # scipy gammaln in numpy); error budget: three log-gamma values of size up to
+    # lgamma(161) ~ 650, each rounded to ~1 ulp (1.1e-13): 3 * 650 * 2**-52 ~ 4.3e-13
+    budget = 3 * math.lgamma(161) * 2.0**-52
+    np.testing.assert_allclose(fallback, compiled, rtol=budget, atol=0)
+
+
+@pytest.mark.parametrize("n, n2", [(7, 4), (30, 12), (30, 29)])
+def test_numpy_fallback_against_gordon(numpy_fallback, n, n2):
+    # Gordon (1929) closed form, exact hypergeometric polynomials (see gordon() above)
+    ls = np.arange(1, n2 + 1)
+    got = radial_dipole_array(n, ls, n2, ls - 1)
+    np.testing.assert_allclose(got, [gordon(n, int(k), n2) for k in ls], rtol=1e-12, atol=0)
+
+
+def test_large_array_path_matches_per_element_path():
+    # above _PER_ELEMENT_LIMIT elements the distinct pairs are run once each
+    rng = np.random.default_rng(11)
+    size = 3 * radial._PER_ELEMENT_LIMIT
+    n = rng.integers(2, 120, size)
+    n2 = rng.integers(1, 120, size)
+    l2 = np.array([rng.integers(0, k) for k in n2])
+    l = l2 + 1
+    ok = l < n
+    n, l, n2, l2 = n[ok], l[ok], n2[ok], l2[ok]
+    assert n.size > radial._PER_ELEMENT_LIMIT
+    whole = radial_dipole_array(n, l, n2, l2, z=2)
+    pieces = np.concatenate([radial_dipole_array(n[i:i + 1000], l[i:i + 1000], n2[i:i + 1000], l2[i:i + 1000], z=2)
+                             for i in range(0, n.size, 1000)])
+    np.testing.assert_allclose(whole, pieces, rtol=1e-13, atol=0)
+
+
+def test_python_form_of_the_compiled_kernel_matches():
+    # the kernel source run as plain Python (numba's py_func) gives the compiled result
+    kernel = getattr(radial._one_element, "py_func", radial._one_element)
+    for n, l, n2 in [(30, 5, 12), (200, 150, 180), (1000, 3, 999)]:
+        assert kernel(n, n2, l, True) == pytest.approx(radial_dipole(n, l, n2, l - 1), rel=1e-14)
+
+
+def test_without_numba_in_a_fresh_process():
+    code = (
+        "from levels.physics import radial; import numpy as np;"
+        "assert not radial.COMPILED;"
+        "R = radial.radial_dipole_table(25)[4]; print(float(R.sum()));"
+        "print(radial.radial_dipole(9, 3, 3, 2))"
+    )
+    env = dict(os.environ, LEVELS_NO_JIT="1")
+    out = subprocess.run([sys.executable, "-c", code], env=env, capture_output=True, text=True, check=True).stdout
+    total, single = (float(x) for x in out.split())
+    assert total == pytest.approx(radial_dipole_table(25)[4].sum(), rel=1e-13)
+    assert single == pytest.approx(sympy_exact(9, 3, 3, 2), rel=1e-12)
+
+
+# ----------------------------------------------------------------------------
 # errors and forbidden combinations
 # ----------------------------------------------------------------------------
 
@@ -333,8 +410,10 @@ def test_malformed_quantum_numbers_raise():
         radial_dipole(2.5, 1, 1, 0)
     with pytest.raises(QuantumNumberError, match="n_upper must be > n_lower"):
         radial_dipole_all_l(3, 3)
-    with pytest.raises(QuantumNumberError):
+    with pytest.raises(QuantumNumberError, match="element 1 has n=3, l=3"):
         radial_dipole_array([2, 3], [1, 3], [1, 1], [0, 0])
+    with pytest.raises(QuantumNumberError, match="element 2 has n2=0"):
+        radial_dipole_array([2, 3, 4], [1, 2, 3], [1, 1, 0], [0, 0, 0])
     with pytest.raises(QuantumNumberError):
         radial_dipole_table(0)
 
