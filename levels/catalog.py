@@ -11,7 +11,7 @@ from __future__ import annotations
 import json
 import math
 import os
-from collections.abc import Callable, Mapping, Sequence
+from collections.abc import Callable, Iterable, Mapping, Sequence
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -278,7 +278,11 @@ class Catalog:
         spec = parse_spectrum(spectrum)
 
         def work(session: Session) -> int:
-            return _store_derived_lines(session, queries.require_species(session, spec), self.actor)
+            species = queries.require_species(session, spec)
+            count = _store_derived_lines(session, species, self.actor)
+            queries.record_audit(session, "recompute-lines", f"species {species.name}",
+                                 {"derived_lines": count}, actor=self.actor)
+            return count
 
         return self.write(work)
 
@@ -510,10 +514,11 @@ class Catalog:
                                         method="file import", sample=sample_row,
                                         options={"air_formula": air_formula})
             count = lab.store_measured_lines(session, records, ds.id, source, air_formula)
+            derived = _rebuild_derived_lines(session, {r.spectrum for r in records}, self.actor)
             names = sorted({r.spectrum.name for r in records})
             queries.record_audit(session, "import-lines", f"dataset {ds.name}",
-                                 {"source": source, "lines": count, "species": names, "sample": sample},
-                                 actor=self.actor)
+                                 {"source": source, "lines": count, "species": names, "sample": sample,
+                                  "derived_lines": derived}, actor=self.actor)
             return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
                                 species=names, lines=count)
 
@@ -552,12 +557,12 @@ class Catalog:
             session.flush()
             count = (lab.store_measured_lines(session, line_records, ds.id, line_source or source, air_formula)
                      if line_records else 0)
-            for species_id in species_ids.values():
-                _store_derived_lines(session, session.get(Species, species_id), self.actor)
+            spectra = set(species_ids) | {r.spectrum for r in line_records}
+            derived = _rebuild_derived_lines(session, spectra, self.actor)
             names = sorted({r.spectrum.name for r in level_records} | {r.spectrum.name for r in line_records})
             queries.record_audit(session, "import-dataset", f"dataset {ds.name}",
                                  {"source": source, "levels": len(rows), "lines": count, "species": names,
-                                  "sample": sample}, actor=self.actor)
+                                  "sample": sample, "derived_lines": derived}, actor=self.actor)
             return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
                                 species=names, levels=len(rows), lines=count)
 
@@ -697,6 +702,16 @@ DERIVED_METHOD = "ritz-combination"
 def derived_dataset_name(spectrum_name: str, mass_number: int) -> str:
     """Name of the dataset holding a species' lines derived from its levels."""
     return f"derived lines {spectrum_name} A={mass_number}"
+
+
+def _rebuild_derived_lines(session: Session, spectra: Iterable[Spectrum], actor: str) -> dict[str, int]:
+    """Rebuild the derived lines of each stored species among ``spectra`` (sorted, so locks come in one order)."""
+    counts: dict[str, int] = {}
+    for spec in sorted(set(spectra), key=lambda sp: (sp.z, sp.charge, sp.mass_number or 0)):
+        species = queries.find_species(session, spec)
+        if species is not None:
+            counts[species.name] = _store_derived_lines(session, species, actor)
+    return counts
 
 
 def _store_derived_lines(session: Session, species: Species, actor: str) -> int:

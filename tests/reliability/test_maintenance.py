@@ -53,13 +53,26 @@ def test_every_catalog_write_records_one_audit_entry(catalog):
         assert after[:-1] == before and after[-1] == (action, target, "pytest")
 
 
-@pytest.mark.xfail(strict=True, reason="Catalog.recompute_lines writes derived lines without an audit entry "
-                                       "(change requested in levels/catalog.py)")
 def test_recompute_lines_records_an_audit_entry(catalog):
     catalog.import_file(DEMO / "sample-li-cell.csv", dataset="li/levels")
-    before = len(_audit(catalog))
-    catalog.recompute_lines("Li I")
-    assert len(_audit(catalog)) == before + 1
+    before = _audit(catalog)
+    count = catalog.recompute_lines("Li I")
+    after = _audit(catalog)
+    assert count == _derived(catalog) > 0
+    assert after[:-1] == before and after[-1][:2] == ("recompute-lines", "species Li I")
+
+
+def test_importing_measured_lines_rebuilds_the_derived_lines(catalog):
+    # a measured E1 line takes the place of the derived line between the same two levels
+    levels = catalog.import_file(DEMO / "sample-li-cell.csv", dataset="li/levels")
+    assert _derived(catalog) == levels.lines > 0
+    measured = catalog.import_file(DEMO / "lines-li-cell.csv", dataset="li/lines")
+    rows, _ = catalog.line_rows(LineQuery(spectrum="Li I", datasets=("li/lines",)))
+    pairs = {(r["lower_id"], r["upper_id"]) for r in rows if r["multipole"] == "E1"}
+    assert measured.lines == len(rows) and pairs
+    assert _derived(catalog) == levels.lines - len(pairs)
+    maintenance.retract_dataset(catalog, "li/lines", reason="check")
+    assert _derived(catalog) == levels.lines
 
 
 @pytest.fixture
@@ -75,7 +88,7 @@ def test_retract_hides_levels_keeps_rows_and_restore_brings_them_back(li):
     counts_before = integrity.inspect_store(catalog.engine).counts
     assert len(catalog.level_rows("Li I")) == 53
     derived_before = _derived(catalog)
-    assert derived_before == levels.lines > 0
+    assert derived_before == levels.lines - 40 > 0  # the 40 measured E1 pairs are not derived again
 
     result = maintenance.retract_dataset(catalog, "li/levels", reason="cell leaked")
     assert result["retracted"] is True and result["species"] == ["Li I"] and result["derived_lines"] == {"Li I": 0}
@@ -96,8 +109,8 @@ def test_retract_hides_levels_keeps_rows_and_restore_brings_them_back(li):
     # restore rebuilds the same lines a fresh recompute gives (the measured pairs are not derived again)
     assert rebuilt == catalog.recompute_lines("Li I") > 0
     assert integrity.check_store(catalog.engine) == []
-    actions = [a for a, _, _ in _audit(catalog)][-2:]
-    assert actions == ["retract-dataset", "restore-dataset"]
+    actions = [a for a, _, _ in _audit(catalog)][-3:]
+    assert actions == ["retract-dataset", "restore-dataset", "recompute-lines"]
 
 
 def test_retracting_measured_lines_gives_their_pairs_back_to_the_derived_set(li):
