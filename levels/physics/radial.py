@@ -213,13 +213,26 @@ def _log_start_array(n: NDArray[np.float64], m: NDArray[np.float64]) -> NDArray[
     )
 
 
+#: ``_LOG_FACTORIAL[k] = math.lgamma(k + 1) = log k!`` for the start values of
+#: the compiled kernels (the same numbers math.lgamma gives, looked up).
+_LOG_FACTORIAL = np.array([math.lgamma(k + 1.0) for k in range(1 << 13)])
+
+
+@_maybe_jit
+def _log_factorial(k: int) -> float:
+    """log k! for an integer k >= 0 (table, then math.lgamma)."""
+    if k < _LOG_FACTORIAL.size:
+        return _LOG_FACTORIAL[k]
+    return math.lgamma(k + 1.0)
+
+
 @_maybe_jit
 def _log_start(n: int, m: int) -> float:
     """log P_{m} = log <n, m | r | m, m-1> for n > m >= 1 (Gordon 1929)."""
     x = (n - m) / (n + m)
     return (
         math.log(0.25)
-        + 0.5 * (math.lgamma(n + m + 1.0) - math.lgamma(n - m + 0.0) - math.lgamma(2.0 * m))
+        + 0.5 * (_log_factorial(n + m) - _log_factorial(n - m - 1) - _log_factorial(2 * m - 1))
         + (m + 2) * math.log1p(-x * x)
         + (n - m - 2) * math.log(x)
     )
@@ -619,11 +632,12 @@ def radial_dipole_array(
     >>> radial_dipole_array([2, 3], [1, 0], [1, 2], [0, 1]).round(6)
     array([1.290266, 0.938404])
     """
-    n_a, l_a, n_b, l_b = np.broadcast_arrays(
-        _as_int_array(n, "n"), _as_int_array(l, "l"), _as_int_array(n2, "n2"), _as_int_array(l2, "l2")
-    )
-    shape = n_a.shape
-    n_a, l_a, n_b, l_b = (x.ravel() for x in (n_a, l_a, n_b, l_b))
+    arrays = [_as_int_array(n, "n"), _as_int_array(l, "l"), _as_int_array(n2, "n2"), _as_int_array(l2, "l2")]
+    shape = arrays[0].shape
+    if any(a.shape != shape for a in arrays[1:]):
+        arrays = np.broadcast_arrays(*arrays)
+        shape = arrays[0].shape
+    n_a, l_a, n_b, l_b = (a.ravel() for a in arrays)
     divisor = _check_scale(z, mass_ratio)
     if COMPILED and n_a.size <= _PER_ELEMENT_LIMIT:
         out = np.empty(n_a.size)
