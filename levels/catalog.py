@@ -357,8 +357,10 @@ class Catalog:
             raise PhysicsInputError(
                 f"{spec.name} has {spec.electrons} electrons; 'hydrogenic' computes one-electron ions only "
                 f"(for {spec.symbol} that is {Spectrum(spec.z, spec.z - 1).name})")
-        a = mass_number or spec.mass_number
-        iso = isotope(spec.z, a)
+        if mass_number is not None and spec.mass_number is not None and mass_number != spec.mass_number:
+            raise PhysicsInputError(f"{spec.isotope_name} names A = {spec.mass_number} but the mass number asked for is "
+                                    f"{mass_number}; give it once")
+        iso = isotope(spec.z, mass_number or spec.mass_number)
         if not isinstance(n_max, int) or n_max < 1:
             raise PhysicsInputError(f"n_max must be a whole number >= 1, got {n_max!r}")
         if n_max > hydrogenic.N_MAX_LIMIT:

@@ -142,6 +142,13 @@ class Spectrum:
         return f"{self.symbol} {to_roman(self.charge + 1)}"
 
     @property
+    def isotope_name(self) -> str:
+        """Spectrum notation with the mass number when one is set: ``He II A=3``, ``D I``."""
+        if self.mass_number is None or self.symbol in ("D", "T"):
+            return self.name
+        return f"{self.name} A={self.mass_number}"
+
+    @property
     def url_name(self) -> str:
         """Spectrum notation with ``_`` for the space, for URLs (``He_II``)."""
         return self.name.replace(" ", "_")
@@ -162,6 +169,8 @@ def parse_spectrum(text: str) -> Spectrum:
     text : str
         ``"H I"``, ``"He II"``, ``"Fe XXVI"``, ``"U XCII"``, ``"He_II"``,
         ``"C+5"``, ``"C5+"``, ``"C^5+"``, ``"Na"`` (neutral), ``"D I"``.
+        An isotope is named by a mass-number prefix or suffix: ``"3He II"``,
+        ``"He II A=3"``, ``"13C5+"``.
 
     Returns
     -------
@@ -178,12 +187,45 @@ def parse_spectrum(text: str) -> Spectrum:
     'C VI'
     >>> parse_spectrum("U XCII")
     Spectrum(z=92, charge=91, mass_number=None)
+    >>> parse_spectrum("He II A=3")
+    Spectrum(z=2, charge=1, mass_number=3)
+    >>> parse_spectrum("3He II").isotope_name
+    'He II A=3'
     """
     if not isinstance(text, str):
         raise NotationError(f"spectrum must be text, got {type(text).__name__}")
     stripped = text.strip()
     if not stripped:
         raise NotationError("empty spectrum; write it like 'He II' or 'C5+'")
+    stripped, mass_number = _split_mass_number(stripped, text)
+    spectrum = _parse_charge_state(stripped, text)
+    if mass_number is None:
+        return spectrum
+    if spectrum.mass_number is not None and spectrum.mass_number != mass_number:
+        raise NotationError(f"spectrum {text!r}: {spectrum.symbol} is hydrogen-{spectrum.mass_number}, "
+                            f"not A = {mass_number}")
+    return _make_spectrum(spectrum.z, spectrum.charge, mass_number, text)
+
+
+_MASS_SUFFIX = re.compile(r"^(.*?)\s+A\s*=\s*(\d+)$")
+_MASS_PREFIX = re.compile(r"^(\d+)([A-Z].*)$")
+
+
+def _split_mass_number(stripped: str, text: str) -> tuple[str, int | None]:
+    """Take an isotope off spectrum notation: ``'He II A=3'`` or ``'3He II'`` -> ``('He II', 3)``."""
+    suffix = _MASS_SUFFIX.match(stripped)
+    prefix = _MASS_PREFIX.match(stripped)
+    if suffix and prefix:
+        raise NotationError(f"spectrum {text!r}: give the mass number once ('3He II' or 'He II A=3')")
+    if suffix:
+        return suffix.group(1).strip(), int(suffix.group(2))
+    if prefix:
+        return prefix.group(2), int(prefix.group(1))
+    return stripped, None
+
+
+def _parse_charge_state(stripped: str, text: str) -> Spectrum:
+    """Parse ``He II`` / ``C5+`` notation without an isotope part."""
     match = _SPECTRUM_ROMAN.match(stripped)
     if match:
         symbol, numeral = match.groups()

@@ -159,3 +159,34 @@ def test_level_label_and_series_pattern():
     assert regex.match("1s2.15s 2S1/2").group("n") == "15"
     assert regex.match("15p 2P°1/2") is None
     assert label_pattern_to_regex("1s2.ns 2S1/2").match("1s2.7s 2S1/2").group("n") == "7"
+
+
+@pytest.mark.parametrize("text, z, charge, mass", [
+    ("He II A=3", 2, 1, 3), ("3He II", 2, 1, 3), ("He II  A = 3", 2, 1, 3), ("13C5+", 6, 5, 13),
+    ("C VI A=13", 6, 5, 13), ("He_II A=4", 2, 1, 4), ("2H I", 1, 0, 2), ("D I A=2", 1, 0, 2), ("H I A=1", 1, 0, 1),
+])
+def test_isotope_forms(text, z, charge, mass):
+    assert parse_spectrum(text) == Spectrum(z, charge, mass)
+
+
+@pytest.mark.parametrize("text, part", [
+    ("D I A=3", "hydrogen-2"), ("3He II A=3", "once"), ("He II A=1", "impossible"), ("He II A=", "not spectrum"),
+    ("3Xx I", "Xx"),
+])
+def test_isotope_form_errors(text, part):
+    with pytest.raises(NotationError, match=part):
+        parse_spectrum(text)
+
+
+def test_isotope_name_round_trips_for_every_known_isotope_of_light_elements():
+    import periodictable
+
+    count = 0
+    for z in range(1, 11):
+        for a in periodictable.elements[z].isotopes:
+            for charge in range(z):
+                spec = Spectrum(z, charge, a)
+                assert parse_spectrum(spec.isotope_name) == spec
+                count += 1
+    assert count > 100
+    assert Spectrum(2, 1).isotope_name == "He II" and Spectrum(1, 0, 3).isotope_name == "T I"

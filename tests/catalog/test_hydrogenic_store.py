@@ -1,5 +1,6 @@
 """Computed one-electron ions in the store: wavelengths against published values, rates, replacement."""
 
+import json
 import math
 
 import numpy as np
@@ -104,6 +105,8 @@ def test_nl_terms_without_fine_structure(catalog):
     (["hydrogenic", "H I", "--n-max", "400"], "GB, more than the limit"),
     (["hydrogenic", "H I", "--mass-number", "9"], "no mass known for H-9"),
     (["hydrogenic", "Fe XXVI", "--mass-number", "30"], "no mass known for Fe-30"),
+    (["hydrogenic", "He II A=3", "--mass-number", "4"], "give it once"),
+    (["hydrogenic", "11He II"], "no mass known for He-11"),
 ])
 def test_bad_hydrogenic_requests(store_url, args, message):
     runner = CliRunner()
@@ -128,3 +131,20 @@ def test_cli_hydrogenic_prints_summary(store_url):
     result = runner.invoke(main, ["--db", store_url, "hydrogenic", "He II", "--n-max", "6"])
     assert result.exit_code == 0 and "36 levels" in result.output and "ionization energy" in result.output
     assert math.isfinite(float(result.output.split("ionization energy ")[1].split()[0]))
+
+
+def test_isotope_named_in_spectrum_notation(store_url):
+    # '3He II' and 'He II A=3' name the helium-3 ion everywhere a spectrum is asked for
+    runner = CliRunner()
+    runner.invoke(main, ["--db", store_url, "init"])
+    assert runner.invoke(main, ["--db", store_url, "hydrogenic", "3He II", "--n-max", "3"]).exit_code == 0
+    assert runner.invoke(main, ["--db", store_url, "hydrogenic", "He II", "--n-max", "2"]).exit_code == 0
+    three = runner.invoke(main, ["--db", store_url, "show", "He II A=3", "--format", "json"])
+    four = runner.invoke(main, ["--db", store_url, "show", "He II", "--format", "json"])
+    rows3, rows4 = json.loads(three.output)["rows"], json.loads(four.output)["rows"]
+    assert len(rows3) == 9 and {r["dataset"] for r in rows3} == {"hydrogenic He II A=3"}
+    assert len(rows4) == 4 and {r["dataset"] for r in rows4} == {"hydrogenic He II A=4"}
+    # the lighter nucleus recoils more: every excited level of 3He+ lies below that of 4He+
+    # (reduced-mass scaling, Bethe & Salpeter 1957, sec. 2)
+    e3 = {r["label"]: r["energy_cm1"] for r in rows3}
+    assert all(e3[r["label"]] < r["energy_cm1"] for r in rows4 if r["energy_cm1"] > 0)
