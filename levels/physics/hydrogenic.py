@@ -8,7 +8,9 @@ number ``n_max``:
 * E1 line strengths, f and A from :mod:`levels.physics.rates` (radial integrals
   of :mod:`levels.physics.radial`), lifetimes including the two-photon and M1
   decay of 2s;
-* Landé g of each level from :mod:`levels.physics.lande` (LS term 2L_j);
+* the g-factor of each level from :mod:`levels.physics.bound_g` (Dirac value plus
+  the free-electron anomaly; the LS Landé factor would miss the relativistic
+  binding term, 17 % for U91+ 1s);
 * air wavelengths from :mod:`levels.physics.air` above 200 nm.
 
 Mass convention (recorded in the dataset): line strengths are those of the
@@ -34,13 +36,13 @@ import numpy as np
 from numpy.typing import NDArray
 
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics import air, dirac, lande, rates
+from levels.physics import air, bound_g, dirac, rates
 from levels.units import M_E_U
 
 #: largest n_max accepted (the radial recurrence is tested to n = 1000)
 N_MAX_LIMIT = 1000
 METHOD = "hydrogenic-dirac-qed"
-METHOD_VERSION = "1"
+METHOD_VERSION = "2"  # 2: bound-electron g-factor (Dirac + anomaly) instead of LS Landé g
 
 
 @dataclass
@@ -86,6 +88,7 @@ class HydrogenicModel:
             "nuclear_mass_u": self.nuclear_mass_u,
             "charge_radius_fm": self.charge_radius_fm,
             "charge_radius_source": self.radius_source,
+            "g_factor": "Dirac bound-electron g plus the free-electron anomaly (levels.physics.bound_g)",
             "mass_convention": "line strengths of the reduced-mass atom; transition energies from the computed levels",
             "air_formula": air.formula_description("iau2000") + " (extrapolated beyond 2000 nm)",
         }
@@ -199,7 +202,7 @@ def compute(z: int, *, nuclear_mass_u: float, n_max: int = 20, fine_structure: b
     tau = rates.lifetimes(lines["upper"], lines["a_per_s"], len(n), extra_rates=extra)
     if fine_structure:
         g = two_j + 1
-        g_lande = lande.lande_g_ls(np.ones_like(l), l, two_j)
+        g_lande = bound_g.bound_electron_g(z, n, l, two_j)
     else:
         g = 2 * (2 * l + 1)
         g_lande = np.full(len(n), np.nan)

@@ -148,3 +148,15 @@ def test_isotope_named_in_spectrum_notation(store_url):
     # (reduced-mass scaling, Bethe & Salpeter 1957, sec. 2)
     e3 = {r["label"]: r["energy_cm1"] for r in rows3}
     assert all(e3[r["label"]] < r["energy_cm1"] for r in rows4 if r["energy_cm1"] > 0)
+
+
+def test_heavy_ion_g_factor_is_the_bound_electron_value(catalog):
+    # Breit 1928, Nature 122, 649: g_D(1s) = (2/3)(1 + 2 sqrt(1 - (Z alpha)^2)), plus the
+    # free-electron anomaly g_e - 2 (CODATA); the LS value 2.0023 would be 17 % off for U91+
+    import scipy.constants as sc
+
+    catalog.compute_hydrogenic("U XCII", n_max=2)
+    levels = {r["label"]: r for r in catalog.level_rows("U XCII")}
+    x = 92 * sc.fine_structure
+    g_e = abs(sc.physical_constants["electron g factor"][0])
+    assert levels["1s 2S1/2"]["lande_g"] == pytest.approx(2 / 3 * (1 + 2 * math.sqrt(1 - x * x)) + g_e - 2, rel=1e-12)
