@@ -740,10 +740,9 @@ def _store_derived_lines(session: Session, species: Species, actor: str) -> int:
                         np.array([np.nan if lv.unc_cm1 is None else lv.unc_cm1 for lv in levels]),
                         np.array([lv.two_j for lv in levels]), np.array([lv.parity for lv in levels]))
     ids = np.array([lv.id for lv in levels], dtype=np.int64)
-    stored = queries.stored_lines_between(session, ids.tolist(), [d.id for d in chosen])
-    have = {(ln.lower_id, ln.upper_id) for ln in stored if ln.multipole == "E1"}
+    have = queries.stored_pair_keys(session, species.id, [d.id for d in chosen], "E1")
     lower_ids, upper_ids = ids[lines.lower], ids[lines.upper]
-    keep = np.array([(int(a), int(b)) not in have for a, b in zip(lower_ids, upper_ids)], dtype=bool)
+    keep = ~np.isin(queries.pair_keys(lower_ids, upper_ids), have)
     if not keep.any():
         return 0
     ds = queries.create_dataset(session, name=name, kind="computed", method=DERIVED_METHOD,

@@ -7,9 +7,11 @@ the transaction (see :func:`levels.store.database.run_in_transaction`).
 from __future__ import annotations
 
 import getpass
+import itertools
 import json
 from collections.abc import Iterable, Sequence
 
+import numpy as np
 from sqlalchemy import delete, func, insert, select
 from sqlalchemy.orm import Session
 
@@ -359,6 +361,29 @@ def stored_lines_between(session: Session, level_ids: Sequence[int], dataset_ids
         part = ids[start:start + 5000]
         rows.extend(session.scalars(select(Line).where(Line.upper_id.in_(part), Line.dataset_id.in_(list(dataset_ids)))))
     return [ln for ln in rows if ln.lower_id in wanted]
+
+
+def stored_pair_keys(session: Session, species_id: int, dataset_ids: Sequence[int], multipole: str = "E1") -> np.ndarray:
+    """Sorted keys ``lower_id * 2**32 + upper_id`` of the species' stored lines of one multipole in the datasets.
+
+    Two columns only (no ORM objects), so a species with 10^5 stored lines costs a fraction of a second.
+    """
+    if not dataset_ids:
+        return np.empty(0, dtype=np.int64)
+    pairs = session.execute(
+        select(Line.lower_id, Line.upper_id).where(
+            Line.species_id == species_id, Line.dataset_id.in_(list(dataset_ids)), Line.multipole == multipole)
+    ).all()
+    flat = np.fromiter(itertools.chain.from_iterable(pairs), dtype=np.int64, count=2 * len(pairs))
+    return np.unique(pair_keys(flat[0::2], flat[1::2]))
+
+
+def pair_keys(lower_ids: np.ndarray, upper_ids: np.ndarray) -> np.ndarray:
+    """One int64 key per (lower id, upper id) pair, for vectorised membership tests."""
+    return np.asarray(lower_ids, dtype=np.int64) * _PAIR_SHIFT + np.asarray(upper_ids, dtype=np.int64)
+
+
+_PAIR_SHIFT = 1 << 32  # level ids are 32-bit integers, so keys never collide
 
 
 def line_row(line: Line, lower: Level, upper: Level, spectrum: str, dataset: str) -> dict:
