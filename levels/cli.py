@@ -7,9 +7,11 @@ Errors print one line per problem to stderr and exit with status 1.
 
 from __future__ import annotations
 
+import contextlib
 import functools
 import json
 import sys
+import warnings
 from collections.abc import Callable, Sequence
 
 import click
@@ -37,13 +39,34 @@ class Context:
         return self._catalog
 
 
+@contextlib.contextmanager
+def _warnings_as_notes():
+    """Show the physics modules' warnings (air formula range) as one 'note:' line each on stderr."""
+    from levels.physics.air import AirRangeWarning
+
+    try:
+        with warnings.catch_warnings(record=True) as caught:
+            warnings.simplefilter("always", AirRangeWarning)
+            yield
+    finally:
+        seen: set[str] = set()
+        for item in caught:
+            text = str(item.message)
+            if not issubclass(item.category, AirRangeWarning):
+                warnings.warn_explicit(item.message, item.category, item.filename, item.lineno)
+            elif text not in seen:
+                seen.add(text)
+                click.echo(f"note: {text}", err=True)
+
+
 def reports_errors(func: Callable) -> Callable:
     """Turn LevelsError into clean messages on stderr and exit status 1."""
 
     @functools.wraps(func)
     def wrapper(*args, **kwargs):
         try:
-            return func(*args, **kwargs)
+            with _warnings_as_notes():
+                return func(*args, **kwargs)
         except InputFileError as exc:
             for problem in exc.problems[:50]:
                 click.echo(f"error: {problem}", err=True)

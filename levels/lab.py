@@ -77,20 +77,37 @@ def store_measured_lines(session: Session, records: Sequence[io_records.LineReco
             problems.append(Problem(source, rec.line, "lower", f"level {rec.lower} ({lower.energy_cm1:g} cm-1) is not "
                                                                f"below {rec.upper} ({upper.energy_cm1:g} cm-1)"))
             continue
-        vacuum = vacuum_of(rec.wavelength_nm, rec.medium, air_formula)
-        air_nm = float(air.vacuum_to_air(vacuum, air_formula)) if vacuum > 200.0 else None
-        unc_vacuum = rec.unc_nm * vacuum / rec.wavelength_nm
         rows.append({
             "dataset_id": dataset_id, "species_id": species.id, "lower_id": lower.id, "upper_id": upper.id,
-            "multipole": rec.multipole, "wavenumber_cm1": 1e7 / vacuum, "vacuum_nm": vacuum,
-            "air_nm": air_nm if air_nm is not None and math.isfinite(air_nm) else None,
-            "a_per_s": rec.a_per_s, "f_abs": rec.f_abs, "line_strength_au": None, "unc_nm": unc_vacuum,
-            "observed_nm": rec.wavelength_nm, "medium": rec.medium, "intensity": rec.intensity, "note": rec.note,
+            "multipole": rec.multipole, "a_per_s": rec.a_per_s, "f_abs": rec.f_abs, "line_strength_au": None,
+            "unc_nm": rec.unc_nm, "observed_nm": rec.wavelength_nm, "medium": rec.medium,
+            "intensity": rec.intensity, "note": rec.note,
         })
     if problems:
         raise InputFileError(problems)
-    queries.insert_rows(session, Line, rows)
+    _fill_wavelengths(rows, air_formula)
+    queries.insert_full_rows(session, Line, rows)
     return len(rows)
+
+
+def _fill_wavelengths(rows: list[dict], air_formula: str) -> None:
+    """Vacuum and air wavelengths, wavenumber and vacuum uncertainty of every row, in two array calls."""
+    if not rows:
+        return
+    observed = np.array([r["observed_nm"] for r in rows], dtype=float)
+    in_air = np.array([r["medium"] != "vacuum" for r in rows])
+    vacuum = observed.copy()
+    if in_air.any():
+        vacuum[in_air] = np.asarray(air.air_to_vacuum(observed[in_air], air_formula), dtype=float)
+    air_nm = np.full(vacuum.size, np.nan)
+    above = vacuum > 200.0
+    if above.any():
+        air_nm[above] = np.asarray(air.vacuum_to_air(vacuum[above], air_formula), dtype=float)
+    for row, vac, air_value in zip(rows, vacuum.tolist(), air_nm.tolist()):
+        row["vacuum_nm"] = vac
+        row["wavenumber_cm1"] = 1e7 / vac
+        row["air_nm"] = air_value if math.isfinite(air_value) else None
+        row["unc_nm"] = row["unc_nm"] * vac / row["observed_nm"]
 
 
 # ----------------------------------------------------------------- series limits

@@ -19,6 +19,7 @@ brackets, ``45[27]`` for n = 45, l = 27; ``2[27]`` for a doublet with L = 27.
 
 from __future__ import annotations
 
+import functools
 import math
 import re
 from dataclasses import dataclass
@@ -194,6 +195,12 @@ def parse_spectrum(text: str) -> Spectrum:
     """
     if not isinstance(text, str):
         raise NotationError(f"spectrum must be text, got {type(text).__name__}")
+    return _parse_spectrum_text(text)
+
+
+@functools.lru_cache(maxsize=4096)
+def _parse_spectrum_text(text: str) -> Spectrum:
+    """:func:`parse_spectrum` of a string, cached (files repeat the same few spectra on every row)."""
     stripped = text.strip()
     if not stripped:
         raise NotationError("empty spectrum; write it like 'He II' or 'C5+'")

@@ -196,11 +196,30 @@ def insert_line_columns(session: Session, columns: dict, start: int, stop: int) 
         else:
             parts.append(values.tolist())
     blanks = [""] * (stop - start)
-    rows = list(zip(*parts, blanks, blanks))
-    names = LINE_INSERT_COLUMNS + ("medium", "note")
+    _driver_insert(session, Line, LINE_INSERT_COLUMNS + ("medium", "note"), list(zip(*parts, blanks, blanks)))
+
+
+def insert_full_rows(session: Session, model, rows: Sequence[dict], chunk: int = 20000) -> None:
+    """Insert rows that give every column but the id, with driver-level executemany (no ORM bookkeeping).
+
+    About twice as fast as :func:`insert_rows` for 10^5 rows. Values go to the driver as they are; no
+    Python-side column defaults apply, hence the rule that every column is given.
+    """
+    if not rows:
+        return
+    names = tuple(c.name for c in model.__table__.columns if c.name != "id")
+    if set(rows[0]) != set(names):
+        raise ValueError(f"insert_full_rows needs every column of {model.__tablename__} but id; "
+                         f"missing {sorted(set(names) - set(rows[0]))}, extra {sorted(set(rows[0]) - set(names))}")
+    for start in range(0, len(rows), chunk):
+        _driver_insert(session, model, names, [tuple(r[n] for n in names) for r in rows[start:start + chunk]])
+
+
+def _driver_insert(session: Session, model, names: Sequence[str], tuples: list[tuple]) -> None:
+    """One executemany of ``INSERT INTO <table> (names) VALUES (...)`` on the session's connection."""
     mark = "?" if session.get_bind().dialect.paramstyle == "qmark" else "%s"
-    sql = f"INSERT INTO {Line.__tablename__} ({', '.join(names)}) VALUES ({', '.join([mark] * len(names))})"
-    session.connection().exec_driver_sql(sql, rows)
+    sql = f"INSERT INTO {model.__tablename__} ({', '.join(names)}) VALUES ({', '.join([mark] * len(names))})"
+    session.connection().exec_driver_sql(sql, tuples)
 
 
 # ----------------------------------------------------------------- reads
