@@ -549,14 +549,7 @@ class Catalog:
             ds = queries.create_dataset(session, name=name, kind=kind, citation=citation, author=self.actor,
                                         description=description or f"imported from {source}", method="file import",
                                         sample=sample_row, options={"air_formula": air_formula})
-            species_ids: dict[Spectrum, int] = {}
-            rows = []
-            for rec in level_records:
-                if rec.spectrum not in species_ids:
-                    species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
-                rows.append(_level_insert_row(rec, ds.id, species_ids[rec.spectrum]))
-            queries.insert_rows(session, Level, rows)
-            session.flush()
+            species_ids, rows = _insert_level_records(session, level_records, ds.id)
             count = (lab.store_measured_lines(session, line_records, ds.id, line_source or source, air_formula)
                      if line_records else 0)
             spectra = set(species_ids) | {r.spectrum for r in line_records}
@@ -678,14 +671,7 @@ class Catalog:
             ds = queries.create_dataset(session, name=dataset_name, kind=kind, citation=citation,
                                         author=self.actor, description=description or f"imported from {source}",
                                         method="file import", sample=sample_row)
-            species_ids: dict[Spectrum, int] = {}
-            rows = []
-            for rec in records:
-                if rec.spectrum not in species_ids:
-                    species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
-                rows.append(_level_insert_row(rec, ds.id, species_ids[rec.spectrum]))
-            queries.insert_rows(session, Level, rows)
-            session.flush()
+            species_ids, rows = _insert_level_records(session, records, ds.id)
             derived = sum(_store_derived_lines(session, session.get(Species, sid), self.actor)
                           for sid in species_ids.values())
             names = sorted({s.name for s in species_ids})
@@ -704,6 +690,20 @@ DERIVED_METHOD = "ritz-combination"
 def derived_dataset_name(spectrum_name: str, mass_number: int) -> str:
     """Name of the dataset holding a species' lines derived from its levels."""
     return f"derived lines {spectrum_name} A={mass_number}"
+
+
+def _insert_level_records(session: Session, records: Sequence[level_io.LevelRecord],
+                          dataset_id: int) -> tuple[dict[Spectrum, int], list[dict]]:
+    """Insert validated levels into a dataset (species created as needed); return species ids and rows."""
+    species_ids: dict[Spectrum, int] = {}
+    rows = []
+    for rec in records:
+        if rec.spectrum not in species_ids:
+            species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
+        rows.append(_level_insert_row(rec, dataset_id, species_ids[rec.spectrum]))
+    queries.insert_rows(session, Level, rows)
+    session.flush()
+    return species_ids, rows
 
 
 def _rebuild_derived_lines(session: Session, spectra: Iterable[Spectrum], actor: str) -> dict[str, int]:
