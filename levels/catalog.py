@@ -446,12 +446,8 @@ class Catalog:
             ds = queries.require_dataset(session, dataset)
             if ds.kind == "computed":
                 raise PhysicsInputError(f"dataset {ds.name!r} is computed; add measured levels to a measured dataset")
-            rows = [_level_insert_row(rec, ds.id, queries.get_or_create_species(session, rec.spectrum).id)
-                    for rec in records]
-            queries.insert_rows(session, Level, rows)
-            session.flush()
-            for species_id in {row["species_id"] for row in rows}:
-                _store_derived_lines(session, session.get(Species, species_id), self.actor)
+            species_ids, rows = _insert_level_records(session, records, ds.id)
+            _rebuild_derived_lines(session, species_ids, self.actor)
             queries.record_audit(session, "add-levels", f"dataset {ds.name}", {"source": source, "levels": len(rows)},
                                  actor=self.actor)
             return len(rows)
@@ -672,8 +668,7 @@ class Catalog:
                                         author=self.actor, description=description or f"imported from {source}",
                                         method="file import", sample=sample_row)
             species_ids, rows = _insert_level_records(session, records, ds.id)
-            derived = sum(_store_derived_lines(session, session.get(Species, sid), self.actor)
-                          for sid in species_ids.values())
+            derived = sum(_rebuild_derived_lines(session, species_ids, self.actor).values())
             names = sorted({s.name for s in species_ids})
             queries.record_audit(session, "import-levels", f"dataset {ds.name}",
                                  {"source": source, "levels": len(rows), "species": names,

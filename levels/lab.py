@@ -25,13 +25,6 @@ from levels.store.schema import IonizationLimit, Level, Line, Species
 IDENTIFY_COLUMNS = ("peak_nm", "medium", "rank", "spectrum", "lower", "upper", "line_nm", "delta_nm", "a_per_s", "note")
 
 
-def vacuum_of(wavelength_nm: float, medium: str, formula: str = "iau2000") -> float:
-    """Vacuum wavelength (nm) of a wavelength given in air or vacuum."""
-    if medium == "vacuum":
-        return wavelength_nm
-    return float(air.air_to_vacuum(wavelength_nm, formula))
-
-
 # ----------------------------------------------------------------- measured lines
 
 def store_measured_lines(session: Session, records: Sequence[io_records.LineRecord], dataset_id: int,

@@ -285,6 +285,12 @@ def _loop_elements(
 
 
 @_maybe_jit
+def _same_n(n: NDArray[np.float64] | float, l_big: NDArray[np.float64] | float) -> Any:
+    """<n l | r | n l-1> = -(3/2) n sqrt(n^2 - l^2) (Bethe & Salpeter 1957, eq. 63.5)."""
+    return -1.5 * n * np.sqrt(n * n - l_big * l_big)
+
+
+@_maybe_jit
 def _loop_any_order(
     n_a: NDArray[np.int64], l_a: NDArray[np.int64], n_b: NDArray[np.int64], l_b: NDArray[np.int64],
     out: NDArray[np.float64],
@@ -303,8 +309,7 @@ def _loop_any_order(
         if abs(la - lb) != 1:
             out[i] = np.nan
         elif na == nb:
-            big = float(max(la, lb))
-            out[i] = -1.5 * na * math.sqrt(float(na) * na - big * big)
+            out[i] = _same_n(float(na), float(max(la, lb)))
         elif na > nb:
             out[i] = _one_element(na, nb, max(la, lb), la == lb + 1)
         else:
@@ -453,11 +458,6 @@ def _chunk_kernel(
     valid[0] = False  # Q_{n_lo} = 0 is not part of the output
     idx_q = (oq + n_lo)[None, :] - rows[:, None] - 1
     Q[idx_q[valid]] = (Qm * scale)[valid]
-
-
-def _same_n(n: NDArray[np.float64] | float, l_big: NDArray[np.float64] | float) -> Any:
-    """<n l | r | n l-1> = -(3/2) n sqrt(n^2 - l^2) (Bethe & Salpeter 1957, eq. 63.5)."""
-    return -1.5 * n * np.sqrt(n * n - l_big * l_big)
 
 
 # ----------------------------------------------------------------------------

@@ -382,6 +382,9 @@ def stored_lines_between(session: Session, level_ids: Sequence[int], dataset_ids
     return [ln for ln in rows if ln.lower_id in wanted]
 
 
+_PAIR_SHIFT = 1 << 32  # level ids are 32-bit integers, so keys never collide
+
+
 def stored_pair_keys(session: Session, species_id: int, dataset_ids: Sequence[int], multipole: str = "E1") -> np.ndarray:
     """Sorted keys ``lower_id * 2**32 + upper_id`` of the species' stored lines of one multipole in the datasets.
 
@@ -401,8 +404,6 @@ def pair_keys(lower_ids: np.ndarray, upper_ids: np.ndarray) -> np.ndarray:
     """One int64 key per (lower id, upper id) pair, for vectorised membership tests."""
     return np.asarray(lower_ids, dtype=np.int64) * _PAIR_SHIFT + np.asarray(upper_ids, dtype=np.int64)
 
-
-_PAIR_SHIFT = 1 << 32  # level ids are 32-bit integers, so keys never collide
 
 
 def line_row(line: Line, lower: Level, upper: Level, spectrum: str, dataset: str) -> dict:
