@@ -145,7 +145,7 @@ def test_isotope_named_in_spectrum_notation(store_url):
     assert len(rows3) == 9 and {r["dataset"] for r in rows3} == {"hydrogenic He II A=3"}
     assert len(rows4) == 4 and {r["dataset"] for r in rows4} == {"hydrogenic He II A=4"}
     # the lighter nucleus recoils more: every excited level of 3He+ lies below that of 4He+
-    # (reduced-mass scaling, Bethe & Salpeter 1957, sec. 2)
+    # (reduced-mass scaling; Bethe & Salpeter 1957, from memory)
     e3 = {r["label"]: r["energy_cm1"] for r in rows3}
     assert all(e3[r["label"]] < r["energy_cm1"] for r in rows4 if r["energy_cm1"] > 0)
 
