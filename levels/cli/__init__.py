@@ -666,7 +666,7 @@ def hydrogenic(obj: Context, spectrum: str, mass_number: int | None, n_max: int,
 
 
 # store maintenance commands (check, export-store, import-store, history, retract, restore)
-from levels import cli_store  # noqa: E402,F401  (registers its commands on ``main``)
+from levels.cli import store as _store_commands  # noqa: E402,F401  (registers its commands on ``main``)
 
 
 def run() -> None:  # pragma: no cover - console entry for ``python -m levels``
