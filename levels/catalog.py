@@ -209,24 +209,42 @@ class Catalog:
         return self.read(work)
 
     # ------------------------------------------------------------- lines
-    def line_rows(self, query: LineQuery) -> tuple[list[dict], int]:
-        """Stored lines matching ``query`` (rows carry LINE_COLUMNS plus ids), and the total count."""
+    def line_rows(self, query: LineQuery, *, air_formula: str | None = None) -> tuple[list[dict], int]:
+        """Stored lines matching ``query`` (rows carry LINE_COLUMNS plus ids), and the total count.
+
+        With ``air_formula``, every ``air_nm`` is in that formula: rows of datasets that
+        recorded another formula (or none) are recomputed from ``vacuum_nm``, and an air
+        window is applied as its vacuum equivalent under that formula. Without it, air
+        wavelengths are as each dataset stored them.
+        """
+        from levels.service import vocabulary
+
         _check_line_query(query)
+        if air_formula is not None:
+            vocabulary.check_air_formula(air_formula)
 
         def work(session: Session):
             chosen = queries.visible_datasets(session, query.datasets)
+            recorded = {d.name: vocabulary.recorded_air_formula(d.options_json) for d in chosen}
+            convert = air_formula is not None and any(code != air_formula for code in recorded.values())
             species_ids = None
             if query.spectrum is not None:
                 species_ids = [queries.require_species(session, parse_spectrum(query.spectrum)).id]
             window = {}
-            if query.medium == "air":
+            if query.medium == "air" and convert:
+                lo, hi = vocabulary.air_window_to_vacuum(query.from_nm, query.to_nm, air_formula)
+                window = dict(from_vacuum_nm=lo, to_vacuum_nm=hi)
+            elif query.medium == "air":
                 window = dict(from_air_nm=query.from_nm, to_air_nm=query.to_nm)
             else:
                 window = dict(from_vacuum_nm=query.from_nm, to_vacuum_nm=query.to_nm)
-            return queries.select_lines(
+            rows, total = queries.select_lines(
                 session, dataset_ids=[d.id for d in chosen], species_ids=species_ids,
                 multipoles=query.multipoles, min_a=query.min_a, max_upper_cm1=query.max_upper_cm1,
                 order=query.order, limit=query.limit, offset=query.offset, **window)
+            if convert:
+                vocabulary.reexpress_air(rows, air_formula, recorded)
+            return rows, total
 
         return self.read(work)
 

@@ -42,7 +42,7 @@ class Context:
 @contextlib.contextmanager
 def _warnings_as_notes():
     """Show the physics modules' warnings (air formula range) as one 'note:' line each on stderr."""
-    from levels.physics.air import AirRangeWarning
+    from levels.service.vocabulary import AirRangeWarning
 
     try:
         with warnings.catch_warnings(record=True) as caught:
@@ -284,7 +284,7 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
       levels lines --from 486nm --to 487nm
     """
     from levels.catalog import LINE_COLUMNS, LINE_HEADINGS, LINE_UNITS, LineQuery
-    from levels.physics.air import formula_description
+    from levels.service.vocabulary import air_formula_description
 
     query = LineQuery(spectrum=spectrum, from_nm=_wavelength_option(from_, "--from"),
                       to_nm=_wavelength_option(to, "--to"), medium=medium,
@@ -294,13 +294,14 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     if spectrum is None:
         if query.from_nm is None or query.to_nm is None:
             raise click.UsageError("without SPECTRUM, give a window with --from and --to")
-        rows, total = obj.catalog.line_rows(query)
+        # stored air wavelengths are re-expressed in the asked formula, so the header's formula is the values'
+        rows, total = obj.catalog.line_rows(query, air_formula=air_formula)
         used = sorted({r["dataset"] for r in rows})
         info = {"total": total, "without_rates": sum(1 for r in rows if r["a_per_s"] is None)}
     else:
         rows, info = obj.catalog.species_lines(query, multipoles=query.multipoles, air_formula=air_formula)
         used = info["datasets"]
-    provenance = obj.catalog.provenance(query.describe(), used, air_formula=formula_description(air_formula),
+    provenance = obj.catalog.provenance(query.describe(), used, air_formula=air_formula_description(air_formula),
                                         lines=f"{len(rows)} of {info['total']}",
                                         rates=f"{info['without_rates']} lines without known rates (A, f, S empty)")
     emit(rows, LINE_COLUMNS, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS)
