@@ -29,8 +29,10 @@ from sqlalchemy.orm import Session
 
 from levels.catalog import Catalog, _store_derived_lines
 from levels.errors import LevelsError
+from levels.io import limits
+from levels.io.paths import check_output_path
 from levels.store import backup, integrity, queries
-from levels.store.schema import AuditEntry, Dataset, IonizationLimit, Level, Line, Species
+from levels.store.schema import TABLE_ORDER, AuditEntry, Base, Dataset, IonizationLimit, Level, Line, Species
 
 #: kinds of dataset that can be retracted (computed sets are replaced by recomputing them)
 RETRACTABLE_KINDS = ("measured", "imported")
@@ -51,7 +53,65 @@ def check(catalog: Catalog) -> integrity.StoreReport:
     levels.store.integrity.StoreReport
         Counts per table, checks run and problems found (``report.ok`` when none).
     """
-    return integrity.inspect_store(catalog.engine)
+    report = integrity.inspect_store(catalog.engine)
+    existing = {name for name, count in report.counts.items() if count >= 0}
+    if existing:
+        report.checks.append("stored values within the limits both engines hold and the project's rules "
+                             "(levels.io.limits: whole-number ranges, text lengths, no control characters, "
+                             "finite bounds, level energies not negative)")
+        try:
+            report.problems.extend(limit_problems(catalog, existing))
+        except Exception as exc:  # a damaged file: the database's own check has said so already
+            report.problems.append(f"store: the stored-value check could not run: {str(exc).splitlines()[0]}")
+    return report
+
+
+def limit_problems(catalog: Catalog, tables=TABLE_ORDER) -> list[str]:
+    """Rows holding a value the store's limits or the project's rules refuse (:mod:`levels.io.limits`).
+
+    One line per table and column: how many rows, the first ids, and what is wrong with the first one.
+    """
+    problems: list[str] = []
+
+    def work(session: Session) -> None:
+        for name in TABLE_ORDER:
+            if name not in tables:
+                continue
+            table = Base.metadata.tables[name]
+            found: dict[str, tuple[list[int], str]] = {}
+            result = session.execute(select(table).order_by(table.c.id).execution_options(yield_per=10000))
+            for row in result.mappings():
+                for column, message in limits.row_problems(name, row):
+                    ids, first = found.setdefault(column, ([], message))
+                    ids.append(row["id"])
+            for column, (ids, first) in found.items():
+                shown = ", ".join(str(i) for i in ids[:integrity.SHOWN_IDS]) + (", ..." if len(ids) > 5 else "")
+                problems.append(f"{name}: {len(ids)} row{'s' if len(ids) != 1 else ''} whose {column} the rules "
+                                f"refuse (id {shown}); id {ids[0]}: {column} {first}")
+
+    with database_read(catalog) as session:
+        work(session)
+    return problems
+
+
+def database_read(catalog: Catalog):
+    """A read session on the catalog's store that works on any schema revision (for ``check``)."""
+    from levels.store import database
+
+    return _ReadSession(database.session_factory(catalog.engine))
+
+
+class _ReadSession:
+    def __init__(self, factory):
+        self.session = factory()
+
+    def __enter__(self) -> Session:
+        self.session.begin()
+        return self.session
+
+    def __exit__(self, *exc) -> None:
+        self.session.rollback()
+        self.session.close()
 
 
 # ----------------------------------------------------------------- export / import
@@ -62,6 +122,7 @@ def export_store(catalog: Catalog, path: str | os.PathLike,
 
     A read: nothing is written to the store, so no audit entry.
     """
+    check_output_path(path, option="export-store FILE", store_url=catalog.url)
     return backup.export_store(catalog.engine, path, progress=progress)
 
 
@@ -92,7 +153,21 @@ def import_store(catalog: Catalog, path: str | os.PathLike, *, audit: bool = Tru
                                   "format_version": header["version"], "written_by": header.get("written_by")},
                                  actor=catalog.actor)
 
-    return backup.import_store(catalog.engine, path, after=record)
+    return backup.import_store(catalog.engine, path, after=record, check_row=check_store_row)
+
+
+def check_store_row(table: str, values: dict, where: str) -> None:
+    """Refuse a row of a store file that the limits or the project's rules refuse (before anything is written).
+
+    Raises
+    ------
+    levels.store.backup.StoreFileError
+        Naming file, line, table and column.
+    """
+    problems = limits.row_problems(table, values)
+    if problems:
+        column, message = problems[0]
+        raise backup.StoreFileError(f"{where}: {table}.{column} {message}; nothing was written")
 
 
 # ----------------------------------------------------------------- history

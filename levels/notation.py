@@ -159,7 +159,7 @@ class Spectrum:
 
 
 _SPECTRUM_ROMAN = re.compile(r"^([A-Z][a-z]?)[ _]+([IVXLC]+)$")
-_SPECTRUM_ION = re.compile(r"^([A-Z][a-z]?)(?:\^?([+-])(\d*)|\^?(\d+)([+-]))?$")
+_SPECTRUM_ION = re.compile(r"^([A-Z][a-z]?)(?:\^?([+-])([0-9]*)|\^?([0-9]+)([+-]))?$")
 
 
 def parse_spectrum(text: str) -> Spectrum:
@@ -214,8 +214,8 @@ def _parse_spectrum_text(text: str) -> Spectrum:
     return _make_spectrum(spectrum.z, spectrum.charge, mass_number, text)
 
 
-_MASS_SUFFIX = re.compile(r"^(.*?)\s+A\s*=\s*(\d+)$")
-_MASS_PREFIX = re.compile(r"^(\d+)([A-Z].*)$")
+_MASS_SUFFIX = re.compile(r"^(.*?)\s+A\s*=\s*([0-9]+)$")
+_MASS_PREFIX = re.compile(r"^([0-9]+)([A-Z].*)$")
 
 
 def _split_mass_number(stripped: str, text: str) -> tuple[str, int | None]:
@@ -311,11 +311,11 @@ def parse_j(text: str | float | int) -> int:
         try:
             if "/" in raw:
                 num, den = raw.split("/", 1)
-                if not re.fullmatch(r"\d+", num.strip()) or not re.fullmatch(r"\d+", den.strip()):
+                if not re.fullmatch(r"[0-9]+", num.strip()) or not re.fullmatch(r"[0-9]+", den.strip()):
                     raise ValueError
                 value = Fraction(int(num), int(den))
             else:
-                if not re.fullmatch(r"\d+(\.\d*)?|\.\d+", raw):
+                if not re.fullmatch(r"[0-9]+(\.[0-9]*)?|\.[0-9]+", raw):
                     raise ValueError
                 value = Fraction(raw)
         except (ValueError, ZeroDivisionError):
@@ -381,13 +381,13 @@ def _l_from_letter(text: str, context: str) -> int:
     lower = text.lower()
     if lower in _L_OF:
         return _L_OF[lower]
-    match = re.fullmatch(r"\[(\d+)\]", text)
+    match = re.fullmatch(r"\[([0-9]+)\]", text)
     if match:
         return int(match.group(1))
     raise NotationError(f"{context}: {text!r} is not an orbital letter ({L_LETTERS})")
 
 
-_TERM = re.compile(r"^(\d+)([A-Z]|\[\d+\])(°|o|\*)?$")
+_TERM = re.compile(r"^([0-9]+)([A-Z]|\[[0-9]+\])(°|o|\*)?$")
 
 
 def parse_term(text: str) -> Term | None:
@@ -443,7 +443,7 @@ _CORES["Kr"] = _CORES["Ar"] + _core("3d10", "4s2", "4p6")
 _CORES["Xe"] = _CORES["Kr"] + _core("4d10", "5s2", "5p6")
 _CORES["Rn"] = _CORES["Xe"] + _core("4f14", "5d10", "6s2", "6p6")
 
-_SUBSHELL = re.compile(r"^(\d+)([a-z]|\[\d+\])(\d*)$")
+_SUBSHELL = re.compile(r"^([0-9]+)([a-z]|\[[0-9]+\])([0-9]*)$")
 
 
 @dataclass(frozen=True)
@@ -565,7 +565,7 @@ def label_pattern_to_regex(pattern: str) -> re.Pattern[str]:
     if not last.startswith("n"):
         raise NotationError(f"series pattern {pattern!r}: the last subshell must start with 'n', like 'ns'")
     prefix = re.escape(head + dot) if head else r"(?:[^ ]*\.)?"
-    regex = prefix + r"(?P<n>\d+)" + re.escape(last[1:])
+    regex = prefix + r"(?P<n>[0-9]+)" + re.escape(last[1:])
     if rest:
         regex += re.escape(" " + rest)
     return re.compile("^" + regex + "$")

@@ -83,7 +83,7 @@ def _codata_release() -> str:
 #: CODATA release of the constants in use ("2022", "2018", ...)
 CODATA_RELEASE = _codata_release()
 
-_NUMBER = r"[-+]?(?:\d+\.?\d*|\.\d+)(?:[eE][-+]?\d+)?"
+_NUMBER = r"[-+]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][-+]?[0-9]+)?"
 _QUANTITY = re.compile(rf"^\s*({_NUMBER})\s*([A-Za-zµμÅ°/^\-0-9]*)\s*$")
 
 # unit -> (dimension, factor to base unit)

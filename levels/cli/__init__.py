@@ -19,6 +19,8 @@ import click
 from levels import __version__
 from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, SPECIES_COLUMNS, Catalog
 from levels.errors import InputFileError, LevelsError
+from levels.io.limits import text_problem
+from levels.io.paths import check_output_path
 from levels.io.tables import format_table, format_text_table, write_atomic
 from levels.store import database
 
@@ -81,6 +83,57 @@ def reports_errors(func: Callable) -> Callable:
     return wrapper
 
 
+def require_existing_store(obj: Context) -> None:
+    """Refuse to create a SQLite file (or its folders) by merely reading a mistyped path."""
+    from pathlib import Path
+
+    from sqlalchemy.engine import make_url
+
+    url = make_url(database.normalize_url(obj.db))
+    if url.get_backend_name() == "sqlite" and url.database not in (None, "", ":memory:") \
+            and not url.database.startswith("file:") and not Path(url.database).exists():
+        raise LevelsError(f"no store file at {url.database} (create one with 'levels init')")
+
+
+def output_path(path: str | None, option: str = "--output") -> str | None:
+    """Check an output path before any work: never the open store, a directory or a device (see levels.io.paths)."""
+    if path is None:
+        return None
+    ctx = click.get_current_context(silent=True)
+    obj = ctx.find_object(Context) if ctx is not None else None
+    url = database.normalize_url(obj.db) if obj is not None else None
+    check_output_path(path, option=option, store_url=url)
+    return path
+
+
+def check_text_option(value: str | None, option: str, length: int | None = 200) -> str | None:
+    """A text option as the store can hold it (length, no terminal control characters), else a usage error."""
+    if value is None:
+        return None
+    problem = text_problem(value, length)
+    if problem:
+        raise click.BadParameter(problem, param_hint=f"'{option}'")
+    return value
+
+
+def _positive_finite(ctx, param, value):
+    """Click callback: a finite number greater than zero."""
+    import math
+
+    if value is not None and (not math.isfinite(value) or value <= 0):
+        raise click.BadParameter(f"{value!r} is not a finite number greater than zero")
+    return value
+
+
+def _non_negative_finite(ctx, param, value):
+    """Click callback: a finite number, zero or more."""
+    import math
+
+    if value is not None and (not math.isfinite(value) or value < 0):
+        raise click.BadParameter(f"{value!r} is not a finite number of zero or more")
+    return value
+
+
 def emit(rows: Sequence[dict], columns: Sequence[str], fmt: str, provenance: dict, *,
          output: str | None = None, units: dict | None = None, headings: dict | None = None) -> None:
     """Print or write rows in the chosen format (files are written atomically)."""
@@ -91,6 +144,7 @@ def emit(rows: Sequence[dict], columns: Sequence[str], fmt: str, provenance: dic
         return
     text = format_table(rows, columns, fmt, provenance, units=units)
     if output:
+        output_path(output)
         write_atomic(output, text)
         click.echo(f"wrote {len(rows)} rows to {output}", err=True)
     else:
@@ -167,6 +221,8 @@ def species(obj: Context, fmt: str, output: str | None) -> None:
     Example:
       levels species --format csv
     """
+    require_existing_store(obj)
+    output_path(output)
     rows = obj.catalog.species_rows()
     columns = SPECIES_COLUMNS
     if fmt == "table" and any(r["all_limits"].count("(") > 1 for r in rows):
@@ -194,6 +250,8 @@ def show(obj: Context, spectrum: str, datasets: tuple[str, ...], fmt: str, outpu
     Example:
       levels show "Na I" --format csv
     """
+    require_existing_store(obj)
+    output_path(output)
     rows = obj.catalog.level_rows(spectrum, list(datasets) or None)
     used = sorted({r["dataset"] for r in rows})
     emit(rows, LEVEL_COLUMNS, fmt, obj.catalog.provenance(f"show {spectrum}", used), output=output,
@@ -224,6 +282,9 @@ def import_(obj: Context, file: str, sample: str | None, dataset: str | None, ki
     Example:
       levels import seed_data/demo/sample-li-cell.csv --sample demo-1
     """
+    check_text_option(sample, "--sample")
+    check_text_option(dataset, "--dataset")
+    check_text_option(citation, "--citation", None)
     report = obj.catalog.import_file(file, sample=sample, dataset=dataset, kind=kind, citation=citation)
     what = f"{report.levels} levels" if report.levels else f"{report.lines} lines"
     click.echo(f"imported {what} of {', '.join(report.species)} into {report.kind} dataset "
@@ -233,9 +294,27 @@ def import_(obj: Context, file: str, sample: str | None, dataset: str | None, ki
 
 
 def _wavelength_option(value: str | None, name: str) -> float | None:
+    """A wavelength option in nm; errors name the option as typed (``--from``)."""
+    from levels.errors import UnitError
     from levels.units import wavelength_nm
 
-    return None if value is None else wavelength_nm(value)
+    if value is None:
+        return None
+    try:
+        result = wavelength_nm(value)
+    except UnitError as exc:
+        raise click.BadParameter(str(exc), param_hint=f"'{name}'") from None
+    if result <= 0:
+        raise click.BadParameter(f"{value!r}: a wavelength must be greater than zero", param_hint=f"'{name}'")
+    return result
+
+
+def _window(from_: str | None, to: str | None) -> tuple[float | None, float | None]:
+    """``--from`` and ``--to`` in nm, checked against each other."""
+    lo, hi = _wavelength_option(from_, "--from"), _wavelength_option(to, "--to")
+    if lo is not None and hi is not None and lo >= hi:
+        raise click.UsageError(f"empty window: --from {from_} is not below --to {to}")
+    return lo, hi
 
 
 def _energy_cm1_option(value: str | None) -> float | None:
@@ -258,13 +337,13 @@ def _multipoles_option(value: str) -> tuple[str, ...]:
 @click.option("--medium", type=click.Choice(["vacuum", "air"]), default="air", show_default=True,
               help="Medium of the window (lines below 200 nm are always in vacuum).")
 @click.option("--multipole", default="E1", show_default=True, help="Comma list of E1, M1, E2 (forbidden lines on request).")
-@click.option("--min-a", type=float, help="Smallest Einstein A, s-1 (lines without a known A are left out).")
+@click.option("--min-a", type=float, callback=_non_negative_finite, help="Smallest Einstein A, s-1 (lines without a known A are left out).")
 @click.option("--max-upper", metavar="ENERGY", help="Highest upper-level energy (50000cm-1, 6.2eV).")
 @click.option("--dataset", "datasets", multiple=True, metavar="NAME", help="Datasets in order of precedence (repeat).")
 @click.option("--sort", "order", type=click.Choice(["wavelength", "strength", "a"]), default="wavelength", show_default=True)
 @click.option("--air-formula", type=click.Choice(["iau2000", "edlen1966", "ciddor1996"]), default="iau2000",
               show_default=True)
-@click.option("--limit", type=int, help="At most this many lines.")
+@click.option("--limit", type=click.IntRange(min=1), help="At most this many lines.")
 @click.option("--format", "fmt", type=click.Choice(TABLE_FORMATS), default="table", show_default=True)
 @click.option("--output", type=click.Path(dir_okay=False), help="Write to this file (atomically) instead of printing.")
 @click.pass_obj
@@ -286,8 +365,11 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     from levels.catalog import LINE_COLUMNS, LINE_HEADINGS, LINE_UNITS, LineQuery
     from levels.service.vocabulary import air_formula_description
 
-    query = LineQuery(spectrum=spectrum, from_nm=_wavelength_option(from_, "--from"),
-                      to_nm=_wavelength_option(to, "--to"), medium=medium,
+    require_existing_store(obj)
+    output_path(output)
+    from_nm, to_nm = _window(from_, to)
+    query = LineQuery(spectrum=spectrum, from_nm=from_nm,
+                      to_nm=to_nm, medium=medium,
                       multipoles=_multipoles_option(multipole), min_a=min_a,
                       max_upper_cm1=_energy_cm1_option(max_upper), datasets=tuple(datasets) or None,
                       order=order, limit=limit)
@@ -315,6 +397,7 @@ REPORT_FORMATS = ("table", "json")
 def _echo_json(payload: dict, output: str | None) -> None:
     text = json.dumps(payload, indent=1, ensure_ascii=False, default=_json_default) + "\n"
     if output:
+        output_path(output)
         write_atomic(output, text)
         click.echo(f"wrote {output}", err=True)
     else:
@@ -360,6 +443,8 @@ def limit(obj: Context, spectrum: str, patterns: tuple[str, ...], n_min: int | N
     Example:
       levels limit "Li I" --series "ns 2S1/2" --series "nd 2D5/2" --n-min 4
     """
+    require_existing_store(obj)
+    output_path(output)
     report = obj.catalog.fit_limit(spectrum, list(patterns), datasets=list(datasets) or None,
                                    n_defect_terms=defect_terms, n_min=n_min, save=not no_save)
     if fmt == "json" or output:
@@ -399,6 +484,8 @@ def optimize(obj: Context, dataset: str, fix: str | None, fmt: str, output: str 
     Example:
       levels optimize demo-1/lines-run-3 --fix "1s2.2s 2S1/2"
     """
+    require_existing_store(obj)
+    output_path(output)
     report = obj.catalog.optimize_levels(dataset, fix=fix)
     if fmt == "json" or output:
         _echo_json(report, output)
@@ -418,7 +505,8 @@ def optimize(obj: Context, dataset: str, fix: str | None, fmt: str, output: str 
 @click.argument("spectra")
 @click.argument("peaks_file", type=click.Path(exists=True, dir_okay=False))
 @click.option("--tolerance", default="0.005nm", show_default=True, help="Match window, with unit.")
-@click.option("--candidates", type=int, default=3, show_default=True, help="Candidates listed per peak.")
+@click.option("--candidates", type=click.IntRange(min=1), default=3, show_default=True,
+              help="Candidates listed per peak.")
 @click.option("--format", "fmt", type=click.Choice(TABLE_FORMATS), default="table", show_default=True)
 @click.option("--output", type=click.Path(dir_okay=False), help="Write to this file (atomically) instead of printing.")
 @click.pass_obj
@@ -439,8 +527,14 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, candid
     from levels.lab import IDENTIFY_COLUMNS
     from levels.units import wavelength_nm
 
+    require_existing_store(obj)
+    output_path(output)
     names = [s.strip() for s in spectra.split(",") if s.strip()]
-    rows = obj.catalog.identify_peaks(names, peaks_file, tolerance_nm=wavelength_nm(tolerance),
+    try:
+        tolerance_nm = wavelength_nm(tolerance)
+    except LevelsError as exc:
+        raise click.BadParameter(str(exc), param_hint="'--tolerance'") from None
+    rows = obj.catalog.identify_peaks(names, peaks_file, tolerance_nm=tolerance_nm,
                                       max_candidates=candidates)
     provenance = obj.catalog.provenance(f"identify {', '.join(names)} in {peaks_file}; tolerance {tolerance}")
     emit(rows, IDENTIFY_COLUMNS, fmt, provenance, output=output,
@@ -462,12 +556,12 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, candid
 @click.option("--element-density", metavar="DENSITY", help="Density of the element, all charge states (default: ne).")
 @click.option("--cutoff", "cutoff_method", type=click.Choice(["debye", "inglis-teller", "none"]), default="debye",
               show_default=True, help="Partition-function cutoff.")
-@click.option("--top", type=int, default=15, show_default=True, help="Lines printed in the table.")
+@click.option("--top", type=click.IntRange(min=0), default=15, show_default=True, help="Lines printed in the table.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json", "csv", "ecsv"]), default="table", show_default=True)
 @click.option("--output", type=click.Path(dir_okay=False), help="Write the line list (csv/ecsv/json) to this file.")
 @click.option("--plot", type=click.Path(dir_okay=False), help="Write an interactive spectrum (HTML) to this file.")
 @click.option("--spectrum", "spectrum_file", type=click.Path(dir_okay=False), help="Write the sampled spectrum (CSV).")
-@click.option("--points", type=int, default=20001, show_default=True, help="Points of the sampled spectrum.")
+@click.option("--points", type=click.IntRange(2, 10_000_001), default=20001, show_default=True, help="Points of the sampled spectrum.")
 @click.pass_obj
 @reports_errors
 def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: str | None, to: str | None, medium: str,
@@ -488,9 +582,14 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: st
     from levels.catalog import EMISSION_COLUMNS, LINE_HEADINGS, LINE_UNITS
     from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 
+    require_existing_store(obj)
+    output_path(output)
+    output_path(plot, "--plot")
+    output_path(spectrum_file, "--spectrum")
+    from_nm, to_nm = _window(from_, to)
     result = obj.catalog.emission(
         spectrum, te_k=temperature_k(te), ne_m3=density_m3(ne), tgas_k=temperature_k(tgas),
-        from_nm=_wavelength_option(from_, "--from"), to_nm=_wavelength_option(to, "--to"), medium=medium,
+        from_nm=from_nm, to_nm=to_nm, medium=medium,
         instrument_fwhm_nm=wavelength_nm(instrument_fwhm) if instrument_fwhm.strip() not in ("0", "0nm") else 0.0,
         path_length_m=parse_quantity(path_length, "length") if path_length else None,
         element_density_m3=density_m3(element_density) if element_density else None, cutoff_method=cutoff_method,
@@ -509,6 +608,7 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: st
         units = dict(LINE_UNITS)
         text = format_table(result.lines, EMISSION_COLUMNS, "csv" if fmt == "table" else fmt, provenance, units=units)
         if output:
+            output_path(output)
             write_atomic(output, text)
             click.echo(f"wrote {len(result.lines)} lines to {output}", err=True)
         else:
@@ -533,10 +633,12 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: st
     if plot:
         from levels.figures import spectrum_figure, write_html
 
+        output_path(plot, "--plot")
         title = f"{spectrum} at Te {result.conditions['te_k']:.0f} K, ne {result.conditions['ne_m3']:.2g} m⁻³"
         write_html(spectrum_figure(result.grid_nm, result.spectrum, result.lines, medium=medium, title=title), plot, title)
         click.echo(f"wrote the interactive spectrum to {plot}", err=True)
     if spectrum_file:
+        output_path(spectrum_file, "--spectrum")
         rows = [{"wavelength_nm": float(x), "spectral_radiance": float(y)} for x, y in zip(result.grid_nm, result.spectrum)]
         write_atomic(spectrum_file, format_table(rows, ("wavelength_nm", "spectral_radiance"), "csv",
                                                  {**provenance, "units": "spectral_radiance in W m-3 sr-1 nm-1; "
@@ -623,14 +725,15 @@ def _progress() -> _Progress:
 
 @main.command()
 @click.argument("spectrum")
-@click.option("--mass-number", type=int, help="Isotope mass number (default: D/T from the symbol, else the most abundant).")
+@click.option("--mass-number", type=click.IntRange(1, 300), help="Isotope mass number (default: D/T from the symbol, else the most abundant).")
 @click.option("--n-max", type=int, default=20, show_default=True, help="Highest principal quantum number (1..1000).")
 @click.option("--fine-structure/--no-fine-structure", default=True, show_default=True,
               help="Levels n l j, or nl terms with the j components merged.")
 @click.option("--no-qed", is_flag=True, help="Leave out self energy, vacuum polarisation and higher-order terms.")
 @click.option("--no-recoil", is_flag=True, help="Infinitely heavy nucleus.")
 @click.option("--no-finite-size", is_flag=True, help="Point nucleus.")
-@click.option("--max-store-gb", type=float, default=2.0, show_default=True,
+@click.option("--max-store-gb", type=click.FloatRange(min=0.0, max=1e6, min_open=True), default=2.0,
+              show_default=True, callback=_positive_finite,
               help="Refuse a computation whose rows would need more than this.")
 @click.pass_obj
 @reports_errors

@@ -10,10 +10,13 @@ from __future__ import annotations
 
 import math
 import os
+import re
 from collections.abc import Iterable, Mapping
 from dataclasses import dataclass
 
 from levels.errors import InputFileError, NotationError, Problem
+from levels.io import limits
+from levels.io.limits import FLOAT_LIMIT, INT_MAX, MAX_ENERGY_CM1, control_character
 from levels.io.tables import MAX_PROBLEMS, read_delimited
 from levels.notation import (
     Spectrum,
@@ -32,8 +35,11 @@ LEVEL_COLUMNS = (
     "g", "n", "l", "lifetime_s", "lande_g", "dataset",
 )
 LEVEL_REQUIRED = ("spectrum", "configuration", "term", "j", "energy_cm1")
-#: largest level energy accepted, cm-1 (about 12 MeV; above any bound one-electron state of U91+)
-MAX_ENERGY_CM1 = 1e11
+#: a number as a file may write it: ASCII digits, one decimal point, an optional exponent
+_ASCII_NUMBER = re.compile(r"[+-]?(?:[0-9]+\.?[0-9]*|\.[0-9]+)(?:[eE][+-]?[0-9]+)?", re.ASCII)
+_ASCII_INTEGER = re.compile(r"[+-]?[0-9]+", re.ASCII)
+#: fields of free text (tabs allowed); every other text field is one line of printable characters
+_MULTILINE_FIELDS = ("note",)
 
 
 @dataclass(frozen=True)
@@ -79,12 +85,26 @@ class _Row:
     def fail(self, field: str | None, message: str) -> None:
         self.problems.append(Problem(self.source, self.line, field, message))
 
+    def refuse_controls(self) -> bool:
+        """Record every text field holding a terminal control character; True when there was one."""
+        before = len(self.problems)
+        for name, value in self.fields.items():
+            if isinstance(value, str):
+                bad = control_character(value, multiline=name in _MULTILINE_FIELDS)
+                if bad:
+                    self.fail(name, f"holds the control character {bad}; terminal control characters are refused")
+        return len(self.problems) > before
+
     def number(self, name: str, *, required: bool = False, minimum: float | None = None,
                strictly_positive: bool = False, maximum: float | None = None) -> float | None:
         raw = self.fields.get(name)
         if isinstance(raw, (int, float)) and not isinstance(raw, bool):
-            value = float(raw)
-            shown = repr(raw)
+            shown = repr(raw) if len(repr(raw)) <= 40 else f"{repr(raw)[:20]}..."
+            try:
+                value = float(raw)
+            except OverflowError:
+                self.fail(name, f"{shown} is too large to store (the store holds numbers below {FLOAT_LIMIT:g})")
+                return None
         else:
             text = self.text(name)
             if not text:
@@ -92,13 +112,17 @@ class _Row:
                     self.fail(name, "a value is required")
                 return None
             shown = repr(text)
+            if text.lower().lstrip("+-") in ("nan", "inf", "infinity"):
+                self.fail(name, f"{shown} is not a finite number")
+                return None
             try:
                 value = float(text)
             except ValueError:
                 self.fail(name, f"{shown} is not a number")
                 return None
-            if text.lower().lstrip("+-") in ("nan", "inf", "infinity"):
-                self.fail(name, f"{shown} is not a finite number")
+            if not _ASCII_NUMBER.fullmatch(text):
+                self.fail(name, f"{shown} is not a number; write it with the digits 0-9, a '.' and an optional "
+                                "exponent (no '_', no other digits)")
                 return None
         if not math.isfinite(value):
             self.fail(name, f"{shown} is not a finite number")
@@ -107,10 +131,14 @@ class _Row:
             self.fail(name, f"{shown} must be greater than zero")
             return None
         if minimum is not None and value < minimum:
-            self.fail(name, f"{shown} must not be negative" if minimum == 0 else f"{shown} is below {minimum}")
+            self.fail(name, f"{shown} must not be negative" if minimum == 0
+                      else f"{shown} is below the smallest accepted value {minimum:g}")
             return None
         if maximum is not None and value > maximum:
             self.fail(name, f"{shown} is above the largest accepted value {maximum:g}")
+            return None
+        if abs(value) >= FLOAT_LIMIT:
+            self.fail(name, f"{shown} is too large to store (the store holds numbers below {FLOAT_LIMIT:g})")
             return None
         return value
 
@@ -135,15 +163,26 @@ class _Row:
             text = self.text(name)
             if not text:
                 return None
-            try:
-                value = int(text)
-            except ValueError:
-                self.fail(name, f"{text!r} is not a whole number")
+            if not _ASCII_INTEGER.fullmatch(text):
+                self.fail(name, f"{text!r} is not a whole number" + (
+                    "; write it with the digits 0-9 only" if _is_int(text) else ""))
                 return None
+            value = int(text)
         if value < minimum:
             self.fail(name, f"{value} is below {minimum}")
             return None
+        if value > INT_MAX:
+            self.fail(name, f"{value} is above the largest storable whole number {INT_MAX}")
+            return None
         return value
+
+
+def _is_int(text: str) -> bool:
+    try:
+        int(text)
+    except ValueError:
+        return False
+    return True
 
 
 def parse_parity(text: str) -> int:
@@ -166,6 +205,8 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
         The record when there is no problem.
     """
     row = _Row(source, line, fields)
+    if row.refuse_controls():
+        return None, row.problems
     spectrum = row.parsed("spectrum", parse_spectrum, required=True)
     config_text = row.text("configuration")
     configuration = row.parsed("configuration", parse_configuration, required=True)
@@ -175,7 +216,7 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
     energy = row.number("energy_cm1", required=True, minimum=0.0, maximum=MAX_ENERGY_CM1)
     unc = row.number("unc_cm1", minimum=0.0, maximum=MAX_ENERGY_CM1)
     lifetime = row.number("lifetime_s", strictly_positive=True)
-    lande = row.number("lande_g", maximum=1e3)
+    lande = row.number("lande_g", minimum=-1e3, maximum=1e3)
     n = row.integer("n", 1)
     l_value = row.integer("l", 0)
     g = row.integer("g", 1)
@@ -216,6 +257,21 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
     label = row.text("label") or level_label(config_canonical, term_canonical, two_j)
     if len(label) > 200:
         return None, [Problem(source, line, "label", "label is longer than 200 characters")]
+    if two_j + 1 > INT_MAX:
+        row.fail("j", f"J = {field_text(row, 'j')} is too large to store (2J + 1 must not exceed {INT_MAX})")
+    for field, value in (("configuration", n), ("term", term.multiplicity if term else None)):
+        if value is not None and value > INT_MAX:
+            what = "the principal quantum number" if field == "configuration" else "the multiplicity"
+            row.fail(field, f"{field_text(row, field)!r}: {what} {value} is too large to store (at most {INT_MAX})")
+    for field, value in (("configuration", config_canonical), ("term", term_canonical), ("dataset", dataset)):
+        column = "name" if field == "dataset" else field
+        length = limits.COLUMNS["datasets" if field == "dataset" else "levels"][column].length
+        problem = None if value is None else limits.text_problem(value, length)
+        if problem:
+            shown = field_text(row, field) if field != "dataset" else (value if len(value) <= 40 else value[:37] + "...")
+            row.fail(field, f"{'dataset name ' if field == 'dataset' else ''}{shown!r} {problem}")
+    if row.problems:
+        return None, row.problems[:1]
     record = LevelRecord(
         spectrum=spectrum, label=label, configuration=config_canonical, term=term_canonical,
         two_j=two_j, parity=parity, energy_cm1=energy, unc_cm1=unc,
@@ -223,6 +279,12 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
         n=n, l=l_value, lifetime_s=lifetime, lande_g=lande, dataset=dataset, line=line,
     )
     return record, []
+
+
+def field_text(row: "_Row", name: str) -> str:
+    """The text of a field as given, shortened for a message."""
+    text = row.text(name)
+    return text if len(text) <= 40 else text[:37] + "..."
 
 
 def _parity_word(parity: int) -> str:
@@ -305,8 +367,14 @@ def validate_line(fields: Mapping[str, object], *, source: str,
                   line: int | None = None) -> tuple[LineRecord | None, list[Problem]]:
     """Validate one measured line row (labels are checked against levels later)."""
     row = _Row(source, line, fields)
+    if row.refuse_controls():
+        return None, row.problems
     spectrum = row.parsed("spectrum", parse_spectrum, required=True)
     lower, upper = row.text("lower"), row.text("upper")
+    for name, value in (("lower", lower), ("upper", upper)):
+        problem = limits.value_problem("levels", "label", value)
+        if problem:
+            row.fail(name, f"label {problem}")
     if not lower:
         row.fail("lower", "a level label is required")
     if not upper:
@@ -382,6 +450,9 @@ def read_peaks_file(path_or_bytes: str | os.PathLike | bytes, *, source: str | N
     peaks, problems = [], []
     for line, fields in table.rows:
         row = _Row(table.source, line, fields)
+        if row.refuse_controls():
+            problems.extend(row.problems)
+            continue
         value = row.number("peak_nm", required=True, strictly_positive=True, maximum=WAVELENGTH_RANGE_NM[1])
         medium = (row.text("medium") or default_medium).lower()
         if medium not in ("air", "vacuum"):

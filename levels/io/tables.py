@@ -15,17 +15,20 @@ through a temporary file and a rename, so a reader never sees half a file.
 
 from __future__ import annotations
 
+import contextlib
 import csv
 import io
 import json
 import math
 import os
+import stat
 import tempfile
+import threading
 from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
-from levels.errors import InputFileError, Problem
+from levels.errors import InputFileError, LevelsError, Problem
 
 MAX_LINE_BYTES = 1 << 20
 MAX_FILE_BYTES = 512 << 20
@@ -43,22 +46,73 @@ class DelimitedTable:
     rows: tuple[tuple[int, dict[str, str]], ...]
 
 
-def read_source(path_or_bytes: str | os.PathLike | bytes, source: str | None = None) -> tuple[str, bytes]:
-    """Load the raw bytes of a file (or take given bytes) with the name used in messages."""
+def read_source(path_or_bytes: str | os.PathLike | bytes, source: str | None = None,
+                max_bytes: int = MAX_FILE_BYTES) -> tuple[str, bytes]:
+    """Load the raw bytes of a file (or take given bytes) with the name used in messages.
+
+    Only regular files are read: a directory, a device (``/dev/zero``), a FIFO or
+    a socket is refused from :func:`os.stat` before anything is opened, so
+    nothing blocks and nothing reads without end. At most ``max_bytes`` are
+    read; a file that is (or grows) larger is refused, counting the bytes
+    actually read, not the size the file system reports.
+    """
     if isinstance(path_or_bytes, (bytes, bytearray)):
-        return source or "<upload>", bytes(path_or_bytes)
+        data = bytes(path_or_bytes)
+        name = source or "<upload>"
+        if len(data) > max_bytes:
+            raise InputFileError([Problem(name, None, None, f"file is {len(data)} bytes, more than the {max_bytes} "
+                                                            "bytes accepted")])
+        return name, data
     path = Path(path_or_bytes)
     name = source or path.name
+    handle = open_regular_file(path, name)
+    with handle:
+        data = handle.read(max_bytes + 1)
+    if len(data) > max_bytes:
+        raise InputFileError([Problem(name, None, None, f"file is more than the {max_bytes} bytes accepted")])
+    return name, data
+
+
+def regular_file_problem(path: str | os.PathLike) -> str | None:
+    """Why ``path`` cannot be read as an input file (missing, a directory, a device, a FIFO ...), or None.
+
+    Uses :func:`os.stat` (which follows symbolic links) and never opens the file.
+    """
     try:
-        size = path.stat().st_size
+        info = os.stat(path)
     except OSError as exc:
-        raise InputFileError([Problem(name, None, None, f"cannot read the file: {exc.strerror}")]) from None
-    if size > MAX_FILE_BYTES:
-        raise InputFileError([Problem(name, None, None, f"file is {size} bytes, more than the {MAX_FILE_BYTES} bytes accepted")])
+        return f"cannot read the file: {exc.strerror or exc}"
+    if stat.S_ISDIR(info.st_mode):
+        return "is a directory, not a file"
+    if stat.S_ISFIFO(info.st_mode):
+        return "is a named pipe (FIFO), not a regular file; save the data to a file first"
+    if stat.S_ISCHR(info.st_mode) or stat.S_ISBLK(info.st_mode):
+        return "is a device, not a regular file"
+    if not stat.S_ISREG(info.st_mode):
+        return "is not a regular file"
+    return None
+
+
+def open_regular_file(path: str | os.PathLike, name: str | None = None):
+    """Open a regular file for reading in binary mode, or raise InputFileError naming it.
+
+    Checked with :func:`os.stat` first, opened without blocking and checked again
+    on the open descriptor, so a file swapped for a FIFO in between is refused too.
+    """
+    name = name or Path(path).name
+    problem = regular_file_problem(path)
+    if problem:
+        raise InputFileError([Problem(name, None, None, problem)])
     try:
-        return name, path.read_bytes()
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_NOCTTY", 0))
     except OSError as exc:
-        raise InputFileError([Problem(name, None, None, f"cannot read the file: {exc.strerror}")]) from None
+        raise InputFileError([Problem(name, None, None, f"cannot read the file: {exc.strerror or exc}")]) from None
+    if not stat.S_ISREG(os.fstat(fd).st_mode):
+        os.close(fd)
+        raise InputFileError([Problem(name, None, None, "is not a regular file")])
+    if hasattr(os, "set_blocking"):
+        os.set_blocking(fd, True)
+    return os.fdopen(fd, "rb")
 
 
 def decode_lines(source: str, data: bytes) -> list[str]:
@@ -67,6 +121,8 @@ def decode_lines(source: str, data: bytes) -> list[str]:
         raise InputFileError([Problem(source, None, None, "the file is empty; expected a header line")])
     if data.startswith(b"\xef\xbb\xbf"):
         data = data[3:]
+    if data.startswith((b"\xff\xfe\x00\x00", b"\x00\x00\xfe\xff")):
+        raise InputFileError([Problem(source, 1, None, "the file is UTF-32 text; save it as UTF-8")])
     if data.startswith((b"\xff\xfe", b"\xfe\xff")):
         raise InputFileError([Problem(source, 1, None, "the file is UTF-16 text; save it as UTF-8")])
     raw_lines = data.split(b"\n")
@@ -123,7 +179,7 @@ def read_delimited(path_or_bytes: str | os.PathLike | bytes, *, source: str | No
         raise InputFileError([Problem(name, None, None, "no header line; the file holds only comments or blank lines")])
     header_line = index + 1
     try:
-        header = [cell.strip() for cell in next(csv.reader([lines[index]]))]
+        header = [cell.strip() for cell in split_csv_line(lines[index])]
     except csv.Error as exc:
         raise InputFileError([Problem(name, header_line, None, f"malformed CSV header: {exc}")]) from None
     problems = _check_header(name, header_line, header, known_columns, required_columns)
@@ -134,7 +190,7 @@ def read_delimited(path_or_bytes: str | os.PathLike | bytes, *, source: str | No
         if not text.strip() or text.lstrip().startswith("#"):
             continue
         try:
-            cells = next(csv.reader([text]))
+            cells = split_csv_line(text)
         except csv.Error as exc:
             problems.append(Problem(name, offset, None, f"malformed CSV: {exc}"))
             continue
@@ -149,6 +205,27 @@ def read_delimited(path_or_bytes: str | os.PathLike | bytes, *, source: str | No
     if not rows:
         raise InputFileError([Problem(name, header_line, None, "the header is not followed by any data row")])
     return DelimitedTable(name, header_line, tuple(header), tuple(rows))
+
+
+def split_csv_line(text: str) -> list[str]:
+    """The fields of one CSV line (strict quoting); raise csv.Error with a message a user can act on.
+
+    A quoted field that is not closed on its line is reported as such: fields
+    may not hold line breaks (one row, one line, so every message names the
+    right line).
+
+    Examples
+    --------
+    >>> split_csv_line('Na I,"3s",2S')
+    ['Na I', '3s', '2S']
+    """
+    try:
+        return next(csv.reader([text], strict=True))
+    except csv.Error as exc:
+        if text.count('"') % 2:
+            raise csv.Error("a quoted field is not closed on this line (a field may not hold a line break; "
+                            "keep each row on one line)") from None
+        raise csv.Error(str(exc)) from None
 
 
 def _check_header(name: str, line: int, header: list[str], known: Sequence[str] | None,
@@ -271,21 +348,53 @@ def _format_ecsv(rows: list, columns: Sequence[str], provenance: Mapping[str, ob
     return out.getvalue()
 
 
-def write_atomic(path: str | os.PathLike, content: str) -> None:
-    """Write text to ``path`` through a temporary file in the same folder and a rename."""
-    target = Path(path)
-    target.parent.mkdir(parents=True, exist_ok=True)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+class OutputError(LevelsError, OSError):
+    """An output file could not be written (disk full, no permission, a refused path); nothing was replaced."""
+
+
+_UMASK_LOCK = threading.Lock()
+
+
+def current_umask() -> int:
+    """The process's file-creation mask (read without changing it for good)."""
+    with _UMASK_LOCK:
+        mask = os.umask(0o022)
+        os.umask(mask)
+    return mask
+
+
+def write_atomic(path: str | os.PathLike, content: str | bytes) -> None:
+    """Write text (or bytes) to ``path`` through a temporary file in the same folder and a rename.
+
+    The file gets the mode a new file gets from the umask (``0o666 & ~umask``),
+    or keeps the mode of the file it replaces. A symbolic link is followed: its
+    target is replaced and the link stays. Failures (disk full, no permission)
+    raise :class:`OutputError` with one line naming the file; the old file, if
+    any, is left as it was.
+    """
+    target = Path(os.path.realpath(path))
+    data = content.encode("utf-8") if isinstance(content, str) else bytes(content)
+    tmp = None
     try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="") as handle:
-            handle.write(content)
+        try:
+            mode = stat.S_IMODE(os.stat(target).st_mode)
+        except FileNotFoundError:
+            mode = 0o666 & ~current_umask()
+        target.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+        with os.fdopen(fd, "wb") as handle:
+            handle.write(data)
             handle.flush()
             os.fsync(handle.fileno())
+        os.chmod(tmp, mode)
         os.replace(tmp, target)
-    except BaseException:
-        with __import__("contextlib").suppress(OSError):
-            os.unlink(tmp)
-        raise
+        tmp = None
+    except OSError as exc:
+        raise OutputError(f"cannot write {os.fspath(path)}: {exc.strerror or exc}; nothing was written") from None
+    finally:
+        if tmp is not None:
+            with contextlib.suppress(OSError):
+                os.unlink(tmp)
 
 
 def format_text_table(rows: Sequence[Mapping[str, object]], columns: Sequence[str],

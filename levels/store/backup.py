@@ -61,7 +61,9 @@ import json
 import math
 import os
 import re
+import stat
 import tempfile
+import zlib
 from collections.abc import Callable, Iterator
 from contextlib import contextmanager
 from dataclasses import dataclass, field
@@ -237,20 +239,52 @@ def _is_gzip(path: Path) -> bool:
     return path.suffix == ".gz"
 
 
+#: longest line read from a store file (a row is far shorter; the header lists every column)
+MAX_LINE_BYTES = 64 << 20
+
+
 @contextmanager
 def _open_read(path: Path) -> Iterator[io.BufferedIOBase]:
+    """Open a store file: only a regular file (checked with os.stat, then on the open descriptor, never blocking)."""
     try:
-        handle = gzip.open(path, "rb") if _is_gzip(path) else open(path, "rb")
+        info = os.stat(path)
     except OSError as exc:
         raise StoreFileError(f"{path}: cannot read the file: {exc.strerror or exc}") from None
-    with handle:
-        yield handle
+    if not stat.S_ISREG(info.st_mode):
+        what = ("a directory" if stat.S_ISDIR(info.st_mode) else "a named pipe (FIFO)" if stat.S_ISFIFO(info.st_mode)
+                else "a device" if stat.S_ISCHR(info.st_mode) or stat.S_ISBLK(info.st_mode) else "not a regular file")
+        raise StoreFileError(f"{path}: is {what}, not a regular file; nothing was written")
+    try:
+        fd = os.open(path, os.O_RDONLY | getattr(os, "O_NONBLOCK", 0) | getattr(os, "O_NOCTTY", 0))
+    except OSError as exc:
+        raise StoreFileError(f"{path}: cannot read the file: {exc.strerror or exc}") from None
+    if not stat.S_ISREG(os.fstat(fd).st_mode):
+        os.close(fd)
+        raise StoreFileError(f"{path}: is not a regular file; nothing was written")
+    os.set_blocking(fd, True)
+    raw = os.fdopen(fd, "rb")
+    handle = gzip.GzipFile(fileobj=raw, mode="rb") if _is_gzip(path) else raw
+    try:
+        with handle:
+            yield handle
+    finally:
+        raw.close()
 
 
 def _lines(handle, path: Path) -> Iterator[bytes]:
+    """The lines of a store file, each at most MAX_LINE_BYTES long (a longer one is refused, not read whole)."""
+    number = 0
     try:
-        yield from handle
-    except (OSError, EOFError, gzip.BadGzipFile) as exc:
+        while True:
+            line = handle.readline(MAX_LINE_BYTES + 1)
+            if not line:
+                return
+            number += 1
+            if len(line) > MAX_LINE_BYTES:
+                raise StoreFileError(f"{path}:{number}: line is longer than {MAX_LINE_BYTES} bytes; this is not "
+                                     f"a {FORMAT_NAME} file; nothing was written")
+            yield line
+    except (OSError, EOFError, gzip.BadGzipFile, zlib.error) as exc:
         raise StoreFileError(f"{path}: the compressed file is damaged ({exc}); nothing was written") from None
 
 
@@ -362,11 +396,18 @@ def export_store(engine: Engine, path: str | os.PathLike,
         The store is not initialised or not at the current schema revision.
     """
     database.require_current(engine)
-    target = Path(path)
-    target.parent.mkdir(parents=True, exist_ok=True)
+    target = Path(os.path.realpath(path))
     columns = table_columns()
     notify = progress or (lambda table, done, total: None)
-    fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+    try:
+        try:
+            mode = stat.S_IMODE(os.stat(target).st_mode)
+        except FileNotFoundError:
+            mode = 0o666 & ~_umask()
+        target.parent.mkdir(parents=True, exist_ok=True)
+        fd, tmp = tempfile.mkstemp(prefix=f".{target.name}.", suffix=".tmp", dir=target.parent)
+    except OSError as exc:
+        raise StoreError(f"cannot write {path}: {exc.strerror or exc}; nothing was written") from None
     digest = hashlib.sha256()
     try:
         with os.fdopen(fd, "wb") as raw:
@@ -408,12 +449,23 @@ def export_store(engine: Engine, path: str | os.PathLike,
                 out.close()
             raw.flush()
             os.fsync(raw.fileno())
+        os.chmod(tmp, mode)
         os.replace(tmp, target)
+    except OSError as exc:
+        with _suppress():
+            os.unlink(tmp)
+        raise StoreError(f"cannot write {path}: {exc.strerror or exc}; nothing was written") from None
     except BaseException:
         with _suppress():
             os.unlink(tmp)
         raise
     return TransferSummary(str(target), counts, checksum, revision or "")
+
+
+def _umask() -> int:
+    mask = os.umask(0o022)
+    os.umask(mask)
+    return mask
 
 
 def _revision_on(conn) -> str | None:
@@ -449,7 +501,8 @@ def check_empty(session: Session, where: str) -> None:
                              "store only (name a new file or database with --db)")
 
 
-def insert_rows_from_file(session: Session, path: str | os.PathLike, header: dict) -> dict[str, int]:
+def insert_rows_from_file(session: Session, path: str | os.PathLike, header: dict,
+                          check_row: Callable[[str, dict, str], None] | None = None) -> dict[str, int]:
     """Insert every row of a verified file in the caller's transaction; return the rows per table.
 
     The checksum and the row counts are verified again while reading, so a file
@@ -507,6 +560,8 @@ def insert_rows_from_file(session: Session, path: str | os.PathLike, header: dic
             values = {col: decode_value(row[col], kind, f"{where}: {name}.{col}") for col, kind in kinds}
             if values["id"] is None or (last_id is not None and values["id"] <= last_id):
                 raise StoreFileError(f"{where}: ids of {name} must be present and increasing")
+            if check_row is not None:
+                check_row(name, values, where)
             last_id = values["id"]
             pending.append(values)
             counts[name] += 1
@@ -548,7 +603,8 @@ def reset_sequences(session: Session) -> None:
 
 
 def import_store(engine: Engine, path: str | os.PathLike, *,
-                 after: Callable[[Session, dict, dict], None] | None = None) -> TransferSummary:
+                 after: Callable[[Session, dict, dict], None] | None = None,
+                 check_row: Callable[[str, dict, str], None] | None = None) -> TransferSummary:
     """Fill an empty store with every row of a ``levels-store`` file, all or nothing.
 
     Parameters
@@ -561,6 +617,10 @@ def import_store(engine: Engine, path: str | os.PathLike, *,
     after : callable, optional
         ``after(session, header, counts)`` runs inside the import transaction
         once the rows are in (used to add an audit entry).
+    check_row : callable, optional
+        ``check_row(table, values, where)`` sees every decoded row before it is
+        inserted and raises :class:`StoreFileError` to refuse the file (the
+        service layer applies the stored-value rules of ``levels.io.limits``).
 
     Returns
     -------
@@ -583,7 +643,7 @@ def import_store(engine: Engine, path: str | os.PathLike, *,
 
     def work(session: Session) -> dict[str, int]:
         check_empty(session, where)
-        counts = insert_rows_from_file(session, path, header)
+        counts = insert_rows_from_file(session, path, header, check_row=check_row)
         session.flush()
         reset_sequences(session)
         if after is not None:
