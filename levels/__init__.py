@@ -5,9 +5,28 @@ The package is layered (see DEVELOPERS.md):
 * :mod:`levels.physics` - pure numpy/scipy functions, no database, no web;
 * :mod:`levels.store` - the only code that speaks SQL (SQLAlchemy 2);
 * :mod:`levels.io` - file readers and writers that validate every row;
-* :mod:`levels.catalog` - the service layer called by the CLI and the web site.
+* :mod:`levels.catalog` and :mod:`levels.service` - the service layer;
+* :mod:`levels.cli`, :mod:`webui` and :mod:`levels.api` - the front ends.
+
+From Python, ``levels.open_store(db)`` opens a store (see :mod:`levels.api`); it is
+imported on first use, so ``import levels`` stays light.
 """
+
+from __future__ import annotations
+
+from typing import TYPE_CHECKING, Any
 
 __version__ = "0.1.0"
 
-__all__ = ["__version__"]
+__all__ = ["__version__", "open_store"]
+
+if TYPE_CHECKING:  # pragma: no cover
+    from levels.api import open_store
+
+
+def __getattr__(name: str) -> Any:
+    if name == "open_store":
+        from levels.api import open_store
+
+        return open_store
+    raise AttributeError(f"module 'levels' has no attribute {name!r}")
