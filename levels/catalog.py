@@ -19,7 +19,14 @@ import numpy as np
 from sqlalchemy.orm import Session
 
 from levels import __version__
-from levels.errors import AlreadyExistsError, InputFileError, NotFoundError, PhysicsInputError, Problem
+from levels.errors import (
+    AlreadyExistsError,
+    InputFileError,
+    NotFoundError,
+    PhysicsInputError,
+    Problem,
+    ReservedNameError,
+)
 from levels.io import records as level_io
 from levels.io.tables import read_delimited
 from levels.notation import Spectrum, format_j, parse_spectrum
@@ -192,7 +199,7 @@ class Catalog:
         for row in self.species_rows():
             if row["spectrum"] == name:
                 return row
-        raise NotFoundError(f"no species {spec.name} in the store")
+        raise NotFoundError(f"no species {spec.isotope_name} in the store")
 
     # ------------------------------------------------------------- levels
     def level_rows(self, spectrum: str | Spectrum, datasets: Sequence[str] | None = None) -> list[dict]:
@@ -397,20 +404,20 @@ class Catalog:
         lines = model.lines
 
         def work(session: Session) -> dict:
-            old = queries.find_dataset(session, name)
-            if old is not None:
-                queries.delete_dataset(session, old)
-            ds = queries.create_dataset(
-                session, name=name, kind="computed", method=hydrogenic.METHOD,
-                method_version=f"{hydrogenic.METHOD_VERSION} (levels {__version__})",
-                citation="computed by levels: Dirac energies with recoil and QED corrections (see levels.physics.dirac)",
-                author=self.actor, options=model.options,
-                description=f"{species_spec.name} (A = {iso.mass_number}) to n = {n_max}"
-                            + (" with fine structure" if fine_structure else ", nl terms"))
             species = queries.get_or_create_species(session, species_spec)
+            # the earlier computation is found by role and species (never by name); levels of it that
+            # lines of other datasets (measured lines, say) join keep their ids and are updated in place
+            ds = queries.replace_computed_dataset(
+                session, species.id, "hydrogenic" if fine_structure else "hydrogenic-nl", name=name,
+                method=hydrogenic.METHOD, method_version=f"{hydrogenic.METHOD_VERSION} (levels {__version__})",
+                options_json=json.dumps(model.options or {}, sort_keys=True), actor=self.actor,
+                citation="computed by levels: Dirac energies with recoil and QED corrections (see levels.physics.dirac)",
+                description=f"{species_spec.name} (A = {iso.mass_number}) to n = {n_max}"
+                            + (" with fine structure" if fine_structure else ", nl terms"),
+                keep_referenced_levels=True)
             for row in level_rows:
                 row["dataset_id"], row["species_id"] = ds.id, species.id
-            ids = np.asarray(queries.insert_rows(session, Level, level_rows, returning_ids=True), dtype=np.int64)
+            ids = np.asarray(queries.upsert_kept_levels(session, ds.id, level_rows, source=ds.name), dtype=np.int64)
             total = len(lines["upper"])
             columns = _hydrogenic_line_columns(ds.id, species.id, ids, lines)
             chunk = 20000
@@ -419,6 +426,9 @@ class Catalog:
                 notify("storing lines", min(start + chunk, total), total)
             session.add(IonizationLimit(dataset_id=ds.id, species_id=species.id, energy_cm1=model.ionization_cm1,
                                         unc_cm1=None, method=hydrogenic.METHOD))
+            if queries.find_computed_dataset(session, species.id, DERIVED_ROLE) is not None:
+                # the replaced levels took some derived lines with them: rebuild the species' set
+                _store_derived_lines(session, species, self.actor)
             queries.record_audit(session, "compute-hydrogenic", f"dataset {ds.name}",
                                  {"levels": len(level_rows), "lines": total, "n_max": n_max,
                                   "fine_structure": fine_structure, "corrections": corrections.as_dict()},
@@ -520,8 +530,12 @@ class Catalog:
         if not records:
             raise InputFileError([Problem(source, None, None, "no lines to import")])
 
+        if dataset:
+            _refuse_reserved(dataset, source, None, "dataset")
+        warnings: list[str] = []
+
         def work(session: Session) -> ImportReport:
-            name = dataset or _free_dataset_name(session, source, sample)
+            name = dataset or _free_dataset_name(session, source, sample, kind, warnings)
             sample_row = None
             if sample:
                 sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
@@ -536,7 +550,7 @@ class Catalog:
                                  {"source": source, "lines": count, "species": names, "sample": sample,
                                   "derived_lines": derived}, actor=self.actor)
             return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
-                                species=names, lines=count)
+                                species=names, lines=count, warnings=list(warnings))
 
         return self.write(work)
 
@@ -557,6 +571,7 @@ class Catalog:
             raise InputFileError([Problem(source, None, None, "a dataset needs levels or lines")])
         if kind not in ("measured", "imported"):
             raise ValueError("imports make measured or imported datasets")
+        _refuse_reserved(name, source, None, "name")
 
         def work(session: Session) -> ImportReport:
             sample_row = queries.get_or_create_sample(session, sample) if sample else None
@@ -676,9 +691,12 @@ class Catalog:
         if not records:
             raise InputFileError([Problem(source, None, None, "no levels to import")])
         explicit_name = records[0].dataset
+        if explicit_name:
+            _refuse_reserved(explicit_name, source, records[0].line, "dataset")
+        warnings: list[str] = []
 
         def work(session: Session) -> ImportReport:
-            dataset_name = explicit_name or _free_dataset_name(session, source, sample)
+            dataset_name = explicit_name or _free_dataset_name(session, source, sample, kind, warnings)
             sample_row = None
             if sample:
                 sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
@@ -692,12 +710,13 @@ class Catalog:
                                  {"source": source, "levels": len(rows), "species": names,
                                   "sample": sample}, actor=self.actor)
             return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
-                                species=names, levels=len(rows), lines=derived)
+                                species=names, levels=len(rows), lines=derived, warnings=list(warnings))
 
         return self.write(work)
 
 
 DERIVED_METHOD = "ritz-combination"
+DERIVED_ROLE = "derived-lines"
 
 
 def derived_dataset_name(spectrum_name: str, mass_number: int) -> str:
@@ -742,10 +761,10 @@ def _store_derived_lines(session: Session, species: Species, actor: str) -> int:
     # SQLite write transactions are serialised already)
     session.execute(select(Species.id).where(Species.id == species.id).with_for_update(key_share=True))
     name = derived_dataset_name(species.name, species.mass_number)
-    old = queries.find_dataset(session, name)
+    old = queries.find_computed_dataset(session, species.id, DERIVED_ROLE)
     if old is not None:
         queries.delete_dataset(session, old)
-    chosen = [d for d in queries.visible_datasets(session) if d.method != DERIVED_METHOD]
+    chosen = [d for d in queries.visible_datasets(session) if d.role != DERIVED_ROLE]
     levels = [lv for lv in queries.levels_by_precedence(session, species, chosen) if lv.two_j is not None]
     if len(levels) < 2:
         return 0
@@ -759,6 +778,7 @@ def _store_derived_lines(session: Session, species: Species, actor: str) -> int:
     if not keep.any():
         return 0
     ds = queries.create_dataset(session, name=name, kind="computed", method=DERIVED_METHOD,
+                                role=DERIVED_ROLE, owner_species_id=species.id,
                                 method_version=f"levels {__version__}", author=actor,
                                 citation="Ritz combination of stored levels (levels.physics.combination)",
                                 description=f"E1 lines implied by the stored levels of {species.name}",
@@ -996,9 +1016,28 @@ def _checked_columns(table, known: Sequence[str], required: Sequence[str]):
     return table.rows
 
 
-def _free_dataset_name(session: Session, source: str, sample: str | None) -> str:
-    """``sample/file-stem``, with ``#2``, ``#3`` ... appended when taken."""
-    base = f"{sample + '/' if sample else ''}{Path(source).stem or 'import'}"
+def _refuse_reserved(name: str, source: str, line: int | None, field_name: str) -> None:
+    """Raise :class:`ReservedNameError` naming ``field_name`` when a user dataset name has a reserved form."""
+    if queries.is_reserved_dataset_name(name):
+        raise ReservedNameError([Problem(source, line, field_name, queries.reserved_name_message(name))])
+
+
+def _free_dataset_name(session: Session, source: str, sample: str | None, kind: str = "measured",
+                       warnings: list[str] | None = None) -> str:
+    """``sample/file-stem``, with ``#2``, ``#3`` ... appended when taken.
+
+    A file stem of a reserved form (``derived lines Na I A=23.csv``) is prefixed by the
+    dataset's kind (``measured derived lines Na I A=23``), with a warning: the name was
+    not chosen by the user, so the import goes ahead under a name no rebuild can take.
+    """
+    stem = Path(source).stem or "import"
+    if not sample and queries.is_reserved_dataset_name(stem):
+        renamed = f"{kind} {stem}"
+        if warnings is not None:
+            warnings.append(f"{source}: the file name {stem!r} has the form of a computed dataset's name; "
+                            f"the dataset is named {renamed!r} (give --dataset to choose another)")
+        stem = renamed
+    base = f"{sample + '/' if sample else ''}{stem}"
     name, number = base, 1
     while queries.find_dataset(session, name) is not None:
         number += 1

@@ -94,3 +94,17 @@ class InputFileError(LevelsError, ValueError):
     def first(self) -> Problem:
         """The first problem found."""
         return self.problems[0]
+
+
+class ReservedNameError(InputFileError):
+    """A user dataset was given a name of the form the tool keeps for its own computed datasets.
+
+    Names such as ``derived lines Na I A=23``, ``series limit Na I A=23``,
+    ``hydrogenic C VI A=12`` and ``rates Fe II A=56`` are reserved: the tool finds
+    its computed datasets by role and species, and a user dataset of such a name
+    would be confused with one. The problem names the field that carried the name.
+    """
+
+
+class DatasetInUseError(LevelsError, ValueError):
+    """A dataset cannot be replaced or deleted because rows of other datasets depend on it."""

@@ -22,6 +22,7 @@ from levels.physics import air, ritz, series
 from levels.store import queries
 from levels.store.schema import IonizationLimit, Level, Line, Species
 
+LIMIT_METHOD = "extended-ritz-fit"
 IDENTIFY_COLUMNS = ("peak_nm", "medium", "rank", "spectrum", "lower", "upper", "line_nm", "delta_nm", "a_per_s", "note")
 
 
@@ -138,7 +139,7 @@ def fit_limit(session: Session, spectrum, patterns: Sequence[str], *, datasets: 
     rydberg = series.rydberg_constant_cm1(nuclear_mass)
     fit = series.fit_series_limit([(n, e, u) for _, n, e, u in data], rydberg_cm1=rydberg,
                                   core_charge=species.charge + 1, n_defect_terms=n_defect_terms)
-    stored = queries.ionization_limit(session, species, [d for d in chosen if d.method != "extended-ritz-fit"])
+    stored = queries.ionization_limit(session, species, [d for d in chosen if d.role != "series-limit"])
     report = {
         "spectrum": species.name,
         "limit_cm1": fit.limit_cm1, "limit_unc_cm1": fit.limit_unc_cm1,
@@ -155,16 +156,19 @@ def fit_limit(session: Session, spectrum, patterns: Sequence[str], *, datasets: 
 
 
 def save_limit(session: Session, species: Species, report: dict, actor: str, dataset_name: str) -> None:
-    """Store a fitted limit as its own computed dataset (replacing an earlier fit of that name)."""
-    old = queries.find_dataset(session, dataset_name)
-    if old is not None:
-        queries.delete_dataset(session, old)
-    ds = queries.create_dataset(session, name=dataset_name, kind="computed", method="extended-ritz-fit",
-                                author=actor, options={"series": [s["pattern"] for s in report["series"]]},
-                                citation="extended Ritz formula fit (levels.physics.series)",
-                                description=f"series limit of {species.name} fitted to stored levels")
+    """Store a fitted limit as the species' computed series-limit dataset (replacing its earlier fit).
+
+    The earlier fit is found by role and species, never by name, so no user dataset is touched.
+    """
+    import json
+
+    ds = queries.replace_computed_dataset(
+        session, species.id, "series-limit", name=dataset_name, method=LIMIT_METHOD, method_version="",
+        options_json=json.dumps({"series": [s["pattern"] for s in report["series"]]}), actor=actor,
+        citation="extended Ritz formula fit (levels.physics.series)",
+        description=f"series limit of {species.name} fitted to stored levels")
     session.add(IonizationLimit(dataset_id=ds.id, species_id=species.id, energy_cm1=report["limit_cm1"],
-                                unc_cm1=report["limit_unc_cm1"], method="extended-ritz-fit"))
+                                unc_cm1=report["limit_unc_cm1"], method=LIMIT_METHOD))
 
 
 # ----------------------------------------------------------------- level optimisation

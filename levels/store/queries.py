@@ -9,16 +9,19 @@ from __future__ import annotations
 import getpass
 import itertools
 import json
+import re
+import unicodedata
 from collections.abc import Iterable, Sequence
 
 import numpy as np
 from sqlalchemy import delete, func, insert, select
 from sqlalchemy.orm import Session
 
-from levels.errors import AlreadyExistsError, NotFoundError
+from levels.errors import AlreadyExistsError, DatasetInUseError, NotFoundError, Problem, ReservedNameError
 from levels.isotopes import default_isotope, isotope
 from levels.notation import Spectrum
 from levels.store.schema import (
+    COMPUTED_ROLES,
     AuditEntry,
     Dataset,
     IonizationLimit,
@@ -74,7 +77,7 @@ def require_species(session: Session, spectrum: Spectrum) -> Species:
     """Like :func:`find_species` but raise :class:`NotFoundError`."""
     species = find_species(session, spectrum)
     if species is None:
-        raise NotFoundError(f"no species {spectrum.name} in the store")
+        raise NotFoundError(f"no species {spectrum.isotope_name} in the store")
     return species
 
 
@@ -119,17 +122,174 @@ def require_dataset(session: Session, name_or_id: str | int) -> Dataset:
 
 def create_dataset(session: Session, *, name: str, kind: str, method: str = "", method_version: str = "",
                    citation: str = "", author: str | None = None, description: str = "",
-                   options: dict | None = None, sample: Sample | None = None) -> Dataset:
-    """Add a dataset; its name must be new."""
+                   options: dict | None = None, sample: Sample | None = None,
+                   role: str | None = None, owner_species_id: int | None = None) -> Dataset:
+    """Add a dataset; its name must be new.
+
+    A user dataset (``role`` None) may not take a reserved name
+    (:func:`is_reserved_dataset_name`); front ends check first and name their own
+    field, this is the last guard.
+    """
+    if role is None and is_reserved_dataset_name(name):
+        raise ReservedNameError([Problem("<store>", None, "name", reserved_name_message(name))])
+    if role is not None and role not in COMPUTED_ROLES:
+        raise ValueError(f"unknown computed-dataset role {role!r}; known: {', '.join(COMPUTED_ROLES)}")
     if find_dataset(session, name) is not None:
         raise AlreadyExistsError(f"a dataset named {name!r} already exists")
     dataset = Dataset(name=name, kind=kind, method=method, method_version=method_version, citation=citation,
                       author=author or current_actor(), description=description,
                       options_json=json.dumps(options or {}, sort_keys=True), created_at=utcnow(),
-                      sample=sample, retracted=0)
+                      sample=sample, retracted=0, role=role, owner_species_id=owner_species_id)
     session.add(dataset)
     session.flush()
     return dataset
+
+
+# ----------------------------------------------------------------- computed datasets (by role and species)
+
+#: the name forms of computed datasets: ``<prefix> <spectrum> A=<mass>`` (hydrogenic ones may end in ``nl``);
+#: matched case-insensitively on the NFKC-normalised name with runs of white space collapsed, and
+#: deliberately broad (anything between the prefix and ``A=<digits>``) so no look-alike slips through
+RESERVED_NAME_PATTERN = re.compile(r"^(derived lines|series limit|hydrogenic|rates)\b.*\ba\s*=\s*\d+", re.IGNORECASE)
+RESERVED_NAME_FORMS = ("derived lines <spectrum> A=<mass>", "series limit <spectrum> A=<mass>",
+                       "hydrogenic <spectrum> A=<mass>", "rates <spectrum> A=<mass>")
+
+
+def is_reserved_dataset_name(name: str) -> bool:
+    """Whether ``name`` has a form the tool keeps for its own computed datasets.
+
+    Examples
+    --------
+    >>> is_reserved_dataset_name("derived lines Na I A=23"), is_reserved_dataset_name("Rates  fe II a = 56")
+    (True, True)
+    >>> is_reserved_dataset_name("my derived lines Na I A=23"), is_reserved_dataset_name("hydrogenic runs")
+    (False, False)
+    """
+    text = " ".join(unicodedata.normalize("NFKC", str(name)).split())
+    return bool(RESERVED_NAME_PATTERN.match(text))
+
+
+def reserved_name_message(name: str) -> str:
+    """The refusal text for a reserved user dataset name."""
+    return (f"{name!r} has the form of a dataset the tool computes and rebuilds itself "
+            f"({'; '.join(RESERVED_NAME_FORMS)}); choose another name, e.g. 'measured {name.strip()}'")
+
+
+def find_computed_dataset(session: Session, species_id: int, role: str) -> Dataset | None:
+    """The computed dataset of ``role`` owned by species ``species_id``, or None (never looked up by name)."""
+    if role not in COMPUTED_ROLES:
+        raise ValueError(f"unknown computed-dataset role {role!r}; known: {', '.join(COMPUTED_ROLES)}")
+    return session.scalars(select(Dataset).where(Dataset.role == role,
+                                                 Dataset.owner_species_id == species_id)).one_or_none()
+
+
+def replace_computed_dataset(session: Session, species_id: int, role: str, *, name: str, method: str,
+                             method_version: str, options_json: str, actor: str, citation: str = "",
+                             description: str = "", keep_referenced_levels: bool = False) -> Dataset:
+    """Delete the computed dataset of (``role``, species) with its lines, levels and limits; create the new one.
+
+    Only the dataset found by role and owner species is deleted; a user dataset of any
+    name is never touched. The caller's transaction holds both steps.
+
+    Parameters
+    ----------
+    species_id : int
+        Owner species.
+    role : str
+        One of :data:`levels.store.schema.COMPUTED_ROLES`.
+    name, method, method_version, options_json, actor, citation, description
+        The new dataset's record (``options_json`` is JSON text).
+    keep_referenced_levels : bool
+        Levels of the old dataset that lines of *other* datasets join are moved into the
+        new dataset (same ids) instead of deleted; the caller updates them. Without it,
+        such levels make the replacement fail (deleting them would delete those lines).
+
+    Returns
+    -------
+    Dataset
+        The new dataset (flushed, with its id).
+
+    Raises
+    ------
+    DatasetInUseError
+        Lines of other datasets join levels of the old dataset and ``keep_referenced_levels`` is False.
+    """
+    old = find_computed_dataset(session, species_id, role)
+    moved: list[int] = []
+    if old is not None:
+        moved = referenced_level_ids(session, old.id)
+        if moved and not keep_referenced_levels:
+            raise DatasetInUseError(
+                f"dataset {old.name!r} cannot be replaced: {len(moved)} of its levels are joined by lines of "
+                "other datasets")
+        if moved:
+            # free the name and the (role, owner) slot first, keep the old row until its levels moved
+            old.name = f"{old.name} (replaced, id {old.id})"
+            old.role = None
+            session.flush()
+        else:
+            delete_dataset(session, old)
+    options = json.loads(options_json or "{}")
+    dataset = create_dataset(session, name=name, kind="computed", method=method, method_version=method_version,
+                             citation=citation, author=actor, description=description, options=options,
+                             role=role, owner_species_id=species_id)
+    if old is not None and moved:
+        session.execute(delete(Line).where(Line.dataset_id == old.id))
+        session.execute(delete(IonizationLimit).where(IonizationLimit.dataset_id == old.id))
+        for start in range(0, len(moved), 5000):
+            session.execute(Level.__table__.update().where(Level.id.in_(moved[start:start + 5000]))
+                            .values(dataset_id=dataset.id))
+        delete_dataset(session, old)
+    return dataset
+
+
+def upsert_kept_levels(session: Session, dataset_id: int, rows: Sequence[dict], *, source: str) -> list[int]:
+    """Insert a computed dataset's level rows; rows whose label a kept level has update that level instead.
+
+    Kept levels are those :func:`replace_computed_dataset` moved into the new dataset
+    (``keep_referenced_levels``): other datasets' lines join them, so their ids must stay.
+
+    Returns
+    -------
+    list of int
+        Level ids in the order of ``rows``.
+
+    Raises
+    ------
+    DatasetInUseError
+        A kept level has no row of the same label (the new computation lacks a state
+        that lines of another dataset join).
+    """
+    kept = dict(session.execute(select(Level.label, Level.id).where(Level.dataset_id == dataset_id)).all())
+    if not kept:
+        return insert_rows(session, Level, rows, returning_ids=True)
+    labels = {row["label"] for row in rows}
+    lost = sorted(set(kept) - labels)
+    if lost:
+        raise DatasetInUseError(
+            f"{source}: the new computation has no level {', '.join(lost[:5])}"
+            f"{' ...' if len(lost) > 5 else ''}, which lines of other datasets join; compute at least those states "
+            "(e.g. a larger n_max) or retract those lines first")
+    fresh = [row for row in rows if row["label"] not in kept]
+    fresh_ids = iter(insert_rows(session, Level, fresh, returning_ids=True))
+    for row in rows:
+        if row["label"] in kept:
+            values = {k: v for k, v in row.items() if k not in ("dataset_id", "species_id")}
+            session.execute(Level.__table__.update().where(Level.id == kept[row["label"]]).values(**values))
+    return [kept[row["label"]] if row["label"] in kept else next(fresh_ids) for row in rows]
+
+
+def referenced_level_ids(session: Session, dataset_id: int) -> list[int]:
+    """Ids of the dataset's levels that lines of other user datasets (no computed role) join."""
+    own = select(Level.id).where(Level.dataset_id == dataset_id)
+    user = select(Dataset.id).where(Dataset.role.is_(None))
+    rows = session.execute(select(Line.lower_id, Line.upper_id).where(
+        Line.dataset_id != dataset_id, Line.dataset_id.in_(user),
+        (Line.lower_id.in_(own)) | (Line.upper_id.in_(own)))).all()
+    if not rows:
+        return []
+    own_ids = set(session.scalars(own))
+    return sorted({i for pair in rows for i in pair if i in own_ids})
 
 
 def find_sample(session: Session, name: str) -> Sample | None:

@@ -40,6 +40,10 @@ NAMING = {
 
 FINITE_LIMIT = "1e300"
 DATASET_KINDS = ("computed", "measured", "imported")
+#: roles of the computed datasets the tool owns and rebuilds, one per (role, species):
+#: a one-electron ion with fine structure / as nl terms, the lines implied by the stored
+#: levels, a fitted series limit, computed rates of a many-electron species
+COMPUTED_ROLES = ("hydrogenic", "hydrogenic-nl", "derived-lines", "series-limit", "rates")
 
 
 def _finite(column: str, nullable: bool = False) -> str:
@@ -114,6 +118,11 @@ class Dataset(Base):
     __table_args__ = (
         CheckConstraint("kind IN ('computed', 'measured', 'imported')", name="kind"),
         CheckConstraint("retracted IN (0, 1)", name="retracted_flag"),
+        CheckConstraint("role IS NULL OR role IN (" + ", ".join(f"'{r}'" for r in COMPUTED_ROLES) + ")",
+                        name="role_known"),
+        CheckConstraint("role IS NULL OR (kind = 'computed' AND owner_species_id IS NOT NULL)", name="role_owner"),
+        # one computed dataset per role and species (NULL roles, i.e. user data, never collide)
+        Index("uq_datasets_role_owner", "role", "owner_species_id", unique=True),
     )
 
     id: Mapped[int] = mapped_column(primary_key=True)
@@ -129,6 +138,10 @@ class Dataset(Base):
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utcnow)
     sample_id: Mapped[Optional[int]] = mapped_column(ForeignKey("samples.id", ondelete="RESTRICT"))
     retracted: Mapped[int] = mapped_column(Integer, default=0)
+    #: for a dataset the tool computes and rebuilds: its role (one of COMPUTED_ROLES) and the
+    #: species it belongs to; NULL for user data, which no rebuild ever touches
+    role: Mapped[Optional[str]] = mapped_column(String(32))
+    owner_species_id: Mapped[Optional[int]] = mapped_column(ForeignKey("species.id", ondelete="RESTRICT"))
 
     sample: Mapped[Optional[Sample]] = relationship(back_populates="datasets")
     levels: Mapped[list["Level"]] = relationship(back_populates="dataset")
