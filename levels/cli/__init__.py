@@ -776,6 +776,7 @@ from levels.cli import store as _store_commands  # noqa: E402,F401  (registers i
 def run() -> None:  # pragma: no cover - console entry for ``python -m levels``
     main()
 
+from levels.cli import spectra as _spectra_commands  # noqa: E402,F401  (peaks, calibrate, diagnose)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

@@ -254,9 +254,6 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
         return None, row.problems
     config_canonical = format_configuration(configuration)
     term_canonical = format_term(term)
-    label = row.text("label") or level_label(config_canonical, term_canonical, two_j)
-    if len(label) > 200:
-        return None, [Problem(source, line, "label", "label is longer than 200 characters")]
     if two_j + 1 > INT_MAX:
         row.fail("j", f"J = {field_text(row, 'j')} is too large to store (2J + 1 must not exceed {INT_MAX})")
     for field, value in (("configuration", n), ("term", term.multiplicity if term else None)):
@@ -272,6 +269,9 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
             row.fail(field, f"{'dataset name ' if field == 'dataset' else ''}{shown!r} {problem}")
     if row.problems:
         return None, row.problems[:1]
+    label = row.text("label") or level_label(config_canonical, term_canonical, two_j)
+    if len(label) > 200:
+        return None, [Problem(source, line, "label", "label is longer than 200 characters")]
     record = LevelRecord(
         spectrum=spectrum, label=label, configuration=config_canonical, term=term_canonical,
         two_j=two_j, parity=parity, energy_cm1=energy, unc_cm1=unc,
@@ -428,7 +428,9 @@ def validate_lines(items: Iterable[tuple[int | None, Mapping[str, object]]], *, 
 
 # ----------------------------------------------------------------- peaks
 
-PEAK_COLUMNS = ("peak_nm", "medium", "unc_nm", "intensity", "note")
+PEAK_COLUMNS = ("peak_nm", "medium", "unc_nm", "intensity", "note",
+                # what ``levels peaks`` writes: peak_unc_nm stands for unc_nm, area for intensity
+                "peak_unc_nm", "fwhm_nm", "area", "area_unc", "snr", "fwhm_unc_nm")
 
 
 @dataclass(frozen=True)
@@ -458,7 +460,11 @@ def read_peaks_file(path_or_bytes: str | os.PathLike | bytes, *, source: str | N
         if medium not in ("air", "vacuum"):
             row.fail("medium", f"{row.text('medium')!r} is not a medium; write air or vacuum")
         unc = row.number("unc_nm", strictly_positive=True)
+        if unc is None:
+            unc = row.number("peak_unc_nm", strictly_positive=True)
         intensity = row.number("intensity", minimum=0.0)
+        if intensity is None:
+            intensity = row.number("area", minimum=0.0)
         problems.extend(row.problems)
         if not row.problems:
             peaks.append(PeakRecord(value, medium, unc, intensity, row.text("note"), line))
