@@ -6,14 +6,16 @@ a 400 page that says which field is wrong, never a server error.
 
 from __future__ import annotations
 
+import numpy as np
 from flask import Blueprint, abort, current_app, render_template, request, url_for
 
 from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, LINE_COLUMNS, LINE_UNITS, SPECIES_COLUMNS, LineQuery
 from levels.errors import NotFoundError, PhysicsInputError
 
 from webui import params, security, services
-from webui.downloads import json_response, table_download
-from webui.figures import grotrian_figure
+from webui.downloads import json_response, json_text_response, table_download
+from webui.figures import LineArrays, level_layer, line_hover
+from webui.figures import diagram_json as diagram_json_text
 from webui.params import BadParameter, LevelFilter, LineFilter, Page
 
 bp = Blueprint("browse", __name__)
@@ -22,6 +24,8 @@ FORMAT_CONVERTER = "any(csv, json, ecsv)"
 SPECIES_UNITS = {"ionization_cm1": "cm-1", "ionization_unc_cm1": "cm-1"}
 #: how many of the strongest diagram lines are listed as text beside the figure
 LISTED_LINES = 12
+#: what the list beside the diagram tells of each line
+LISTED_KEYS = ("id", "lower", "upper", "vacuum_nm", "air_nm", "a_per_s", "multipole")
 
 
 def _per_page() -> int:
@@ -237,40 +241,56 @@ def diagram(spectrum: str):
 
 @bp.get("/species/<spectrum>/diagram.json")
 def diagram_json(spectrum: str):
-    """The diagram figure with at most ``max_lines`` lines, strongest A first, and what was left out."""
+    """The diagram figure with at most ``max_lines`` lines, strongest A first, and what was left out.
+
+    The species' levels (and their part of the figure, serialised once) and its stored
+    lines (as arrays) are kept until the store changes; a request filters and picks
+    lines with numpy and serialises only the line traces.
+    """
     try:
         ref = services.resolve_species(services.catalog(), spectrum, request.args.get("mass_number"))
     except NotFoundError as exc:
         return json_response({"error": {"code": "not_found", "message": str(exc), "field": "spectrum"}}, 404)
     cat = services.catalog()
     without_rates = None
+    hover = None
     try:
         flt = params.line_filter(request.args)
         unit, max_lines = _diagram_options()
         engine = _engine_flag()
         if engine:
-            lines, total, without_rates = engine_lines(cat, ref, flt, max_lines)
+            rows, total, without_rates = engine_lines(cat, ref, flt, max_lines)
+            arrays = LineArrays.from_rows(rows)
+            listed = [{k: ln[k] for k in LISTED_KEYS} for ln in rows[:LISTED_LINES]]
         else:
-            lines, total = services.strongest_lines(cat, ref, flt, max_lines)
+            stored, index, total = services.diagram_lines(ref, flt, max_lines)
+            if stored is None:
+                arrays, listed = LineArrays.from_rows([]), []
+            else:
+                arrays = LineArrays.from_columns(stored.columns, index)
+                listed = stored.rows(index[:LISTED_LINES], LISTED_KEYS)
+                # every line's hover text, built once per store revision and medium
+                every = services.cached(("diagram-hover", ref.spectrum, flt.medium), lambda: np.array(
+                    line_hover(LineArrays.from_columns(stored.columns), flt.medium), dtype=object))
+                hover = every[index]
     except BadParameter as exc:
         return json_response({"error": {"code": "bad_parameter", "message": exc.message, "field": exc.field}}, 400)
     except PhysicsInputError as exc:
         return json_response({"error": {"code": "bad_parameter", "message": str(exc), "field": None}}, 400)
-    levels = cat.level_rows(ref.spectrum)
-    built = grotrian_figure(levels, lines, unit=unit, ionization_cm1=ref.row["ionization_cm1"],
-                            medium=flt.medium, title=f"{ref.name} level diagram")
-    listed = [{k: ln[k] for k in ("id", "lower", "upper", "vacuum_nm", "air_nm", "a_per_s", "multipole")}
-              for ln in lines[:LISTED_LINES]]
-    return json_response({
+    layer = services.cached(("diagram-levels", ref.spectrum, unit),
+                            lambda: level_layer(services.species_levels(ref), unit))
+    figure, unplaced = diagram_json_text(layer, arrays, medium=flt.medium, ionization_cm1=ref.row["ionization_cm1"],
+                                         title=f"{ref.name} level diagram", hover=hover)
+    return json_text_response({
         "spectrum": ref.name, "unit": unit, "medium": flt.medium, "filter": flt.args(),
-        "levels": len(levels), "columns": built["columns"],
-        "lines_total": total, "lines_shown": len(lines), "lines_omitted": total - len(lines),
-        "lines_unplaced": built["unplaced"], "max_lines": max_lines,
+        "levels": layer.count, "columns": len(layer.keys),
+        "lines_total": total, "lines_shown": len(arrays), "lines_omitted": total - len(arrays),
+        "lines_unplaced": unplaced, "max_lines": max_lines,
         "lines_reachable": ref.lines_reachable, "engine": engine, "lines_without_rates": without_rates,
         "ionization_cm1": ref.row["ionization_cm1"],
         "record_base": url_for("browse.species", spectrum=ref.url_name) + "/lines/",
-        "strongest": listed, "figure": built["figure"],
-    })
+        "strongest": listed,
+    }, figure=figure)
 
 
 # ----------------------------------------------------------------- line finder

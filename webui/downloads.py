@@ -59,3 +59,16 @@ def json_response(payload, status: int = 200, headers: Mapping[str, str] | None 
     if headers:
         response.headers.update(headers)
     return response
+
+
+def json_text_response(payload: Mapping, status: int = 200, **serialised: str) -> Response:
+    """A JSON object response whose members in ``serialised`` are JSON text already (spliced in, last).
+
+    For large parts built once and kept (a diagram's level traces), so they are not encoded again.
+    """
+    body = json.dumps(payload, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+    if serialised:
+        extra = ",".join(f"{json.dumps(name)}:{text}" for name, text in serialised.items())
+        body = body[:-1] + ("," if payload else "") + extra + "}"
+    response = Response(body, status=status, mimetype="application/json")
+    return response

@@ -14,8 +14,10 @@ from __future__ import annotations
 
 import functools
 import html
+import json
 import math
 from collections.abc import Sequence
+from dataclasses import dataclass
 
 import numpy as np
 
@@ -79,7 +81,256 @@ def _fmt(value, spec: str) -> str:
     return "–" if value is None or (isinstance(value, float) and not math.isfinite(value)) else format(value, spec)
 
 
-def grotrian_figure(levels: Sequence[dict], lines: Sequence[dict], *, unit: str = "cm-1",
+@dataclass(frozen=True)
+class LevelLayer:
+    """The level part of a diagram, built once per species, store revision and unit.
+
+    Attributes
+    ----------
+    unit : str
+        ``"cm-1"`` or ``"eV"``.
+    keys : list of tuple
+        Column keys (:func:`term_key`), in column order.
+    level_x, level_e : numpy.ndarray
+        Column and energy (cm-1) of each level.
+    index_of : dict
+        Level label -> row (lines are placed by their levels' labels).
+    traces : list of dict
+        The plotly traces of the level bars and their hover markers.
+    traces_json : str
+        ``traces`` serialised (strict JSON), for splicing into a response without re-encoding.
+    top : float
+        The highest level energy, cm-1 (0 without levels).
+    """
+
+    unit: str
+    keys: list
+    level_x: np.ndarray
+    level_e: np.ndarray
+    index_of: dict
+    traces: list
+    traces_json: str
+    top: float
+
+    @property
+    def count(self) -> int:
+        return len(self.level_e)
+
+
+def _scale(unit: str) -> tuple[float, int]:
+    return (CM1_EV, 7) if unit == "eV" else (1.0, 4)
+
+
+def level_layer(levels: Sequence[dict], unit: str = "cm-1") -> LevelLayer:
+    """Build the level bars of a diagram (see :func:`grotrian_figure` for ``levels``)."""
+    scale, digits = _scale(unit)
+    level_keys = [term_key(lv["term"], lv["parity"]) for lv in levels]
+    keys = sorted(set(level_keys))
+    column_of = {key: i for i, key in enumerate(keys)}
+    level_x = np.array([column_of[key] for key in level_keys], dtype=float)
+    level_e = np.array([lv["energy_cm1"] for lv in levels], dtype=float)
+    traces: list[dict] = []
+    if len(levels):
+        xs, ys = _segments(level_x - BAR_HALF_WIDTH, level_x + BAR_HALF_WIDTH, level_e * scale, level_e * scale,
+                           digits)
+        traces.append({"type": "scatter", "mode": "lines", "x": xs, "y": ys, "hoverinfo": "skip",
+                       "line": {"color": LEVEL_COLOUR, "width": 1.6}, "name": "levels", "showlegend": False})
+        hover = [
+            f"<b>{html.escape(lv['label'])}</b><br>E = {_fmt(lv['energy_cm1'], '.4f')} cm⁻¹"
+            f" ({_fmt(lv['energy_cm1'] * CM1_EV, '.6f')} eV)<br>J = {html.escape(lv['j'])}, g = {lv['g']}"
+            f"<br>{html.escape(lv['dataset'])}"
+            for lv in levels
+        ]
+        traces.append({"type": "scatter", "mode": "markers", "x": _nan_to_none(level_x, 3),
+                       "y": _nan_to_none(level_e * scale, digits), "hovertext": hover, "hoverinfo": "text",
+                       "marker": {"symbol": "line-ew", "size": 22, "opacity": 0,
+                                  "line": {"width": 0, "color": LEVEL_COLOUR}},
+                       "name": "level", "showlegend": False, "meta": "levels"})
+    return LevelLayer(unit=unit, keys=keys, level_x=level_x, level_e=level_e,
+                      index_of={lv["label"]: i for i, lv in enumerate(levels)}, traces=traces,
+                      traces_json=_dumps(traces)[1:-1], top=float(level_e.max()) if len(levels) else 0.0)
+
+
+@dataclass(frozen=True)
+class LineArrays:
+    """Lines of one species as columns (what the diagram draws of them).
+
+    ``id`` (object: int or None), ``lower`` and ``upper`` (level labels), ``multipole`` (object);
+    ``vacuum_nm``, ``air_nm`` (nm), ``wavenumber_cm1`` (cm-1), ``a_per_s`` (s-1) as floats, NaN
+    where unknown.
+    """
+
+    id: np.ndarray
+    lower: np.ndarray
+    upper: np.ndarray
+    multipole: np.ndarray
+    vacuum_nm: np.ndarray
+    air_nm: np.ndarray
+    wavenumber_cm1: np.ndarray
+    a_per_s: np.ndarray
+
+    def __len__(self) -> int:
+        return len(self.vacuum_nm)
+
+    @classmethod
+    def from_columns(cls, columns: dict, index: np.ndarray | None = None) -> LineArrays:
+        """From a mapping of column arrays (``index`` picks rows)."""
+        pick = (lambda a: a) if index is None else (lambda a: a[index])
+        ids = pick(np.asarray(columns["id"]))
+        return cls(id=ids.astype(object), lower=pick(columns["lower"]), upper=pick(columns["upper"]),
+                   multipole=pick(columns["multipole"]), vacuum_nm=pick(columns["vacuum_nm"]).astype(float),
+                   air_nm=pick(columns["air_nm"]).astype(float),
+                   wavenumber_cm1=pick(columns["wavenumber_cm1"]).astype(float),
+                   a_per_s=pick(columns["a_per_s"]).astype(float))
+
+    @classmethod
+    def from_rows(cls, rows: Sequence[dict]) -> LineArrays:
+        """From line rows (``LINE_COLUMNS`` plus ``id``; None for unknown numbers)."""
+        def objects(name: str, default=None) -> np.ndarray:
+            out = np.empty(len(rows), dtype=object)
+            out[:] = [row.get(name, default) for row in rows]
+            return out
+
+        def floats(name: str) -> np.ndarray:
+            return np.array([np.nan if row.get(name) is None else row[name] for row in rows], dtype=float)
+
+        return cls(id=objects("id"), lower=objects("lower"), upper=objects("upper"), multipole=objects("multipole"),
+                   vacuum_nm=floats("vacuum_nm"), air_nm=floats("air_nm"), wavenumber_cm1=floats("wavenumber_cm1"),
+                   a_per_s=floats("a_per_s"))
+
+
+def line_hover(lines: LineArrays, medium: str) -> list[str]:
+    """Hover text of each line: its levels, wavelength (``medium`` first), wavenumber, A and multipole."""
+    air = medium == "air"
+    out = []
+    for lower, upper, vac, air_nm, sigma, a, code in zip(
+            lines.lower.tolist(), lines.upper.tolist(), lines.vacuum_nm.tolist(), lines.air_nm.tolist(),
+            lines.wavenumber_cm1.tolist(), lines.a_per_s.tolist(), lines.multipole.tolist()):
+        has_air = air_nm == air_nm
+        if air and has_air:
+            where = f"air {air_nm:.5f} nm (vacuum {vac:.5f} nm)"
+        elif air:
+            where = f"vacuum {_fmt(vac, '.5f')} nm"
+        else:
+            where = f"vacuum {_fmt(vac, '.5f')} nm" + (f" (air {air_nm:.5f} nm)" if has_air else "")
+        out.append(f"<b>{html.escape(str(lower))} – {html.escape(str(upper))}</b><br>λ {where}"
+                   f"<br>σ = {_fmt(sigma, '.4f')} cm⁻¹<br>A = {_fmt(a, '.3e')} s⁻¹ · {html.escape(code or '?')}")
+    return out
+
+
+def line_traces(layer: LevelLayer, lines: LineArrays, *, medium: str = "vacuum",
+                hover: np.ndarray | None = None) -> tuple[list[dict], int]:
+    """The line segments (grouped by multipole and A step) and the hover markers; also the unplaced count.
+
+    ``hover`` (optional) holds each line's hover text already (:func:`line_hover`, same medium).
+    """
+    scale, digits = _scale(layer.unit)
+    lower_i = np.fromiter((layer.index_of.get(label, -1) for label in lines.lower.tolist()), dtype=np.int64,
+                          count=len(lines))
+    upper_i = np.fromiter((layer.index_of.get(label, -1) for label in lines.upper.tolist()), dtype=np.int64,
+                          count=len(lines))
+    placed = (lower_i >= 0) & (upper_i >= 0)
+    unplaced = int(len(lines) - placed.sum())
+    if not placed.any():
+        return [], unplaced
+    lower_i, upper_i = lower_i[placed], upper_i[placed]
+    lx, ux = layer.level_x[lower_i], layer.level_x[upper_i]
+    same = lx == ux
+    direction = np.sign(ux - lx)
+    x0 = np.where(same, lx - 0.18, lx + 0.22 * direction)
+    x1 = np.where(same, ux + 0.18, ux - 0.22 * direction)
+    y0, y1 = layer.level_e[lower_i] * scale, layer.level_e[upper_i] * scale
+    a = lines.a_per_s[placed]
+    log_a = np.where(a > 0, np.log10(np.where(a > 0, a, 1.0)), np.nan)
+    has_a = np.isfinite(log_a)
+    count = len(a)
+    step = np.full(count, -1)
+    if has_a.any():
+        lo, hi = np.nanmin(log_a), np.nanmax(log_a)
+        frac = np.ones(count) if hi == lo else (log_a - lo) / (hi - lo)
+        step = np.where(has_a, np.clip((np.nan_to_num(frac) * A_STEPS).astype(int), 0, A_STEPS - 1), -1)
+    codes = np.array(["" if m is None else str(m) for m in lines.multipole[placed].tolist()], dtype=object)
+    present = set(codes.tolist())
+    traces: list[dict] = []
+    legend_done: set[str] = set()
+    for code in [c for c in MULTIPOLE_COLOURS if c in present]:
+        of_code = codes == code
+        for k in range(A_STEPS - 1, -2, -1):
+            mask = of_code & (step == k)
+            if not mask.any():
+                continue
+            xs, ys = _segments(x0[mask], x1[mask], y0[mask], y1[mask], digits)
+            colour = MULTIPOLE_COLOURS[code] if k >= 0 else NO_A_COLOUR
+            line_style: dict = {"color": colour, "width": float(WIDTHS[k]) if k >= 0 else 0.8}
+            if k < 0:
+                line_style["dash"] = "dot"
+            traces.append({"type": "scatter", "mode": "lines", "x": xs, "y": ys, "hoverinfo": "skip",
+                           "line": line_style, "opacity": float(OPACITIES[k]) if k >= 0 else 0.6,
+                           "name": code or "other", "legendgroup": code or "other",
+                           "showlegend": code not in legend_done})
+            legend_done.add(code)
+    shown = LineArrays(id=lines.id[placed], lower=lines.lower[placed], upper=lines.upper[placed],
+                       multipole=lines.multipole[placed], vacuum_nm=lines.vacuum_nm[placed],
+                       air_nm=lines.air_nm[placed], wavenumber_cm1=lines.wavenumber_cm1[placed], a_per_s=a)
+    colours = [MULTIPOLE_COLOURS.get(code, NO_A_COLOUR) for code in codes.tolist()]
+    vacuum = [None if v != v else v for v in shown.vacuum_nm.tolist()]
+    traces.append({"type": "scatter", "mode": "markers", "x": _nan_to_none((x0 + x1) / 2, 3),
+                   "y": _nan_to_none((y0 + y1) / 2, digits),
+                   "hovertext": line_hover(shown, medium) if hover is None else hover[placed].tolist(),
+                   "hoverinfo": "text", "customdata": [list(pair) for pair in zip(shown.id.tolist(), vacuum)],
+                   "marker": {"size": 7, "color": colours, "opacity": 0.55, "symbol": "diamond"},
+                   "name": "line", "showlegend": False, "meta": "lines"})
+    return traces, unplaced
+
+
+def diagram_layout(layer: LevelLayer, *, ionization_cm1: float | None = None, title: str = "") -> dict:
+    """The layout of a diagram: term columns, energy axis, the ionization limit when known."""
+    scale, digits = _scale(layer.unit)
+    unit_text = "eV" if layer.unit == "eV" else "cm⁻¹"
+    shapes, annotations = [], []
+    if ionization_cm1 is not None:
+        y = round(ionization_cm1 * scale, digits)
+        shapes.append({"type": "line", "xref": "paper", "x0": 0, "x1": 1, "yref": "y", "y0": y, "y1": y,
+                       "line": {"color": LIMIT_COLOUR, "width": 1.4, "dash": "dash"}})
+        annotations.append({"xref": "paper", "x": 1, "xanchor": "right", "yref": "y", "y": y, "yanchor": "bottom",
+                            "showarrow": False, "font": {"color": LIMIT_COLOUR, "size": 12},
+                            "text": f"ionization limit {_fmt(ionization_cm1 * scale, '.6g')} {unit_text}"})
+    top = max([layer.top] + ([ionization_cm1] if ionization_cm1 else []))
+    layout = {
+        "paper_bgcolor": PAPER, "plot_bgcolor": PAPER,
+        "font": {"family": "DejaVu Sans, Verdana, sans-serif", "size": 12, "color": "#222"},
+        "margin": {"l": 70, "r": 20, "t": 24, "b": 60},
+        "hovermode": "closest", "dragmode": "zoom",
+        "xaxis": {"tickmode": "array", "tickvals": list(range(len(layer.keys))),
+                  "ticktext": [term_tick(k) for k in layer.keys], "range": [-0.7, max(len(layer.keys), 1) - 0.3],
+                  "showgrid": False, "zeroline": False, "title": {"text": "term (2S+1, L, parity)"},
+                  "fixedrange": False},
+        "yaxis": {"title": {"text": f"energy [{unit_text}]"}, "zeroline": False, "gridcolor": "#e6e2d8",
+                  "range": [-0.03 * top * scale, 1.06 * top * scale] if top > 0 else None},
+        "legend": {"title": {"text": "multipole"}, "orientation": "h", "y": -0.14, "x": 0},
+        "shapes": shapes, "annotations": annotations, "meta": {"title": title},
+    }
+    if layout["yaxis"]["range"] is None:
+        del layout["yaxis"]["range"]
+    return layout
+
+
+def _dumps(value) -> str:
+    return json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+
+
+def diagram_json(layer: LevelLayer, lines: LineArrays, *, medium: str = "vacuum", ionization_cm1: float | None = None,
+                 title: str = "", hover: np.ndarray | None = None) -> tuple[str, int]:
+    """The diagram figure as JSON text (the level traces spliced in as serialised once), and the unplaced count."""
+    traces, unplaced = line_traces(layer, lines, medium=medium, hover=hover)
+    parts = [layer.traces_json] if layer.traces else []
+    if traces:
+        parts.append(_dumps(traces)[1:-1])
+    layout = diagram_layout(layer, ionization_cm1=ionization_cm1, title=title)
+    return '{"data":[' + ",".join(parts) + '],"layout":' + _dumps(layout) + "}", unplaced
+
+
+def grotrian_figure(levels: Sequence[dict], lines: Sequence[dict] | LineArrays, *, unit: str = "cm-1",
                     ionization_cm1: float | None = None, medium: str = "vacuum", title: str = "") -> dict:
     """The level diagram as a plotly figure dict, with what could not be placed.
 
@@ -87,7 +338,7 @@ def grotrian_figure(levels: Sequence[dict], lines: Sequence[dict], *, unit: str 
     ----------
     levels : sequence of dict
         Level rows (``LEVEL_COLUMNS``): label, term, parity, energy_cm1 (cm-1), dataset ...
-    lines : sequence of dict
+    lines : sequence of dict or LineArrays
         Line rows of the same species (``LINE_COLUMNS`` plus ``id``); energies in cm-1,
         wavelengths in nm, ``a_per_s`` in s-1.
     unit : {"cm-1", "eV"}
@@ -105,114 +356,12 @@ def grotrian_figure(levels: Sequence[dict], lines: Sequence[dict], *, unit: str 
         ``{"figure": {"data": [...], "layout": {...}}, "columns": int, "unplaced": int}``;
         ``unplaced`` counts lines whose levels are not among ``levels``.
     """
-    scale = CM1_EV if unit == "eV" else 1.0
-    digits = 7 if unit == "eV" else 4
-    unit_text = "eV" if unit == "eV" else "cm⁻¹"
-    level_keys = [term_key(lv["term"], lv["parity"]) for lv in levels]
-    keys = sorted(set(level_keys))
-    column_of = {key: i for i, key in enumerate(keys)}
-    n_levels = len(levels)
-    level_x = np.array([column_of[key] for key in level_keys], dtype=float)
-    level_e = np.array([lv["energy_cm1"] for lv in levels], dtype=float)
-    position = {lv["label"]: (level_x[i], level_e[i]) for i, lv in enumerate(levels)}
-
-    data: list[dict] = []
-    if n_levels:
-        xs, ys = _segments(level_x - BAR_HALF_WIDTH, level_x + BAR_HALF_WIDTH, level_e * scale, level_e * scale,
-                           digits)
-        data.append({"type": "scatter", "mode": "lines", "x": xs, "y": ys, "hoverinfo": "skip",
-                     "line": {"color": LEVEL_COLOUR, "width": 1.6}, "name": "levels", "showlegend": False})
-        hover = [
-            f"<b>{html.escape(lv['label'])}</b><br>E = {_fmt(lv['energy_cm1'], '.4f')} cm⁻¹"
-            f" ({_fmt(lv['energy_cm1'] * CM1_EV, '.6f')} eV)<br>J = {html.escape(lv['j'])}, g = {lv['g']}"
-            f"<br>{html.escape(lv['dataset'])}"
-            for lv in levels
-        ]
-        data.append({"type": "scatter", "mode": "markers", "x": _nan_to_none(level_x, 3),
-                     "y": _nan_to_none(level_e * scale, digits), "hovertext": hover, "hoverinfo": "text",
-                     "marker": {"symbol": "line-ew", "size": 22, "opacity": 0,
-                                "line": {"width": 0, "color": LEVEL_COLOUR}},
-                     "name": "level", "showlegend": False, "meta": "levels"})
-
-    placed = [ln for ln in lines if ln["lower"] in position and ln["upper"] in position]
-    unplaced = len(lines) - len(placed)
-    if placed:
-        lower = np.array([position[ln["lower"]] for ln in placed])
-        upper = np.array([position[ln["upper"]] for ln in placed])
-        same = lower[:, 0] == upper[:, 0]
-        direction = np.sign(upper[:, 0] - lower[:, 0])
-        x0 = np.where(same, lower[:, 0] - 0.18, lower[:, 0] + 0.22 * direction)
-        x1 = np.where(same, upper[:, 0] + 0.18, upper[:, 0] - 0.22 * direction)
-        y0, y1 = lower[:, 1] * scale, upper[:, 1] * scale
-        a = np.array([np.nan if ln["a_per_s"] is None else ln["a_per_s"] for ln in placed], dtype=float)
-        log_a = np.where(a > 0, np.log10(np.where(a > 0, a, 1.0)), np.nan)
-        has_a = np.isfinite(log_a)
-        step = np.full(len(placed), -1)
-        if has_a.any():
-            lo, hi = np.nanmin(log_a), np.nanmax(log_a)
-            frac = np.ones(len(placed)) if hi == lo else (log_a - lo) / (hi - lo)
-            step = np.where(has_a, np.clip((np.nan_to_num(frac) * A_STEPS).astype(int), 0, A_STEPS - 1), -1)
-        multipoles = np.array([ln["multipole"] or "" for ln in placed])
-        legend_done: set[str] = set()
-        for code in [c for c in MULTIPOLE_COLOURS if c in set(multipoles.tolist())]:
-            for k in range(A_STEPS - 1, -2, -1):
-                mask = (multipoles == code) & (step == k)
-                if not mask.any():
-                    continue
-                xs, ys = _segments(x0[mask], x1[mask], y0[mask], y1[mask], digits)
-                colour = MULTIPOLE_COLOURS[code] if k >= 0 else NO_A_COLOUR
-                line_style = {"color": colour, "width": float(WIDTHS[k]) if k >= 0 else 0.8}
-                if k < 0:
-                    line_style["dash"] = "dot"
-                data.append({"type": "scatter", "mode": "lines", "x": xs, "y": ys, "hoverinfo": "skip",
-                             "line": line_style, "opacity": float(OPACITIES[k]) if k >= 0 else 0.6,
-                             "name": code or "other", "legendgroup": code or "other",
-                             "showlegend": code not in legend_done})
-                legend_done.add(code)
-        wl_key, other_key = ("air_nm", "vacuum_nm") if medium == "air" else ("vacuum_nm", "air_nm")
-        hover = []
-        for ln in placed:
-            first = ln[wl_key] if ln[wl_key] is not None else ln["vacuum_nm"]
-            first_name = medium if ln[wl_key] is not None else "vacuum"
-            text = (f"<b>{html.escape(ln['lower'])} – {html.escape(ln['upper'])}</b>"
-                    f"<br>λ {first_name} {_fmt(first, '.5f')} nm")
-            if ln[other_key] is not None and first_name == medium:
-                text += f" ({'air' if other_key == 'air_nm' else 'vacuum'} {_fmt(ln[other_key], '.5f')} nm)"
-            text += (f"<br>σ = {_fmt(ln['wavenumber_cm1'], '.4f')} cm⁻¹"
-                     f"<br>A = {_fmt(ln['a_per_s'], '.3e')} s⁻¹ · {html.escape(ln['multipole'] or '?')}")
-            hover.append(text)
-        colours = [MULTIPOLE_COLOURS.get(ln["multipole"] or "", NO_A_COLOUR) for ln in placed]
-        data.append({"type": "scatter", "mode": "markers", "x": _nan_to_none((x0 + x1) / 2, 3),
-                     "y": _nan_to_none((y0 + y1) / 2, digits), "hovertext": hover, "hoverinfo": "text",
-                     "customdata": [[ln["id"], ln["vacuum_nm"]] for ln in placed],
-                     "marker": {"size": 7, "color": colours, "opacity": 0.55, "symbol": "diamond"},
-                     "name": "line", "showlegend": False, "meta": "lines"})
-
-    shapes, annotations = [], []
-    if ionization_cm1 is not None:
-        y = round(ionization_cm1 * scale, digits)
-        shapes.append({"type": "line", "xref": "paper", "x0": 0, "x1": 1, "yref": "y", "y0": y, "y1": y,
-                       "line": {"color": LIMIT_COLOUR, "width": 1.4, "dash": "dash"}})
-        annotations.append({"xref": "paper", "x": 1, "xanchor": "right", "yref": "y", "y": y, "yanchor": "bottom",
-                            "showarrow": False, "font": {"color": LIMIT_COLOUR, "size": 12},
-                            "text": f"ionization limit {_fmt(ionization_cm1 * scale, '.6g')} {unit_text}"})
-    top = max([float(level_e.max()) if n_levels else 0.0] + ([ionization_cm1] if ionization_cm1 else []))
-    layout = {
-        "paper_bgcolor": PAPER, "plot_bgcolor": PAPER,
-        "font": {"family": "DejaVu Sans, Verdana, sans-serif", "size": 12, "color": "#222"},
-        "margin": {"l": 70, "r": 20, "t": 24, "b": 60},
-        "hovermode": "closest", "dragmode": "zoom",
-        "xaxis": {"tickmode": "array", "tickvals": list(range(len(keys))),
-                  "ticktext": [term_tick(k) for k in keys], "range": [-0.7, max(len(keys), 1) - 0.3],
-                  "showgrid": False, "zeroline": False, "title": {"text": "term (2S+1, L, parity)"}, "fixedrange": False},
-        "yaxis": {"title": {"text": f"energy [{unit_text}]"}, "zeroline": False, "gridcolor": "#e6e2d8",
-                  "range": [-0.03 * top * scale, 1.06 * top * scale] if top > 0 else None},
-        "legend": {"title": {"text": "multipole"}, "orientation": "h", "y": -0.14, "x": 0},
-        "shapes": shapes, "annotations": annotations, "meta": {"title": title},
-    }
-    if layout["yaxis"]["range"] is None:
-        del layout["yaxis"]["range"]
-    return {"figure": {"data": data, "layout": layout}, "columns": len(keys), "unplaced": unplaced}
+    layer = level_layer(levels, unit)
+    arrays = lines if isinstance(lines, LineArrays) else LineArrays.from_rows(lines)
+    traces, unplaced = line_traces(layer, arrays, medium=medium)
+    figure = {"data": layer.traces + traces, "layout": diagram_layout(layer, ionization_cm1=ionization_cm1,
+                                                                        title=title)}
+    return {"figure": figure, "columns": len(layer.keys), "unplaced": unplaced}
 
 
 # ----------------------------------------------------------------- emission spectrum

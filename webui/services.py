@@ -23,16 +23,17 @@ from __future__ import annotations
 import math
 import re
 import threading
-import time
 from collections.abc import Sequence
 from dataclasses import dataclass
 
+import numpy as np
 from flask import current_app, g, has_request_context
 
 from levels.catalog import Catalog, LineQuery
 from levels.errors import NotationError, NotFoundError
 from levels.isotopes import default_isotope
 from levels.notation import Spectrum, parse_spectrum
+from levels.service.readcache import ReadCache, SpeciesLines
 from levels.units import CM1_EV
 
 from webui.params import LevelFilter, LineFilter, Page
@@ -110,46 +111,53 @@ def _ref(row: dict, rows: Sequence[dict]) -> SpeciesRef:
                       mass_query=None if reachable else row["mass_number"], lines_reachable=reachable)
 
 
-_SPECIES_CACHE_LOCK = threading.Lock()
+_CACHE_LOCK = threading.Lock()
+
+
+def read_cache(cat: Catalog | None = None) -> ReadCache:
+    """The application's read cache (answers kept per store revision; see :mod:`levels.service.readcache`)."""
+    store = current_app.extensions["levels"]
+    cache = store.get("read_cache")
+    if cache is None:
+        with _CACHE_LOCK:
+            cache = store.get("read_cache")
+            if cache is None:
+                cache = ReadCache(cat or store["catalog"])
+                store["read_cache"] = cache
+    return cache
+
+
+def revision() -> tuple[int, ...]:
+    """The store's revision, read once per request (every write changes it)."""
+    value = g.get("levels_revision")
+    if value is None:
+        value = read_cache().revision()
+        g.levels_revision = value
+    return value
+
+
+def cached(key, build):
+    """``build()``, kept until the store changes (shared between requests: do not modify the result)."""
+    return read_cache().get(key, revision(), build)
 
 
 def species_rows(cat: Catalog) -> list[dict]:
-    """``Catalog.species_rows()``, shared by the lookups of one request and, for
-    ``LEVELS_SPECIES_CACHE_S`` seconds, by the requests of one app.
+    """``Catalog.species_rows()``, kept until the store's revision changes.
 
     ``species_rows`` counts every species' levels and lines, which on a large store
-    costs more than the page itself; the short cache is dropped at once when this
-    site writes (:func:`forget_species`). Writes by other processes (the CLI) show
-    up within the cache time.
+    costs more than the page itself; the answer is shared by every request until
+    the store is written to (by this site or by another process: the revision is
+    read at each request), so it is never stale. The rows are shared: do not modify them.
     """
     if not has_request_context():
         return cat.species_rows()
-    cached = g.get("levels_species_rows")
-    if cached is not None:
-        return cached
-    ttl = float(current_app.config.get("LEVELS_SPECIES_CACHE_S") or 0)
-    store = current_app.extensions["levels"]
-    now = time.monotonic()
-    with _SPECIES_CACHE_LOCK:
-        entry = store.get("species_cache")
-        if ttl > 0 and entry is not None and now - entry[0] < ttl:
-            rows = entry[1]
-        else:
-            rows = None
-    if rows is None:
-        rows = cat.species_rows()
-        if ttl > 0:
-            with _SPECIES_CACHE_LOCK:
-                store["species_cache"] = (now, rows)
-    g.levels_species_rows = rows
-    return rows
+    return read_cache(cat).species_rows(revision())
 
 
 def forget_species() -> None:
-    """Drop the cached species table (after this site wrote to the store)."""
-    with _SPECIES_CACHE_LOCK:
-        current_app.extensions["levels"].pop("species_cache", None)
-    g.pop("levels_species_rows", None)
+    """Drop the kept answers (after this site wrote to the store; the revision would tell anyway)."""
+    read_cache().clear()
+    g.pop("levels_revision", None)
 
 
 def species_refs(cat: Catalog) -> list[SpeciesRef]:
@@ -252,7 +260,10 @@ def filtered_levels(cat: Catalog, ref: SpeciesRef, flt: LevelFilter) -> list[dic
         if flt.dataset not in ref.datasets:
             raise BadParameter("dataset", f"{ref.name} has no levels in a dataset named {flt.dataset!r}")
         datasets = [flt.dataset]
-    rows = cat.level_rows(ref.spectrum, datasets)
+    if datasets is None and has_request_context():
+        rows = list(species_levels(ref))
+    else:
+        rows = cat.level_rows(ref.spectrum, datasets)
     if flt.configuration:
         needle = flt.configuration.lower()
         rows = [r for r in rows if needle in r["configuration"].lower()]
@@ -297,6 +308,23 @@ def strongest_lines(cat: Catalog, ref: SpeciesRef, flt: LineFilter, limit: int) 
     if not ref.lines_reachable:
         return [], 0
     return cat.line_rows(flt.query(line_name(ref), limit=limit, order="a"))
+
+
+def species_levels(ref: SpeciesRef) -> list[dict]:
+    """The species' levels under the default precedence (kept per store revision; shared, do not modify)."""
+    return read_cache().level_rows(ref.spectrum, revision())
+
+
+def diagram_lines(ref: SpeciesRef, flt: LineFilter, limit: int) -> tuple[SpeciesLines | None, np.ndarray, int]:
+    """The stored lines a diagram draws: the species' line columns (kept per store revision), the indices
+    of the ``limit`` strongest under the filter (largest A first, as ``strongest_lines`` orders them), and
+    how many match in all."""
+    if not ref.lines_reachable:
+        return None, np.empty(0, dtype=np.int64), 0
+    lines = read_cache().species_lines(ref.spectrum, revision())
+    keep = lines.mask(from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium, multipoles=flt.multipoles,
+                      min_a=flt.min_a)
+    return lines, lines.strongest(keep, limit), int(keep.sum())
 
 
 def find_line(cat: Catalog, ref: SpeciesRef, line_id: int, near_vacuum_nm: float | None = None) -> dict:

@@ -21,7 +21,7 @@ from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import TypeVar
 
-from sqlalchemy import Engine, create_engine, event, inspect, select, text
+from sqlalchemy import Engine, create_engine, event, func, inspect, select, text
 from sqlalchemy.engine import make_url
 from sqlalchemy.exc import ArgumentError, DatabaseError, IntegrityError, OperationalError
 from sqlalchemy.orm import Session, sessionmaker
@@ -89,6 +89,12 @@ def _sqlite_pragmas(dbapi_connection, _record) -> None:
     cursor.close()
 
 
+def _sqlite_read_pragmas(dbapi_connection, _record) -> None:
+    cursor = dbapi_connection.cursor()
+    cursor.execute(f"PRAGMA busy_timeout={SQLITE_BUSY_TIMEOUT_MS}")
+    cursor.close()
+
+
 def _sqlite_begin(conn) -> None:
     # a write transaction takes the write lock at its start (BEGIN IMMEDIATE): no lock
     # upgrade half-way, so concurrent writers wait on the busy timeout instead of
@@ -105,10 +111,21 @@ def make_engine(url_or_path: str | os.PathLike | None, *, echo: bool = False) ->
     parsed = make_url(url)
     if parsed.get_backend_name() == "sqlite":
         database = parsed.database
-        if database and database != ":memory:":
+        read_only = bool(database) and database != ":memory:" and Path(database).exists() \
+            and not os.access(database, os.W_OK)
+        if database and database != ":memory:" and not read_only:
             Path(database).parent.mkdir(parents=True, exist_ok=True)
-        engine = create_engine(url, echo=echo, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000})
-        event.listen(engine, "connect", _sqlite_pragmas)
+        if read_only:  # a store we may not write is opened read-only (immutable when no -shm can be made)
+            import sqlite3
+            from urllib.parse import quote
+
+            uri = f"file:{quote(str(Path(database).resolve()))}?mode=ro" + (
+                "" if os.access(Path(database).resolve().parent, os.W_OK) else "&immutable=1")
+            engine = create_engine(url, echo=echo, creator=lambda: sqlite3.connect(
+                uri, uri=True, timeout=SQLITE_BUSY_TIMEOUT_MS / 1000, check_same_thread=False))
+        else:
+            engine = create_engine(url, echo=echo, connect_args={"timeout": SQLITE_BUSY_TIMEOUT_MS / 1000})
+        event.listen(engine, "connect", _sqlite_pragmas if not read_only else _sqlite_read_pragmas)
 
         @event.listens_for(engine, "connect")
         def _no_pysqlite_transactions(dbapi_connection, _record):
@@ -314,3 +331,28 @@ def ping(engine: Engine) -> None:
             connection.execute(text("SELECT 1"))
     except DatabaseError as exc:
         raise StoreError(f"cannot reach the store at {display_url(str(engine.url))}: {_first_line(str(exc.orig))}") from None
+
+
+def store_revision(engine: Engine) -> tuple[int, int, int, int]:
+    """A cheap fingerprint of the store's state, changed by every write.
+
+    Every unit of work appends an audit entry in its own transaction, so the
+    count and the largest id of the audit log change with each write (the count
+    also catches a transaction with a lower id committing after a higher one on
+    PostgreSQL); the count and largest id of the datasets catch a store filled
+    without audit entries (``import-store`` without audit).
+
+    Returns
+    -------
+    tuple of int
+        ``(audit entries, largest audit id, datasets, largest dataset id)``; equal
+        tuples mean nothing was written in between.
+    """
+    from levels.store.schema import AuditEntry, Dataset
+
+    query = select(
+        select(func.count(AuditEntry.id)).scalar_subquery(), select(func.max(AuditEntry.id)).scalar_subquery(),
+        select(func.count(Dataset.id)).scalar_subquery(), select(func.max(Dataset.id)).scalar_subquery())
+    with read_session(engine) as session:
+        row = session.execute(query).one()
+    return tuple(int(v or 0) for v in row)  # type: ignore[return-value]

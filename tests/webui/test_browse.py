@@ -306,3 +306,57 @@ def test_unknown_things_are_404_pages(reader, shared, path):
 def test_wrong_method_is_405(reader, shared):
     assert reader.post("/species/Li_I").status_code in (400, 405)  # CSRF may refuse first; never 500
     assert reader.delete("/species/Li_I").status_code == 405
+
+
+# ----------------------------------------------------------------- kept answers and the store revision
+
+def test_diagram_reads_the_lines_once_per_store_revision(app, store, monkeypatch):
+    from levels.store import columns
+
+    calls = []
+    real = columns.species_line_columns
+    monkeypatch.setattr(columns, "species_line_columns", lambda *a, **k: calls.append(1) or real(*a, **k))
+    client = app.test_client()
+    first = client.get("/species/Li_I/diagram.json", query_string={"min_a": "1e4"}).get_json()
+    second = client.get("/species/Li_I/diagram.json", query_string={"min_a": "1e6", "medium": "air"}).get_json()
+    assert len(calls) == 1
+    _, total = store["catalog"].line_rows(LineQuery(spectrum="Li I", min_a=1e6, medium="air"))
+    assert second["lines_total"] == total < first["lines_total"]
+
+
+def test_writes_by_another_process_show_at_once(app, store, store_url):
+    """A write through another Catalog (as the command line would) changes the revision; nothing stale is served."""
+    from levels.catalog import Catalog
+    from levels.maintenance import retract_dataset
+
+    from tests.webui.conftest import XSS_DATASET
+
+    client = app.test_client()
+    before = client.get("/species/Li_I/diagram.json", query_string={"max_lines": 5}).get_json()
+    assert 'href="/species/H_I"' not in client.get("/").get_data(as_text=True)
+    other = Catalog(store_url, actor="elsewhere")
+    try:
+        retract_dataset(other, XSS_DATASET, reason="test")
+        other.compute_hydrogenic("H I", n_max=2)
+    finally:
+        other.close()
+    after = client.get("/species/Li_I/diagram.json", query_string={"max_lines": 5}).get_json()
+    _, total = store["catalog"].line_rows(LineQuery(spectrum="Li I"))
+    assert after["lines_total"] == total < before["lines_total"]
+    assert after["levels"] == len(store["catalog"].level_rows("Li I"))
+    assert 'href="/species/H_I"' in client.get("/").get_data(as_text=True)
+
+
+def test_diagram_json_is_the_figure_of_the_rows(reader, shared):
+    """The array-built figure equals the one built from the service's rows (the earlier, row-by-row path)."""
+    from webui.figures import grotrian_figure
+
+    cat = shared["catalog"]
+    query = {"max_lines": 60, "medium": "air", "unit": "eV"}
+    payload = reader.get("/species/Li_I/diagram.json", query_string=query).get_json()
+    rows, _ = cat.line_rows(LineQuery(spectrum="Li I", order="a", limit=60, medium="air"))
+    limit = cat.species_row("Li I")["ionization_cm1"]
+    built = grotrian_figure(cat.level_rows("Li I"), rows, unit="eV", ionization_cm1=limit, medium="air",
+                            title="Li I level diagram")
+    assert json.loads(json.dumps(built["figure"])) == payload["figure"]
+    assert payload["lines_unplaced"] == built["unplaced"]
