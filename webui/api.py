@@ -11,12 +11,14 @@ status (validation errors also list every problem under ``problems``).
 from __future__ import annotations
 
 import hmac
+import json
 import math
 
 from flask import Blueprint, current_app, request, url_for
 
 from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, SPECIES_COLUMNS
 from levels.errors import AlreadyExistsError, InputFileError, NotFoundError, Problem, StoreError
+from levels.io.limits import text_problem
 from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
 from levels.io.records import LINE_FILE_COLUMNS, validate_levels, validate_lines
 
@@ -143,7 +145,9 @@ def _scalar_ok(value) -> bool:
         return True
     if isinstance(value, bool):
         return False
-    if isinstance(value, (int, float)):
+    if isinstance(value, int):
+        return True  # any size: the row validation says when it is too large to store
+    if isinstance(value, float):
         return math.isfinite(value)
     return False
 
@@ -166,6 +170,14 @@ def _shape_problems(key: str, items: list, known: set) -> list[dict]:
     return out
 
 
+def _json_body():
+    """The request body as JSON, or None when it is not JSON (too deeply nested counts as not JSON)."""
+    try:
+        return json.loads(request.get_data(cache=True))
+    except (ValueError, RecursionError):
+        return None
+
+
 @bp.post("/datasets")
 def create_dataset():
     """Create a measured (or imported) dataset with its levels, all-or-nothing."""
@@ -174,7 +186,7 @@ def create_dataset():
         return error(401, "unauthorised", why, None, headers={"WWW-Authenticate": 'Bearer realm="levels"'})
     if request.mimetype != "application/json":
         return error(415, "unsupported_media_type", "send the body as application/json", None)
-    body = request.get_json(silent=True)
+    body = _json_body()
     if not isinstance(body, dict):
         return error(400, "bad_body", "the body must be a JSON object", None)
     unknown = sorted(set(body) - DATASET_KEYS)
@@ -187,6 +199,11 @@ def create_dataset():
     name = (body.get("name") or "").strip()
     if not name or len(name) > 200:
         return error(400, "bad_body", "name (1 to 200 characters) is required", "name")
+    for key, limit, multiline in (("name", 200, False), ("sample", 200, False), ("citation", None, True),
+                                  ("description", None, True)):
+        problem = text_problem(body.get(key) or "", limit, multiline=multiline)
+        if problem:
+            return error(400, "bad_body", f"{key} {problem}", key)
     kind = body.get("kind") or "measured"
     if kind not in ("measured", "imported"):
         return error(400, "bad_body", "kind must be 'measured' or 'imported'", "kind")

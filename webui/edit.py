@@ -43,6 +43,7 @@ from levels.errors import (
     StoreError,
     UnitError,
 )
+from levels.io.limits import text_problem
 from levels.io.records import validate_level
 from levels.units import parse_quantity
 
@@ -144,11 +145,15 @@ def parse_sample_form(form) -> tuple[str, dict, dict]:
         errors["name"] = "a sample name is required"
     elif len(name) > 200:
         errors["name"] = "at most 200 characters"
+    elif text_problem(name, 200):
+        errors["name"] = f"the name {text_problem(name, 200)}"
     conditions: dict[str, object] = {}
     for field_name, limit in _TEXT_FIELDS.items():
         text = (form.get(field_name) or "").strip()
         if len(text) > limit:
             errors[field_name] = f"at most {limit} characters"
+        elif text_problem(text, limit, multiline=field_name == "description"):
+            errors[field_name] = f"the text {text_problem(text, limit, multiline=field_name == 'description')}"
         elif text:
             conditions[field_name] = text
     for field_name, (store, dimension, unit, low, high, zero_ok) in _QUANTITY_FIELDS.items():
@@ -238,6 +243,10 @@ def add_level():
         errors["new_dataset"] = "name the new dataset"
     elif len(new_name) > 200:
         errors["new_dataset"] = "at most 200 characters"
+    for field_name, value, limit in (("new_dataset", new_name, 200), ("sample", sample or "", 200),
+                                     ("citation", (form.get("citation") or "").strip(), 2000)):
+        if field_name not in errors and text_problem(value, limit, multiline=field_name == "citation"):
+            errors[field_name] = f"the text {text_problem(value, limit, multiline=field_name == 'citation')}"
     record, problems = validate_level(fields, source=FORM_SOURCE,
                                       default_dataset=new_name if target == NEW_DATASET else None)
     by_field, general = _problems_by_field(problems, LEVEL_FORM_FIELDS)
@@ -305,6 +314,8 @@ def _upload_options(form) -> tuple[dict, dict]:
     for name, limit in (("sample", 200), ("dataset", 200), ("citation", 2000)):
         if options[name] and len(options[name]) > limit:
             errors[name] = f"at most {limit} characters"
+        elif options[name] and text_problem(options[name], limit, multiline=name == "citation"):
+            errors[name] = f"the text {text_problem(options[name], limit, multiline=name == 'citation')}"
     return options, errors
 
 

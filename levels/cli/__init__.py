@@ -112,7 +112,7 @@ def check_text_option(value: str | None, option: str, length: int | None = 200) 
         return None
     problem = text_problem(value, length)
     if problem:
-        raise click.BadParameter(problem, param_hint=f"'{option}'")
+        raise click.BadParameter(f"the text {problem}", param_hint=f"'{option}'")
     return value
 
 
@@ -197,6 +197,11 @@ def where(obj: Context) -> None:
     click.echo(database.display_url(url))
     if url.startswith("sqlite:///"):
         click.echo(f"file: {url[len('sqlite:///'):]}")
+        try:
+            require_existing_store(obj)
+        except LevelsError:
+            click.echo("schema: no store file there yet (run 'levels init' to create it)")
+            return
     try:
         revision = database.current_revision(obj.catalog.engine)
     except LevelsError as exc:
@@ -266,9 +271,16 @@ def show(obj: Context, spectrum: str, datasets: tuple[str, ...], fmt: str, outpu
 @click.option("--kind", type=click.Choice(["measured", "imported"]), default="measured", show_default=True,
               help="'imported' for values taken from the literature (give --citation).")
 @click.option("--citation", default="", help="Where the values come from.")
+@click.option("--allow-off-ritz", "allow_off_ritz", metavar="REASON", default=None,
+              help="Lines file: accept lines further than 5 combined uncertainties from their levels' Ritz "
+                   "wavenumber, for this REASON (kept with the dataset; each such line gets a note).")
+@click.option("--max-derived-lines", type=click.IntRange(min=0), default=None, metavar="N",
+              help="Most Ritz (derived) lines one species may imply after this import "
+                   "(default 10,000,000 or $LEVELS_MAX_DERIVED_LINES).")
 @click.pass_obj
 @reports_errors
-def import_(obj: Context, file: str, sample: str | None, dataset: str | None, kind: str, citation: str) -> None:
+def import_(obj: Context, file: str, sample: str | None, dataset: str | None, kind: str, citation: str,
+            allow_off_ritz: str | None, max_derived_lines: int | None) -> None:
     """Import measured levels or lines from FILE as a new dataset, all-or-nothing.
 
     The kind is told by the header. A levels file names the columns spectrum,
@@ -285,7 +297,11 @@ def import_(obj: Context, file: str, sample: str | None, dataset: str | None, ki
     check_text_option(sample, "--sample")
     check_text_option(dataset, "--dataset")
     check_text_option(citation, "--citation", None)
-    report = obj.catalog.import_file(file, sample=sample, dataset=dataset, kind=kind, citation=citation)
+    check_text_option(allow_off_ritz, "--allow-off-ritz")
+    report = obj.catalog.import_file(file, sample=sample, dataset=dataset, kind=kind, citation=citation,
+                                     allow_off_ritz=allow_off_ritz, max_derived_lines=max_derived_lines)
+    for warning in report.warnings:
+        click.echo(f"note: {warning}")
     what = f"{report.levels} levels" if report.levels else f"{report.lines} lines"
     click.echo(f"imported {what} of {', '.join(report.species)} into {report.kind} dataset "
                f"{report.dataset!r} (id {report.dataset_id})" + (f" of sample {report.sample!r}" if report.sample else ""))
@@ -751,10 +767,9 @@ def hydrogenic(obj: Context, spectrum: str, mass_number: int | None, n_max: int,
       levels hydrogenic "He II" --n-max 30
       levels hydrogenic "D I" --no-fine-structure
     """
-    from levels.physics.dirac import Corrections
+    from levels.service.vocabulary import hydrogenic_corrections
 
-    corrections = Corrections(recoil=not no_recoil, self_energy=not no_qed, vacuum_polarization=not no_qed,
-                              finite_size=not no_finite_size, higher_order=not no_qed)
+    corrections = hydrogenic_corrections(recoil=not no_recoil, qed=not no_qed, finite_size=not no_finite_size)
     progress = _progress()
     try:
         report = obj.catalog.compute_hydrogenic(spectrum, mass_number=mass_number, n_max=n_max,
@@ -771,12 +786,12 @@ def hydrogenic(obj: Context, spectrum: str, mass_number: int | None, n_max: int,
 
 # store maintenance commands (check, export-store, import-store, history, retract, restore)
 from levels.cli import store as _store_commands  # noqa: E402,F401  (registers its commands on ``main``)
+from levels.cli import spectra as _spectra_commands  # noqa: E402,F401  (peaks, calibrate, diagnose)
 
 
 def run() -> None:  # pragma: no cover - console entry for ``python -m levels``
     main()
 
-from levels.cli import spectra as _spectra_commands  # noqa: E402,F401  (peaks, calibrate, diagnose)
 
 if __name__ == "__main__":  # pragma: no cover
     main()

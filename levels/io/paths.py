@@ -97,7 +97,7 @@ def check_output_path(path: str | os.PathLike, *, option: str = "--output",
             raise OutputError(f"{option} {given}: that is {what} ({candidate.name}){via}; writing there would "
                               "destroy it. Choose another file name")
     try:
-        info = os.stat(resolved)
+        info = os.stat(given)  # follows links, also the /proc kind /dev/stdout points through
     except FileNotFoundError:
         return resolved
     except OSError as exc:

@@ -21,6 +21,7 @@ import io
 import json
 import math
 import os
+import re
 import stat
 import tempfile
 import threading
@@ -419,9 +420,25 @@ def _is_number(value) -> bool:
     return isinstance(value, (int, float)) and not isinstance(value, bool)
 
 
+_UNPRINTABLE = re.compile(r"[\x00-\x1f\x7f-\x9f\u202a-\u202e\u2066-\u2069]")
+
+
+def printable(text: str) -> str:
+    r"""Text safe to print on a terminal: control characters shown as ``\u001b`` instead of acting.
+
+    Examples
+    --------
+    >>> printable("red\x1b[31m") == "red\\u001b[31m"
+    True
+    """
+    return _UNPRINTABLE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
+
+
 def _human(value) -> str:
     if value is None:
         return ""
+    if isinstance(value, str):
+        return printable(value)
     if isinstance(value, float):
         if math.isnan(value):
             return ""
