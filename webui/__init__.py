@@ -127,7 +127,7 @@ def create_app(config: Mapping | None = None) -> Flask:
 
 
 def _default_actor() -> str:
-    from levels.store.queries import current_actor
+    from levels.service.stores import current_actor
 
     return f"{current_actor()} (web)"
 

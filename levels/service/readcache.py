@@ -17,15 +17,17 @@ import threading
 from collections import OrderedDict
 from collections.abc import Callable, Hashable, Sequence
 from dataclasses import dataclass
-from typing import TypeVar
+from typing import TYPE_CHECKING, TypeVar
 
 import numpy as np
 
-from levels.catalog import Catalog
 from levels.errors import PhysicsInputError
 from levels.notation import Spectrum
 from levels.store import columns as store_columns
 from levels.store import database, queries
+
+if TYPE_CHECKING:  # the service floor does not import the old hub at run time (no import circle)
+    from levels.catalog import Catalog
 
 T = TypeVar("T")
 Revision = tuple[int, ...]
