@@ -98,7 +98,9 @@ def fit_boltzmann(upper_cm1: ArrayLike, ln_y: ArrayLike, ln_y_unc: ArrayLike | N
         combined with that of A); default equal weights, the scatter then sets the
         uncertainty.
     clip : float
-        Points whose normalised residual exceeds this are flagged and left out.
+        Points whose residual exceeds this many of their given uncertainties (or,
+        without them, of the robust scatter 1.4826 MAD) are flagged and left out,
+        the worst first, never leaving fewer than 3 points.
     max_iter : int
         Reject-and-refit passes.
 
@@ -151,7 +153,11 @@ def fit_boltzmann(upper_cm1: ArrayLike, ln_y: ArrayLike, ln_y_unc: ArrayLike | N
         scale = math.sqrt(chi2 / dof) if dof > 0 and (ln_y_unc is None or chi2 > dof) else 1.0
         if dof <= 1:
             break
-        norm = np.abs(resid) / (s * max(scale, 1.0) if ln_y_unc is not None else s * scale)
+        if ln_y_unc is not None:
+            norm = np.abs(resid) / s
+        else:   # no given uncertainties: the robust scatter (1.4826 MAD) of the points in use
+            mad = 1.4826 * float(np.median(np.abs(resid[use] - np.median(resid[use]))))
+            norm = np.abs(resid) / mad if mad > 0 else np.zeros_like(resid)
         new = norm > clip
         # never reject down to fewer than 3 points; reject the worst one at a time
         if new.any():

@@ -17,7 +17,10 @@ pair of strong peaks and every pair of strong lines define a linear map
 rough one (from the given wavelength range) are scored by how many peaks land
 within a tolerance of a line, and the best map seeds an iteration that raises
 the polynomial degree step by step, re-matching every peak each time (the
-voting idea of the Hough transform, here on pairs).
+voting idea of the Hough transform, here on pairs). While the map is still
+rough, peaks and lines closer than half the matching tolerance are treated
+as one (weighted centroids), so close pairs such as the H/D isotope pairs
+cannot be crossed; the tolerance shrinks with the fit's residuals.
 
 References
 ----------
@@ -366,23 +369,36 @@ def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: Array
         tol = tolerance_nm or max(3.0 * width_px, 2.0) * abs(disp) * 3.0
         a, b, _ = linear_seed(pp, ps, ll, ls, rough_dispersion=disp, tolerance_nm=tol)
         coef = np.array([a, b])
-    fit = None
-    for deg in range(1, degree + 1):
-        pi, li = match_to_lines(pp, coef, ll, tol)
-        if pi.size < deg + 2:
-            if fit is None and pi.size >= 2 and deg == 1:
-                continue
+    # coarse to fine: while the map is rough, peaks and lines closer than half the tolerance are
+    # taken as one (area- or strength-weighted); the tolerance shrinks as the fit improves
+    base_tol = 0.5 * width_px * abs(disp)
+    floor = 0.05 * width_px * abs(disp)
+    deg = 1
+    for _ in range(30):
+        order = np.argsort(evaluate(coef, pp))
+        mapped = evaluate(coef, pp[order])
+        groups = np.split(order, np.flatnonzero(np.diff(mapped) > tol / 2.0) + 1)
+        cp = np.array([np.average(pp[g], weights=np.maximum(ps[g], 1e-300)) for g in groups])
+        cl, _, _ = merge_blends(ll, ls, tol / 2.0)
+        pi, li = match_to_lines(cp, coef, cl, tol)
+        use_deg = min(deg, max(pi.size - 2, 0))
+        if use_deg < 1:
+            raise PhysicsInputError(f"only {pi.size} peaks matched lines while refining the calibration "
+                                    "(check the species, the medium and the wavelength range)")
+        step = fit_dispersion(cp[pi], cl[li], use_deg, weights=None, clip=clip, floor_nm=max(floor, tol / 4.0))
+        coef = step.coefficients
+        new_tol = max(4.0 * step.rms_nm, base_tol)
+        if use_deg >= degree and new_tol >= 0.8 * tol:
+            tol = new_tol
             break
-        fit = fit_dispersion(pp[pi], ll[li], deg, clip=clip, floor_nm=0.05 * width_px * abs(disp))
-        fit.peak_index, fit.line_index = pi, li
-        coef = fit.coefficients
-        tol = max(4.0 * fit.rms_nm, 0.5 * width_px * abs(disp))
+        deg = min(degree, deg + 1)
+        tol = max(new_tol, tol / 2.0)
     # final pass at the asked degree with the tightened tolerance
     pi, li = match_to_lines(pp, coef, ll, tol)
     if pi.size < degree + 2:
         raise PhysicsInputError(f"only {pi.size} peaks matched lines; a degree-{degree} calibration needs "
                                 f"{degree + 2} (check the species, the medium and the wavelength range)")
-    fit = fit_dispersion(pp[pi], ll[li], degree, clip=clip, floor_nm=0.05 * width_px * abs(disp))
+    fit = fit_dispersion(pp[pi], ll[li], degree, clip=clip, floor_nm=floor)
     fit.peak_index, fit.line_index = pi, li
     if degree and fit.used.sum() < degree + 4:
         fit.warnings.append(f"only {int(fit.used.sum())} lines fix a degree-{degree} polynomial; "

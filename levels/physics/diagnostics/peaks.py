@@ -297,7 +297,7 @@ def fit_peaks(x: ArrayLike, y: ArrayLike, guess_centre: ArrayLike, guess_fwhm: A
     profile : {"gauss", "voigt"}
     window_fwhm : float, optional
         Half width of each peak's fit window in guessed FWHM (default 3 for
-        Gaussian, 6 for Voigt).
+        Gaussian, 8 for Voigt).
 
     Returns
     -------
@@ -333,7 +333,7 @@ def fit_peaks(x: ArrayLike, y: ArrayLike, guess_centre: ArrayLike, guess_fwhm: A
     gh = np.broadcast_to(np.asarray(guess_height, dtype=float), gc.shape).copy()
     order = np.argsort(gc)
     gc, gf, gh = gc[order], gf[order], gh[order]
-    k_win = window_fwhm if window_fwhm is not None else (3.0 if profile == "gauss" else 6.0)
+    k_win = window_fwhm if window_fwhm is not None else (3.0 if profile == "gauss" else 8.0)
     n = gc.size
     k = 3 if profile == "gauss" else 4
     out = {name: np.full(n, np.nan) for name in ("centre", "centre_unc", "fwhm", "fwhm_unc", "area", "area_unc",
@@ -435,8 +435,8 @@ def find_and_fit(x: ArrayLike, y: ArrayLike, *, y_unc: ArrayLike | None = None, 
     min_snr : float
         Detection threshold, peak height over noise.
     baseline_window : int, optional
-        Running-median width in samples (default: 15 times the median detected
-        FWHM, at least 31).
+        Running-median width in samples (default: 15 (Gaussian) or 80 (Voigt) times
+        the median detected FWHM, at least 31).
 
     Returns
     -------
@@ -463,7 +463,8 @@ def find_and_fit(x: ArrayLike, y: ArrayLike, *, y_unc: ArrayLike | None = None, 
     rough = estimate_baseline(y, baseline_window or max(31, x.size // 50), scalar_noise)
     idx, height, width = detect_peaks(y, rough, noise, min_snr=min_snr)
     if baseline_window is None:
-        baseline_window = int(max(31, 15 * (np.median(width) if width.size else 3)))
+        wide = 15 if profile == "gauss" else 80   # Lorentz wings reach far: a wider median
+        baseline_window = int(max(31, wide * (np.median(width) if width.size else 3)))
         baseline = estimate_baseline(y, baseline_window, scalar_noise)
         idx, height, width = detect_peaks(y, baseline, noise, min_snr=min_snr)
     else:
