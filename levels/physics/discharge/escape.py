@@ -71,18 +71,32 @@ def _profile(x: NDArray[np.float64], profile: str, damping: NDArray[np.float64])
     return voigt_profile(x, 1.0 / math.sqrt(2.0), damping)
 
 
+def _simpson(n: int) -> NDArray[np.float64]:
+    """Simpson weights of n (odd) equally spaced nodes of unit spacing."""
+    w = np.ones(n)
+    w[1:-1:2] = 4.0
+    w[2:-1:2] = 2.0
+    return w / 3.0
+
+
 def _nodes(x_max: NDArray[np.float64]) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
-    """Per-row x nodes on [0, x_max] (dense core, geometric wing) and trapezoid weights."""
-    core = np.linspace(0.0, 6.0, _N_CORE)
+    """Per-row x nodes on [0, x_max] (linear core to 6, geometric wing beyond) and Simpson weights.
+
+    The wing is integrated in t with x = 6 (x_max/6)^t, dx = x ln(x_max/6) dt.
+    """
     m = x_max.size
-    top = np.maximum(x_max, 6.0 * (1.0 + 1e-9))
+    core = np.linspace(0.0, 6.0, _N_CORE + 1)
+    w_core = _simpson(_N_CORE + 1) * (6.0 / _N_CORE)
+    top = np.maximum(x_max, 6.0)
     t = np.linspace(0.0, 1.0, _N_WING + 1)[1:]
-    wing = 6.0 * (top[:, None] / 6.0) ** t[None, :]
-    x = np.concatenate([np.broadcast_to(core, (m, _N_CORE)), wing], axis=1)
-    dx = np.diff(x, axis=1)
-    w = np.zeros_like(x)
-    w[:, :-1] += dx / 2.0
-    w[:, 1:] += dx / 2.0
+    log_ratio = np.log(top / 6.0)
+    wing = 6.0 * np.exp(np.outer(log_ratio, t))
+    w_t = _simpson(_N_WING + 1) / _N_WING
+    w_wing = wing * log_ratio[:, None] * w_t[None, 1:]
+    x = np.concatenate([np.broadcast_to(core, (m, core.size)), wing], axis=1)
+    w = np.concatenate([np.broadcast_to(w_core, (m, core.size)).copy(), w_wing], axis=1)
+    # the wing's first node (x = 6) is the core's last: its Simpson end weight goes onto that node
+    w[:, _N_CORE] += 6.0 * log_ratio * w_t[0]
     return x, 2.0 * w  # symmetric profile: twice the half line
 
 
@@ -100,14 +114,14 @@ def _x_max(tau: NDArray[np.float64], profile: str, a: NDArray[np.float64]) -> ND
     if profile == "doppler":
         return dopp
     lor_a = np.ones_like(tau) if profile == "lorentz" else np.maximum(a, 1e-300)
-    return np.maximum(dopp, np.sqrt(tau * lor_a * 1e8 + 1.0))
+    return np.maximum(np.maximum(dopp, 1e3), np.sqrt(tau * lor_a * 1e8 + 1.0))
 
 
 def _average(tau: NDArray[np.float64], profile: str, a: NDArray[np.float64], kernel) -> NDArray[np.float64]:
     out = np.empty_like(tau)
     for s in range(0, tau.size, _CHUNK):
         tt, aa = tau[s:s + _CHUNK], a[s:s + _CHUNK]
-        x_max = _x_max(tt, profile, aa)
+        x_max = np.maximum(_x_max(tt, profile, aa), 6.0)
         x, w = _nodes(x_max)
         phi = _profile(x, profile, aa[:, None])
         phi0 = _profile(np.zeros((tt.size, 1)), profile, aa[:, None])
@@ -117,7 +131,7 @@ def _average(tau: NDArray[np.float64], profile: str, a: NDArray[np.float64], ker
             tail = 0.0
         else:
             lor = np.where(aa > 0, aa, 0.0) if profile == "voigt" else np.ones_like(tt)
-            tail = 2.0 * lor / (math.pi * x_max)
+            tail = 2.0 / math.pi * np.arctan(lor / x_max)
         out[s:s + _CHUNK] = inside + tail
     return out
 
