@@ -417,11 +417,135 @@ def parse_term(text: str) -> Term | None:
     return Term(int(mult), L, -1 if odd else 1)
 
 
-def format_term(term: Term | None) -> str:
-    """Text of a term with the trade's ``°`` on odd parity; ``None`` gives ``''``."""
+def format_term(term: Term | JKTerm | None) -> str:
+    """Text of a term with the trade's ``°`` on odd parity; ``None`` gives ``''``; jK terms as ``2[5/2]°``."""
     if term is None:
         return ""
+    if isinstance(term, JKTerm):
+        return str(term)
     return f"{term.multiplicity}{l_letter(term.L, upper=True)}{'°' if term.parity == -1 else ''}"
+
+
+# ----------------------------------------------------------------- jK (Racah) terms
+
+@dataclass(frozen=True)
+class JKTerm:
+    """A jK-coupled (Racah) term ``2[5/2]°``: the outer electron's 2s+1, 2K, parity.
+
+    In jK coupling the parent's total angular momentum j couples with the outer
+    electron's l to K, and K with the outer electron's spin to J = K +- 1/2 (Racah
+    1942, Phys. Rev. 61, 537). The parent term with its J is written in the
+    configuration: ``2p5(2P°3/2)3p``.
+    """
+
+    multiplicity: int
+    two_k: int
+    parity: int
+
+    def __post_init__(self) -> None:
+        if not isinstance(self.multiplicity, int) or self.multiplicity < 1:
+            raise NotationError(f"multiplicity {self.multiplicity!r} must be a positive integer")
+        if not isinstance(self.two_k, int) or self.two_k < 0:
+            raise NotationError(f"2K {self.two_k!r} must be a non-negative integer")
+        if self.parity not in (1, -1):
+            raise NotationError(f"parity {self.parity!r} must be +1 or -1")
+
+    @property
+    def two_s(self) -> int:
+        """2s of the outer electron(s) = multiplicity - 1."""
+        return self.multiplicity - 1
+
+    def allows_two_j(self, two_j: int) -> bool:
+        """Whether J is one of |K-s| .. K+s."""
+        return (abs(self.two_k - self.two_s) <= two_j <= self.two_k + self.two_s
+                and (two_j - self.two_k - self.two_s) % 2 == 0)
+
+    def __str__(self) -> str:
+        return f"{self.multiplicity}[{format_j(self.two_k)}]{'°' if self.parity == -1 else ''}"
+
+
+_JK_TERM = re.compile(r"^([0-9]+)\[([0-9]+(?:/2)?)\](°|o|\*)?$")
+
+
+def parse_jk_term(text: str) -> JKTerm | None:
+    """Parse a jK term (``2[5/2]``, ``2[3/2]°``, ``2[1/2]o``); blank text gives ``None``.
+
+    An integer K is read as jK only up to 19: ``2[27]`` stays the LS term with L = 27
+    (this module's notation for L letters beyond the alphabet).
+
+    Examples
+    --------
+    >>> parse_jk_term("2[5/2]")
+    JKTerm(multiplicity=2, two_k=5, parity=1)
+    >>> str(parse_jk_term("2[3/2]o"))
+    '2[3/2]°'
+    """
+    if not isinstance(text, str):
+        raise NotationError(f"term must be text, got {type(text).__name__}")
+    stripped = text.strip()
+    if not stripped:
+        return None
+    match = _JK_TERM.match(stripped)
+    if not match or ("/" not in match.group(2) and int(match.group(2)) >= len(L_LETTERS)):
+        raise NotationError(f"{text!r} is not a jK term; write 2s+1 and K in brackets, like '2[5/2]' or '2[3/2]°'")
+    mult, k_text, odd = match.groups()
+    if "/" in k_text and k_text.split("/")[0].isdigit() and int(k_text.split("/")[0]) % 2 == 0:
+        raise NotationError(f"jK term {text!r}: K = {k_text} is not a whole or half-integer in lowest terms")
+    return JKTerm(int(mult), parse_j(k_text), -1 if odd else 1)
+
+
+def parse_level_term(text: str) -> Term | JKTerm | None:
+    """Parse the term column of a level: an LS term (``3D°``) or a jK term (``2[5/2]``).
+
+    Examples
+    --------
+    >>> parse_level_term("2[5/2]")
+    JKTerm(multiplicity=2, two_k=5, parity=1)
+    >>> parse_level_term("3P°")
+    Term(multiplicity=3, L=1, parity=-1)
+    """
+    if isinstance(text, str) and "[" in text:
+        try:
+            return parse_jk_term(text)
+        except NotationError:
+            try:
+                return parse_term(text)
+            except NotationError:
+                pass
+            raise
+    return parse_term(text)
+
+
+def jk_term_problem(configuration: Configuration, term: JKTerm) -> str | None:
+    """Why a jK term does not fit a configuration (None when it fits).
+
+    The configuration must name the parent term with its J before the outer
+    subshell (``2p5(2P°3/2)3p``), the outer subshell must hold one electron, and K
+    must be one of |j_parent - l| .. j_parent + l.
+
+    Examples
+    --------
+    >>> jk_term_problem(parse_configuration("2p5(2P°3/2)3p"), parse_jk_term("2[5/2]"))
+    >>> jk_term_problem(parse_configuration("2p5(2P°1/2)3p"), parse_jk_term("2[5/2]"))
+    'K = 5/2 is impossible for parent J = 1/2 and l = 1 (K = 1/2 .. 3/2)'
+    """
+    if not configuration.parents or configuration.parents[-1][2] is None:
+        return ("a jK term needs the parent term with its J in the configuration, "
+                "like '2p5(2P°3/2)3p'")
+    index, _, two_j_parent = configuration.parents[-1]
+    between = configuration.subshells[index + 1:-1]
+    if index >= len(configuration.subshells) - 1 or any(k != 4 * l + 2 for _, l, k in between):
+        return "the parent term must stand before the outer subshell (closed subshells between), like '2p5(2P°3/2)3p'"
+    _, l, k = configuration.subshells[-1]
+    if k != 1:
+        return f"a jK term needs one outer electron; the outer subshell holds {k}"
+    if term.multiplicity != 2:
+        return f"one outer electron has 2s+1 = 2, not {term.multiplicity}"
+    low, high = abs(two_j_parent - 2 * l), two_j_parent + 2 * l
+    if not (low <= term.two_k <= high and (term.two_k - low) % 2 == 0):
+        return (f"K = {format_j(term.two_k)} is impossible for parent J = {format_j(two_j_parent)} and l = {l} "
+                f"(K = {format_j(low)} .. {format_j(high)})")
+    return None
 
 
 # ----------------------------------------------------------------- configurations
@@ -456,6 +580,13 @@ class Configuration:
 
     subshells: tuple[tuple[int, int, int], ...]
     core: str | None = None
+    #: parent terms written in the configuration (``2p5(2P°3/2)3p``): (index of the subshell they
+    #: follow, LS term, 2J or None)
+    parents: tuple[tuple[int, Term, int | None], ...] = ()
+
+    def without_parents(self) -> Configuration:
+        """The same subshells without parent terms (the configuration a jK level belongs to)."""
+        return Configuration(self.subshells, self.core)
 
     @property
     def all_subshells(self) -> tuple[tuple[int, int, int], ...]:
@@ -512,7 +643,15 @@ def parse_configuration(text: str) -> Configuration:
         if core not in _CORES:
             raise NotationError(f"configuration {text!r}: unknown core [{core}]")
         rest = rest[match.end():]
-    parts = [p for p in re.split(r"[.\s]+", rest) if p]
+    parts: list[str] = []
+    parent_texts: list[tuple[int, str]] = []
+    for piece in re.split(r"(\([^()]*\))", rest):
+        if piece.startswith("(") and piece.endswith(")"):
+            if not parts:
+                raise NotationError(f"configuration {text!r}: parent term {piece} must follow a subshell")
+            parent_texts.append((len(parts) - 1, piece[1:-1]))
+        else:
+            parts.extend(p for p in re.split(r"[.\s]+", piece) if p)
     if not parts and core is None:
         raise NotationError(f"configuration {text!r} has no subshells")
     subshells = []
@@ -534,14 +673,56 @@ def parse_configuration(text: str) -> Configuration:
             raise NotationError(f"configuration {text!r}: subshell {part!r} appears twice")
         seen.add((n, l))
         subshells.append((n, l, k))
-    return Configuration(tuple(subshells), core)
+    parents = tuple(_parse_parent(text, subshells, core, index, parent) for index, parent in parent_texts)
+    return Configuration(tuple(subshells), core, parents)
+
+
+_PARENT = re.compile(r"^([0-9]+)([A-Z])(°|o|\*)?\s*_?([0-9]+(?:/2)?)?$")
+
+
+def _parse_parent(text: str, subshells: list, core: str | None, index: int, parent: str) -> tuple:
+    """Parse and check a parent term ``2P°3/2`` written after subshell ``index``."""
+    match = _PARENT.match(parent.strip())
+    if not match:
+        raise NotationError(f"configuration {text!r}: parent term ({parent}) is not an LS term with an optional J, "
+                            "like (2P°3/2)")
+    mult, letter, odd, j_text = match.groups()
+    if letter == "J":
+        raise NotationError(f"configuration {text!r}: J is not an L letter")
+    term = Term(int(mult), _l_from_letter(letter, f"configuration {text!r}"), -1 if odd else 1)
+    two_j = parse_j(j_text) if j_text else None
+    if two_j is not None and not term.allows_two_j(two_j):
+        raise NotationError(f"configuration {text!r}: J = {j_text} is impossible for the parent term {term}")
+    inner = (_CORES[core] if core else ()) + tuple(subshells[: index + 1])
+    parity = -1 if sum(l * k for _, l, k in inner) % 2 else 1
+    if parity != term.parity:
+        word = "odd" if parity == -1 else "even"
+        raise NotationError(f"configuration {text!r}: parent term ({parent}) has the wrong parity; the subshells "
+                            f"before it are {word}")
+    open_before = [(n, l, k) for n, l, k in inner if 0 < k < 4 * l + 2]
+    if len(open_before) == 1 and open_before[0][2] in (1, 4 * open_before[0][1] + 1):
+        l = open_before[0][1]
+        if (term.multiplicity, term.L) != (2, l):
+            raise NotationError(f"configuration {text!r}: one electron or hole in an l = {l} subshell has the parent "
+                                f"term 2{l_letter(l, upper=True)}, not ({parent})")
+    return (index, term, two_j)
 
 
 def format_configuration(config: Configuration) -> str:
     """Text of a configuration; occupancy 1 is not written (``2p6.3s``)."""
     parts = [f"[{config.core}]"] if config.core else []
-    for n, l, k in config.subshells:
-        parts.append(f"{n}{l_letter(l)}{'' if k == 1 else k}")
+    parents = {index: (term, two_j) for index, term, two_j in config.parents}
+    glue = False
+    for index, (n, l, k) in enumerate(config.subshells):
+        shell = f"{n}{l_letter(l)}{'' if k == 1 else k}"
+        if glue:
+            parts[-1] += shell
+        else:
+            parts.append(shell)
+        glue = index in parents
+        if glue:
+            term, two_j = parents[index]
+            parts[-1] += f"({format_term(term)}{'' if two_j is None else format_j(two_j)})"
     return ".".join(parts)
 
 

@@ -19,14 +19,17 @@ from levels.io import limits
 from levels.io.limits import FLOAT_LIMIT, INT_MAX, MAX_ENERGY_CM1, control_character
 from levels.io.tables import MAX_PROBLEMS, read_delimited
 from levels.notation import (
+    JKTerm,
     Spectrum,
+    Term,
     format_configuration,
     format_term,
     level_label,
+    jk_term_problem,
     parse_configuration,
     parse_j,
+    parse_level_term,
     parse_spectrum,
-    parse_term,
 )
 
 #: level columns of the design contract, in order
@@ -210,7 +213,7 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
     spectrum = row.parsed("spectrum", parse_spectrum, required=True)
     config_text = row.text("configuration")
     configuration = row.parsed("configuration", parse_configuration, required=True)
-    term = row.parsed("term", parse_term)
+    term = row.parsed("term", parse_level_term)
     j_text = row.text("j")
     two_j = row.parsed("j", parse_j, required=True)
     energy = row.number("energy_cm1", required=True, minimum=0.0, maximum=MAX_ENERGY_CM1)
@@ -237,6 +240,8 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
         if parity is not None and parity != configuration.parity:
             row.fail("parity", f"parity {row.text('parity')!r} contradicts configuration {config_text!r} "
                                f"({_parity_word(configuration.parity)})")
+        if isinstance(term, JKTerm) and jk_term_problem(configuration, term):
+            row.fail("term", f"jK term {row.text('term')!r}: {jk_term_problem(configuration, term)}")
         parity = configuration.parity
         outer_n, outer_l, _ = configuration.outer
         if n is not None and n != outer_n:
@@ -275,7 +280,8 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
     record = LevelRecord(
         spectrum=spectrum, label=label, configuration=config_canonical, term=term_canonical,
         two_j=two_j, parity=parity, energy_cm1=energy, unc_cm1=unc,
-        multiplicity=term.multiplicity if term else None, big_l=term.L if term else None,
+        multiplicity=term.multiplicity if isinstance(term, Term) else None,
+        big_l=term.L if isinstance(term, Term) else None,
         n=n, l=l_value, lifetime_s=lifetime, lande_g=lande, dataset=dataset, line=line,
     )
     return record, []

@@ -74,3 +74,6 @@ class MethodResult:
     #: fitted parameters and choices, stored in the dataset's options
     parameters: dict = field(default_factory=dict)
     warnings: list[str] = field(default_factory=list)
+    #: optional: level_id -> (lifetime_s, relative uncertainty) from the method's own lines (a method
+    #: that computes every decay of a level fills it; the service may also sum A over all stored lines)
+    lifetimes: dict[int, tuple[float, float]] = field(default_factory=dict)
