@@ -33,6 +33,8 @@ Unit("nm")
 
 from __future__ import annotations
 
+import importlib
+import importlib.util
 import math
 import os
 import warnings
@@ -58,7 +60,8 @@ from levels.errors import LevelsError, UnitError
 from levels.service.vocabulary import DEFAULT_AIR_FORMULA, air_formula_description
 from levels.units import parse_quantity
 
-__all__ = ["open_store", "Store", "EmissionReport", "LINE_STRENGTH_AU", "RatesUnavailableError", "COLUMN_UNITS"]
+__all__ = ["open_store", "Store", "EmissionReport", "RatesResult", "LINE_STRENGTH_AU", "RatesUnavailableError",
+           "COLUMN_UNITS"]
 
 #: the atomic unit of line strength, (e a0)^2
 LINE_STRENGTH_AU = u.def_unit("e2_a0_2", (const.e.si * const.a0) ** 2,
@@ -214,6 +217,41 @@ class EmissionReport:
     metrics: dict
     conditions: dict
     warnings: list[str] = field(default_factory=list)
+
+
+@dataclass
+class RatesResult:
+    """What :meth:`Store.rates` returns.
+
+    Attributes
+    ----------
+    lines : QTable
+        ``lower, upper, vacuum_nm [nm], multipole, a_per_s [1/s], a_rel_unc, f_abs,
+        line_strength_au [(e a0)^2]``.
+    levels : QTable
+        ``label, lifetime_s [s], lifetime_rel_unc``.
+    method : str
+        The method used (``auto`` resolves per configuration).
+    datasets : list of str
+        Datasets whose levels were used.
+    skipped : list of dict
+        Levels left out, each with its ``label`` and ``reason``.
+    warnings : list of str
+    saved_as : str or None
+        The computed dataset written (None when not saved).
+    ionization : Quantity or None
+        The ionization limit used (1/cm); ``ionization_source`` says whether stored or fitted.
+    """
+
+    lines: QTable
+    levels: QTable
+    method: str
+    datasets: list[str]
+    skipped: list[dict] = field(default_factory=list)
+    warnings: list[str] = field(default_factory=list)
+    saved_as: str | None = None
+    ionization: Any = None
+    ionization_source: str = ""
 
 
 # ----------------------------------------------------------------- the store
@@ -514,17 +552,48 @@ class Store:
                               metrics=dict(result.metrics), conditions=dict(result.conditions),
                               warnings=list(result.warnings))
 
-    def rates(self, spectrum: str, *, method: str = "auto", datasets: Sequence[str] | None = None) -> dict:
+    def rates(self, spectrum: str, *, method: str = "auto", datasets: Sequence[str] | None = None,
+              save: bool = True) -> RatesResult:
         """E1 (and E2/M1) rates of a many-electron species from its stored levels (``levels rates``).
+
+        The rates are stored as the computed dataset ``rates <spectrum> A=<mass>`` (replaced
+        on a re-run, one transaction) unless ``save`` is False.
+
+        Parameters
+        ----------
+        spectrum : str
+            Spectrum notation (``"Na I"``, ``"Ca II"``).
+        method : {"auto", "single", "coupled"}
+            ``single``: one electron outside closed shells; ``coupled``: an open core plus one
+            electron in intermediate coupling; ``auto`` picks per configuration.
+        datasets : sequence of str, optional
+            Datasets whose levels are used, in order of precedence.
+        save : bool
+            Store the computed dataset (True) or only report.
+
+        Returns
+        -------
+        RatesResult
 
         Raises
         ------
         RatesUnavailableError
-            This version has no rates service yet (``levels/service/rates.py``).
+            This installation has no rates service (``levels/service/rates.py``).
+        PhysicsInputError
+            Unknown method; no limit stored and none can be fitted; no level treated.
         """
-        try:
-            from levels.service import rates as rates_service  # noqa: F401  (built beside this module)
-        except ImportError:
+        if importlib.util.find_spec("levels.service.rates") is None:
             raise RatesUnavailableError(
-                "rates of many-electron species ('levels rates') are not available in this version") from None
-        raise RatesUnavailableError("the rates service exists but the Python API is not wired to it yet")
+                "rates of many-electron species ('levels rates') are not available in this version")
+        rates_service = importlib.import_module("levels.service.rates")
+        report = rates_service.compute_rates(self._catalog, spectrum, method=method,
+                                             datasets=list(datasets) if datasets else None, save=save)
+        provenance = self._catalog.provenance(f"rates {spectrum}; method {method}", report.datasets,
+                                              method=report.method)
+        return RatesResult(
+            lines=rows_to_table(report.lines, rates_service.RATES_COLUMNS, provenance),
+            levels=rows_to_table(report.levels, rates_service.LIFETIME_COLUMNS, provenance),
+            method=report.method, datasets=list(report.datasets), skipped=list(report.skipped),
+            warnings=list(report.warnings), saved_as=report.saved_as,
+            ionization=None if report.ionization_cm1 is None else report.ionization_cm1 / u.cm,
+            ionization_source=report.ionization_source)

@@ -30,7 +30,8 @@ def spectrum_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[di
         x = row["air_nm"] if (medium == "air" and row.get("air_nm") is not None) else row["vacuum_nm"]
         xs.extend([x, x, None])
         ys.extend([0.0, peak * row["rel_intensity"] * 1.05, None])
-        label = (f"{_escape(row['spectrum'])} {_escape(row['lower'])} – {_escape(row['upper'])}<br>{x:.4f} nm ({medium})"
+        label = (f"{_escape(row['spectrum'])} {_escape(row['lower'])} – {_escape(row['upper'])}"
+                 f"<br>{x:.4f} nm ({medium})"
                  f"<br>rel. intensity {row['rel_intensity']:.3g}<br>A {row['a_per_s']:.3e} s⁻¹")
         text.extend([label, label, None])
     data = [

@@ -29,15 +29,15 @@ Mass Evaluation.
 from __future__ import annotations
 
 from dataclasses import dataclass
-from functools import lru_cache
+from functools import cache
 
 import periodictable
 
-from levels.errors import NotFoundError, NotationError
+from levels.errors import NotationError, NotFoundError
 from levels.notation import Z_MAX, element_symbol
 from levels.physics.nuclear import electron_binding_energy_ev
 from levels.physics.nuclear import nuclear_mass_u as _nuclear_mass_u
-from levels.units import C, E_CHARGE, M_U
+from levels.units import E_CHARGE, M_U, C
 
 #: 1 eV/c^2 in u
 EV_IN_U = E_CHARGE / (C**2 * M_U)
@@ -75,7 +75,7 @@ def _element(z: int):
     return periodictable.elements[z]
 
 
-@lru_cache(maxsize=None)
+@cache
 def isotopes_of(z: int) -> tuple[Isotope, ...]:
     """All isotopes of element ``z`` with a known mass, lightest first."""
     element = _element(z)
@@ -114,7 +114,7 @@ def isotope(z: int, mass_number: int | None = None) -> Isotope:
     raise NotFoundError(f"no mass known for {element_symbol(z)}-{mass_number} (known mass numbers: {span})")
 
 
-@lru_cache(maxsize=None)
+@cache
 def default_isotope(z: int) -> Isotope:
     """Most abundant isotope; where no abundance is known, the one nearest the standard atomic mass."""
     isotopes = isotopes_of(z)

@@ -34,7 +34,8 @@ def test_a_wrong_import_is_caught(tmp_path):
         shutil.copytree(ROOT / package, tmp_path / package, ignore=ignore)
     shutil.copy(ROOT / "pyproject.toml", tmp_path / "pyproject.toml")
     (tmp_path / "levels" / "physics" / "scratch_wrong.py").write_text(
-        '"""Deliberately wrong: physics reaching up into the store."""\n\nfrom levels.store import queries  # noqa: F401\n',
+        '"""Deliberately wrong: physics reaching up into the store."""\n\n'
+        'from levels.store import queries  # noqa: F401\n',
         encoding="utf-8")
     done = _lint_imports(tmp_path, tmp_path)
     assert done.returncode != 0, done.stdout

@@ -33,7 +33,8 @@ from flask import Flask
 from levels.catalog import Catalog
 from levels.errors import LevelsError
 
-__all__ = ["create_app", "serve", "make_server", "stop_server", "check_bind", "is_loopback", "UnsafeBindError", "DEFAULTS"]
+__all__ = ["create_app", "serve", "make_server", "stop_server", "check_bind", "is_loopback", "UnsafeBindError",
+           "DEFAULTS"]
 
 log = logging.getLogger("levels.webui")
 
@@ -238,7 +239,8 @@ def serve(host: str = "127.0.0.1", port: int = 8150, *, config: Mapping | None =
         raise
     catalog = app.extensions["levels"]["catalog"]
     address = f"[{host}]" if ":" in host else host
-    print(f"levels web site on http://{address}:{getattr(server, 'effective_port', port)}/ (store {catalog.display_url}); "
+    print(f"levels web site on http://{address}:{getattr(server, 'effective_port', port)}/ "
+          f"(store {catalog.display_url}); "
           "press Ctrl+C to stop", file=sys.stderr)
     try:
         server.run()

@@ -416,10 +416,12 @@ def emission_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[di
                  f"<br>A = {_fmt(row.get('a_per_s'), '.3e')} s⁻¹")
         hover.extend([label, label, None])
     data = [
-        {"type": "scatter", "mode": "lines", "x": _nan_to_none(grid, 6), "y": [None if v != v else float(v) for v in dens],
+        {"type": "scatter", "mode": "lines", "x": _nan_to_none(grid, 6),
+         "y": [None if v != v else float(v) for v in dens],
          "name": "synthetic spectrum", "line": {"color": SPECTRUM_COLOUR, "width": 1.3}, "hoverinfo": "x+y",
          "meta": "spectrum"},
-        {"type": "scatter", "mode": "lines", "x": xs, "y": ys, "name": f"strongest {len(marked)} lines (height = rel. intensity)",
+        {"type": "scatter", "mode": "lines", "x": xs, "y": ys,
+         "name": f"strongest {len(marked)} lines (height = rel. intensity)",
          "hovertext": hover, "hoverinfo": "text", "line": {"color": MARK_COLOUR, "width": 1, "dash": "dot"},
          "meta": "lines"},
     ]

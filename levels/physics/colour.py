@@ -157,7 +157,8 @@ def cmf_tables() -> CmfTables:
         lef = SDS_LEFS_PHOTOPIC[_V_NAME]
         wl = np.asarray(cmfs.wavelengths, dtype=float)
         values = np.asarray(cmfs.values, dtype=float)
-        v = np.interp(wl, np.asarray(lef.wavelengths, dtype=float), np.asarray(lef.values, dtype=float), left=0.0, right=0.0)
+        v = np.interp(wl, np.asarray(lef.wavelengths, dtype=float), np.asarray(lef.values, dtype=float),
+                      left=0.0, right=0.0)
     for arr in (wl, values, v):
         arr.setflags(write=False)
     return CmfTables(wl, values[:, 0].copy(), values[:, 1].copy(), values[:, 2].copy(), v)
@@ -245,7 +246,8 @@ def _cumulative(grid: NDArray[np.float64], y: NDArray[np.float64]) -> NDArray[np
     return np.concatenate(([0.0], np.cumsum(0.5 * (y[1:] + y[:-1]) * np.diff(grid))))
 
 
-def _integral_to(grid: NDArray[np.float64], y: NDArray[np.float64], cum: NDArray[np.float64], points: NDArray[np.float64]) -> NDArray[np.float64]:
+def _integral_to(grid: NDArray[np.float64], y: NDArray[np.float64], cum: NDArray[np.float64],
+                 points: NDArray[np.float64]) -> NDArray[np.float64]:
     """Integral of the piecewise-linear y from grid[0] to each of ``points`` (clamped to the grid)."""
     pts = np.clip(points, grid[0], grid[-1])
     i = np.clip(np.searchsorted(grid, pts, side="right") - 1, 0, grid.size - 2)

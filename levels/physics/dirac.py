@@ -78,8 +78,8 @@ from scipy.special import digamma, gammaln
 
 from levels.errors import PhysicsInputError, QuantumNumberError
 from levels.physics import nuclear as _nuclear
-from levels.physics.nuclear import check_z as _check_z
 from levels.physics.nuclear import charge_radius_fm
+from levels.physics.nuclear import check_z as _check_z
 from levels.units import ALPHA, CM1_HZ, LAMBDA_C_BAR, M_E_U, R_INF_C_HZ
 
 __all__ = [

@@ -42,6 +42,8 @@ from levels.units import M_E_U
 #: largest n_max accepted (the radial recurrence is tested to n = 1000)
 N_MAX_LIMIT = 1000
 METHOD = "hydrogenic-dirac-qed"
+#: every correction on (the default of :func:`compute`; Corrections is immutable)
+ALL_CORRECTIONS = dirac.Corrections()
 METHOD_VERSION = "2"  # 2: bound-electron g-factor (Dirac + anomaly) instead of LS Landé g
 
 
@@ -147,7 +149,7 @@ def count_states_and_lines(n_max: int, fine_structure: bool) -> tuple[int, int]:
 
 
 def compute(z: int, *, nuclear_mass_u: float, n_max: int = 20, fine_structure: bool = True,
-            corrections: dirac.Corrections = dirac.Corrections(), charge_radius_fm: float | None = None,
+            corrections: dirac.Corrections = ALL_CORRECTIONS, charge_radius_fm: float | None = None,
             mass_number: int | None = None) -> HydrogenicModel:
     """Compute the model of the one-electron ion of charge ``z``.
 
@@ -211,7 +213,8 @@ def compute(z: int, *, nuclear_mass_u: float, n_max: int = 20, fine_structure: b
     with warnings.catch_warnings():
         # beyond 2 um the IAU formula is extrapolated, as is usual practice; the dataset says so
         warnings.simplefilter("ignore", air.AirRangeWarning)
-        lines["air_nm"] = np.asarray(air.vacuum_to_air(vacuum_nm, "iau2000"), dtype=float) if len(vacuum_nm) else vacuum_nm
+        lines["air_nm"] = (np.asarray(air.vacuum_to_air(vacuum_nm, "iau2000"), dtype=float) if len(vacuum_nm)
+                           else vacuum_nm)
     return HydrogenicModel(
         z=z, nuclear_mass_u=nuclear_mass_u, n_max=n_max, fine_structure=fine_structure,
         corrections=corrections.as_dict(), ionization_cm1=ionization, charge_radius_fm=radius,

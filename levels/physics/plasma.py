@@ -111,7 +111,8 @@ def _check_levels(energy_cm1: ArrayLike, g: ArrayLike) -> tuple[NDArray[np.float
 
 def _check_charge(charge_after: int) -> int:
     if isinstance(charge_after, bool) or int(charge_after) != charge_after or charge_after < 1:
-        raise PhysicsInputError(f"charge_after (charge of the ion formed) must be an integer >= 1, got {charge_after!r}")
+        raise PhysicsInputError(
+            f"charge_after (charge of the ion formed) must be an integer >= 1, got {charge_after!r}")
     return int(charge_after)
 
 
@@ -669,7 +670,8 @@ def ionization_balance(
 # ---------------------------------------------------------------------------------------------
 
 
-def line_emissivity(upper_population_m3: ArrayLike, a_per_s: ArrayLike, wavenumber_cm1: ArrayLike) -> NDArray[np.float64]:
+def line_emissivity(upper_population_m3: ArrayLike, a_per_s: ArrayLike,
+                    wavenumber_cm1: ArrayLike) -> NDArray[np.float64]:
     """Optically thin emission coefficient of spectral lines, integrated over the line.
 
     Parameters

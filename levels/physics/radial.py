@@ -82,7 +82,8 @@ from __future__ import annotations
 
 import math
 import os
-from typing import Any, Callable
+from collections.abc import Callable
+from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray

@@ -155,7 +155,8 @@ def _recoil_factor(z: int, mass_ratio: float, dipole_recoil: bool) -> float:
 # ----------------------------------------------------------------------------
 
 
-def fine_structure_factor(l_u: ArrayLike, two_j_u: ArrayLike, l_l: ArrayLike, two_j_l: ArrayLike) -> NDArray[np.float64]:
+def fine_structure_factor(l_u: ArrayLike, two_j_u: ArrayLike, l_l: ArrayLike,
+                          two_j_l: ArrayLike) -> NDArray[np.float64]:
     """Angular factor :math:`(2j_u+1)(2j_l+1)\\{l_u\\ j_u\\ \\tfrac12;\\ j_l\\ l_l\\ 1\\}^2`.
 
     Parameters

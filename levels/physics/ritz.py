@@ -363,7 +363,8 @@ def optimize_levels(
             f"(energies NaN): {_preview(lonely)}"
         )
     if np.any(single):
-        messages.append(f"{int(single.sum())} level(s) determined by a single transition: {_preview(np.flatnonzero(single))}")
+        messages.append(f"{int(single.sum())} level(s) determined by a single transition: "
+                        f"{_preview(np.flatnonzero(single))}")
     if np.any(outlier):
         messages.append(
             f"{int(outlier.sum())} line(s) more than {_OUTLIER_SIGMA:g} sigma from their Ritz wavenumber: "

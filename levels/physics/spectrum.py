@@ -150,7 +150,8 @@ def doppler_fwhm_nm(wavelength_nm: ArrayLike, tgas_k: ArrayLike, mass_u: ArrayLi
     return np.asarray(lam * np.sqrt(8.0 * units.K_B * t * math.log(2.0) / (m * units.M_U * units.C**2)))
 
 
-def natural_fwhm_nm(wavelength_nm: ArrayLike, tau_upper_s: ArrayLike, tau_lower_s: ArrayLike = np.inf) -> NDArray[np.float64]:
+def natural_fwhm_nm(wavelength_nm: ArrayLike, tau_upper_s: ArrayLike,
+                    tau_lower_s: ArrayLike = np.inf) -> NDArray[np.float64]:
     """Natural (Lorentzian) FWHM of a line from the lifetimes of its two levels.
 
     Parameters
@@ -378,7 +379,8 @@ def _wing(
         return np.multiply(t, gamma / math.pi, out=out)
 
 
-def window_power_fraction(half_width_nm: ArrayLike, gauss_fwhm_nm: ArrayLike, lorentz_fwhm_nm: ArrayLike) -> NDArray[np.float64]:
+def window_power_fraction(half_width_nm: ArrayLike, gauss_fwhm_nm: ArrayLike,
+                          lorentz_fwhm_nm: ArrayLike) -> NDArray[np.float64]:
     """Fraction of a Voigt profile's area within ``+-half_width_nm`` of its centre.
 
     Parameters
@@ -418,7 +420,8 @@ def window_power_fraction(half_width_nm: ArrayLike, gauss_fwhm_nm: ArrayLike, lo
     return _window_fraction(w.ravel(), sigma.ravel(), gamma.ravel()).reshape(w.shape)
 
 
-def _window_fraction(w: NDArray[np.float64], sigma: NDArray[np.float64], gamma: NDArray[np.float64]) -> NDArray[np.float64]:
+def _window_fraction(w: NDArray[np.float64], sigma: NDArray[np.float64],
+                     gamma: NDArray[np.float64]) -> NDArray[np.float64]:
     out = np.empty_like(w)
     lor = gamma > 0
     gau = ~lor
@@ -610,7 +613,8 @@ def synthetic_spectrum(
     if not np.all(step > 0):
         raise PhysicsInputError("grid_nm must be strictly monotonic (no repeated or unordered wavelengths)")
     if not (math.isfinite(core_widths) and core_widths >= 4.0):
-        raise PhysicsInputError(f"core_widths must be >= 4 (the wing expansion is not valid nearer), got {core_widths!r}")
+        raise PhysicsInputError(
+            f"core_widths must be >= 4 (the wing expansion is not valid nearer), got {core_widths!r}")
     if not (math.isfinite(wing_widths) and wing_widths >= core_widths):
         raise PhysicsInputError(f"wing_widths must be >= core_widths, got {wing_widths!r}")
     if not (math.isfinite(min_steps_per_fwhm) and min_steps_per_fwhm > 0):
@@ -622,7 +626,8 @@ def synthetic_spectrum(
     if not np.all(np.isfinite(centre)):
         raise PhysicsInputError("center_nm must be finite")
     try:
-        p, fg, fl = (np.broadcast_to(np.asarray(a, dtype=float), centre.shape) for a in (power, gauss_fwhm_nm, lorentz_fwhm_nm))
+        p, fg, fl = (np.broadcast_to(np.asarray(a, dtype=float), centre.shape)
+                     for a in (power, gauss_fwhm_nm, lorentz_fwhm_nm))
     except ValueError as exc:
         raise PhysicsInputError(f"power and widths must be scalars or have one entry per line ({centre.size})") from exc
     _nonneg("power", p)

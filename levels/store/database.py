@@ -330,7 +330,8 @@ def ping(engine: Engine) -> None:
         with engine.connect() as connection:
             connection.execute(text("SELECT 1"))
     except DatabaseError as exc:
-        raise StoreError(f"cannot reach the store at {display_url(str(engine.url))}: {_first_line(str(exc.orig))}") from None
+        raise StoreError(f"cannot reach the store at {display_url(str(engine.url))}: "
+                         f"{_first_line(str(exc.orig))}") from None
 
 
 def store_revision(engine: Engine) -> tuple[int, int, int, int]:

@@ -31,6 +31,7 @@ from levels.catalog import Catalog
 from levels.notation import Spectrum, format_configuration, l_letter, level_label, parse_configuration
 from levels.store import database, queries
 from levels.store.schema import Level, Line
+
 from tests.bench.harness import BenchResult, best_time
 
 N_LEVELS = 2000
@@ -75,7 +76,8 @@ def big_store() -> tuple[str, str]:
             config = format_configuration(parse_configuration(f"1s2.2s2.2p6.{n}{l_letter(l)}"))
             term = f"2{l_letter(l, upper=True)}{'°' if l % 2 else ''}"
             rows.append({"dataset_id": ds.id, "species_id": species.id, "label": level_label(config, term, two_j),
-                         "configuration": config, "term": term, "two_j": two_j, "g": two_j + 1, "parity": -1 if l % 2 else 1,
+                         "configuration": config, "term": term, "two_j": two_j, "g": two_j + 1,
+                         "parity": -1 if l % 2 else 1,
                          "energy_cm1": energy - chosen[0][0], "unc_cm1": None, "multiplicity": 2, "big_l": l,
                          "n": n, "l": l, "lifetime_s": None, "lande_g": None})
         ids = queries.insert_rows(session, Level, rows, returning_ids=True)

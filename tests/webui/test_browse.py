@@ -83,7 +83,8 @@ def test_species_page_shows_both_tables(reader, shared):
     assert row_counts(text) == [len(levels), total_lines]
     assert level_labels(text) == [r["label"] for r in levels][:50]
     # units in the column headers
-    for heading in ("energy <span class=\"unit\">[cm⁻¹]", "λ vacuum <span class=\"unit\">[nm]", "A <span class=\"unit\">[s⁻¹]"):
+    for heading in ("energy <span class=\"unit\">[cm⁻¹]", "λ vacuum <span class=\"unit\">[nm]",
+                    "A <span class=\"unit\">[s⁻¹]"):
         assert heading in text
 
 
@@ -108,7 +109,8 @@ def test_level_filter_by_dataset(reader, shared):
     assert level_labels(text) == [r["label"] for r in expected]
 
 
-@pytest.mark.parametrize("sort, key", [("energy", "energy_cm1"), ("label", "label"), ("configuration", "configuration")])
+@pytest.mark.parametrize("sort, key", [("energy", "energy_cm1"), ("label", "label"),
+                                       ("configuration", "configuration")])
 @pytest.mark.parametrize("direction", ["asc", "desc"])
 def test_level_sorting(reader, shared, sort, key, direction):
     text = reader.get("/species/Li_I", query_string={"sort": sort, "dir": direction, "per": 200}).get_data(as_text=True)
@@ -148,14 +150,16 @@ def test_level_download_follows_filters(reader, shared):
     assert response.status_code == 200
     text = response.get_data(as_text=True)
     comments = [l for l in text.splitlines() if l.startswith("#")]
-    assert comments[0].startswith("# tool: levels") and any(l.startswith("# query: levels Li I parity=odd") for l in comments)
+    assert comments[0].startswith("# tool: levels")
+    assert any(line.startswith("# query: levels Li I parity=odd") for line in comments)
     rows = list(csv.DictReader(io.StringIO("\n".join(l for l in text.splitlines() if not l.startswith("#")))))
     assert list(rows[0]) == list(LEVEL_COLUMNS)
     assert [r["label"] for r in rows] == [r["label"] for r in levels_of(shared["catalog"], parity=lambda p: p == -1)]
     ecsv = reader.get("/species/Li_I/levels.ecsv").get_data(as_text=True)
     assert ecsv.startswith("# %ECSV 1.0") and 'unit: "cm-1"' in ecsv
     payload = reader.get("/species/Li_I/levels.json").get_json()
-    assert payload["provenance"]["tool"].startswith("levels") and len(payload["rows"]) == len(shared["catalog"].level_rows("Li I"))
+    assert payload["provenance"]["tool"].startswith("levels")
+    assert len(payload["rows"]) == len(shared["catalog"].level_rows("Li I"))
 
 
 # ----------------------------------------------------------------- species page: lines
@@ -163,7 +167,8 @@ def test_level_download_follows_filters(reader, shared):
 @pytest.mark.parametrize("args, query", [
     ({"from_nm": "600", "to_nm": "700"}, LineQuery(spectrum="Li I", from_nm=600, to_nm=700)),
     ({"from_nm": "6000A", "to_nm": "0.7um"}, LineQuery(spectrum="Li I", from_nm=600, to_nm=700)),
-    ({"from_nm": "600", "to_nm": "700", "medium": "air"}, LineQuery(spectrum="Li I", from_nm=600, to_nm=700, medium="air")),
+    ({"from_nm": "600", "to_nm": "700", "medium": "air"},
+     LineQuery(spectrum="Li I", from_nm=600, to_nm=700, medium="air")),
     ({"multipole": "E2"}, LineQuery(spectrum="Li I", multipoles=("E2",))),
     ({"multipole": ["E1", "E2"], "min_a": "1e6"}, LineQuery(spectrum="Li I", multipoles=("E1", "E2"), min_a=1e6)),
 ])
@@ -257,7 +262,8 @@ def test_diagram_json_unknown_species_is_json_404(reader, shared):
 
 def test_line_record_json_and_page(reader, shared):
     row = shared["catalog"].line_rows(LineQuery(spectrum="Li I", order="a", limit=1))[0][0]
-    payload = reader.get(f"/species/Li_I/lines/{row['id']}.json", query_string={"nm": repr(row["vacuum_nm"])}).get_json()
+    payload = reader.get(f"/species/Li_I/lines/{row['id']}.json",
+                         query_string={"nm": repr(row["vacuum_nm"])}).get_json()
     assert payload["line"] == json.loads(json.dumps(row))
     assert payload["provenance"]["datasets"] == row["dataset"]
     # without the wavelength hint the line is still found
@@ -276,7 +282,8 @@ def test_line_finder(reader, shared):
     text = reader.get("/lines", query_string={"from_nm": 300, "to_nm": 900}).get_data(as_text=True)
     _, total = cat.line_rows(LineQuery(from_nm=300, to_nm=900))
     assert row_counts(text) == [total]
-    text = reader.get("/lines", query_string={"species": "Li I", "from_nm": 300, "to_nm": 900, "per": 100}).get_data(as_text=True)
+    text = reader.get("/lines", query_string={"species": "Li I", "from_nm": 300, "to_nm": 900,
+                                              "per": 100}).get_data(as_text=True)
     assert row_counts(text) == [total]
     assert reader.get("/lines", query_string={"species": "Fe II"}).status_code == 400
     assert reader.get("/lines", query_string={"species": "not a species"}).status_code == 400
