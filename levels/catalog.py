@@ -210,8 +210,16 @@ class Catalog:
             species = queries.require_species(session, spec)
             chosen = queries.visible_datasets(session, datasets)
             names = {d.id: d.name for d in chosen}
-            return [level_row(species.name, lv, names[lv.dataset_id])
-                    for lv in queries.levels_by_precedence(session, species, chosen)]
+            levels = queries.levels_by_precedence(session, species, chosen)
+            rows = [level_row(species.name, lv, names[lv.dataset_id]) for lv in levels]
+            # a stored lifetime wins; else the one the species' computed rates give (levels rates)
+            from levels.service.rates import level_lifetimes
+
+            computed = level_lifetimes(session, species, chosen, levels)
+            for row, lv in zip(rows, levels):
+                if row["lifetime_s"] is None and lv.id in computed:
+                    row["lifetime_s"] = computed[lv.id]
+            return rows
 
         return self.read(work)
 
@@ -474,11 +482,11 @@ class Catalog:
             ds = queries.require_dataset(session, dataset)
             if ds.kind == "computed":
                 raise PhysicsInputError(f"dataset {ds.name!r} is computed; add measured levels to a measured dataset")
-            species_ids, rows = _insert_level_records(session, records, ds.id)
-            _rebuild_derived_lines(session, species_ids, self.actor)
-            queries.record_audit(session, "add-levels", f"dataset {ds.name}", {"source": source, "levels": len(rows)},
+            species_ids, n_levels = _insert_level_records(session, records, ds.id)
+            _rebuild_derived_lines(session, species_ids, self.actor, source=source)
+            queries.record_audit(session, "add-levels", f"dataset {ds.name}", {"source": source, "levels": n_levels},
                                  actor=self.actor)
-            return len(rows)
+            return n_levels
 
         return self.write(work)
 
@@ -496,13 +504,22 @@ class Catalog:
     def import_file(self, path: str | os.PathLike, *, sample: str | None = None, dataset: str | None = None,
                     kind: str = "measured", citation: str = "", description: str = "",
                     sample_conditions: Mapping[str, object] | None = None,
-                    content: bytes | None = None, source: str | None = None) -> ImportReport:
+                    content: bytes | None = None, source: str | None = None,
+                    allow_off_ritz: str | None = None, max_derived_lines: int | None = None) -> ImportReport:
         """Import a levels file as a new dataset, all-or-nothing.
 
         The whole file is validated first; any problem raises
         :class:`~levels.errors.InputFileError` and nothing is written. Then the
         dataset, its sample (created if new), the species, the levels and an audit
         entry are written in one transaction.
+
+        Parameters
+        ----------
+        allow_off_ritz : str, optional
+            For a lines file: why lines off their levels' Ritz wavenumbers are accepted
+            (recorded in the dataset's options and the audit log); without it they are refused.
+        max_derived_lines : int, optional
+            Most derived lines one species may imply (default :func:`default_max_derived_lines`).
         """
         name = source or Path(path).name
         raw = content if content is not None else path
@@ -513,18 +530,26 @@ class Catalog:
                 _checked_columns(table, level_io.LINE_FILE_COLUMNS, level_io.LINE_FILE_REQUIRED), source=name)
             return self.import_line_records(line_records, source=name, sample=sample, dataset=dataset, kind=kind,
                                             citation=citation, description=description,
-                                            sample_conditions=sample_conditions)
+                                            sample_conditions=sample_conditions, allow_off_ritz=allow_off_ritz,
+                                            max_derived_lines=max_derived_lines)
         records = level_io.validate_levels(
             _checked_columns(table, level_io.LEVEL_COLUMNS, level_io.LEVEL_REQUIRED),
             source=name, default_dataset=dataset)
         return self.import_level_records(records, source=name, sample=sample, kind=kind, citation=citation,
-                                         description=description, sample_conditions=sample_conditions)
+                                         description=description, sample_conditions=sample_conditions,
+                                         max_derived_lines=max_derived_lines)
 
     def import_line_records(self, records: Sequence[level_io.LineRecord], *, source: str, sample: str | None = None,
                             dataset: str | None = None, kind: str = "measured", citation: str = "",
                             description: str = "", sample_conditions: Mapping[str, object] | None = None,
-                            air_formula: str = "iau2000") -> ImportReport:
-        """Write validated measured lines as one new dataset; labels resolve to stored levels."""
+                            air_formula: str = "iau2000", allow_off_ritz: str | None = None,
+                            max_derived_lines: int | None = None) -> ImportReport:
+        """Write validated measured lines as one new dataset; labels resolve to stored levels.
+
+        Each line is checked against its levels (selection rules of its multipole, Ritz
+        wavenumber; see :func:`levels.lab.store_measured_lines`); ``allow_off_ritz`` gives the
+        reason to accept lines off their Ritz wavenumbers, kept in the dataset's options.
+        """
         from levels import lab
 
         if not records:
@@ -543,12 +568,17 @@ class Catalog:
                                         description=description or f"lines imported from {source}",
                                         method="file import", sample=sample_row,
                                         options={"air_formula": air_formula})
-            count = lab.store_measured_lines(session, records, ds.id, source, air_formula)
-            derived = _rebuild_derived_lines(session, {r.spectrum for r in records}, self.actor)
+            checked: dict = {}
+            count = lab.store_measured_lines(session, records, ds.id, source, air_formula,
+                                             allow_off_ritz=allow_off_ritz, report=checked)
+            _record_off_ritz(ds, allow_off_ritz, checked, warnings, source)
+            derived = _rebuild_derived_lines(session, {r.spectrum for r in records}, self.actor,
+                                             max_lines=max_derived_lines, source=source)
             names = sorted({r.spectrum.name for r in records})
             queries.record_audit(session, "import-lines", f"dataset {ds.name}",
                                  {"source": source, "lines": count, "species": names, "sample": sample,
-                                  "derived_lines": derived}, actor=self.actor)
+                                  "derived_lines": derived, "off_ritz": checked.get("off_ritz", 0),
+                                  "allow_off_ritz": allow_off_ritz}, actor=self.actor)
             return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
                                 species=names, lines=count, warnings=list(warnings))
 
@@ -558,7 +588,8 @@ class Catalog:
                        line_records: Sequence[level_io.LineRecord], *, name: str, source: str,
                        sample: str | None = None, kind: str = "measured", citation: str = "",
                        description: str = "", air_formula: str = "iau2000",
-                       line_source: str | None = None) -> ImportReport:
+                       line_source: str | None = None, allow_off_ritz: str | None = None,
+                       max_derived_lines: int | None = None) -> ImportReport:
         """One new dataset with levels and/or measured lines, in one transaction.
 
         Line labels resolve against the store's levels with the new levels first
@@ -578,17 +609,20 @@ class Catalog:
             ds = queries.create_dataset(session, name=name, kind=kind, citation=citation, author=self.actor,
                                         description=description or f"imported from {source}", method="file import",
                                         sample=sample_row, options={"air_formula": air_formula})
-            species_ids, rows = _insert_level_records(session, level_records, ds.id)
-            count = (lab.store_measured_lines(session, line_records, ds.id, line_source or source, air_formula)
+            species_ids, n_levels = _insert_level_records(session, level_records, ds.id)
+            checked: dict = {}
+            count = (lab.store_measured_lines(session, line_records, ds.id, line_source or source, air_formula,
+                                              allow_off_ritz=allow_off_ritz, report=checked)
                      if line_records else 0)
+            _record_off_ritz(ds, allow_off_ritz, checked, [], source)
             spectra = set(species_ids) | {r.spectrum for r in line_records}
-            derived = _rebuild_derived_lines(session, spectra, self.actor)
+            derived = _rebuild_derived_lines(session, spectra, self.actor, max_lines=max_derived_lines, source=source)
             names = sorted({r.spectrum.name for r in level_records} | {r.spectrum.name for r in line_records})
             queries.record_audit(session, "import-dataset", f"dataset {ds.name}",
-                                 {"source": source, "levels": len(rows), "lines": count, "species": names,
+                                 {"source": source, "levels": n_levels, "lines": count, "species": names,
                                   "sample": sample, "derived_lines": derived}, actor=self.actor)
             return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
-                                species=names, levels=len(rows), lines=count)
+                                species=names, levels=n_levels, lines=count)
 
         return self.write(work)
 
@@ -646,8 +680,13 @@ class Catalog:
                  from_nm: float | None = None, to_nm: float | None = None, medium: str = "air",
                  instrument_fwhm_nm: float = 0.0, path_length_m: float | None = None,
                  element_density_m3: float | None = None, cutoff_method: str = "debye",
-                 datasets: Sequence[str] | None = None, grid_points: int = 20001):
-        """Relative line intensities, synthetic spectrum and lamp metrics of a discharge (see levels.emission)."""
+                 datasets: Sequence[str] | None = None, grid_points: int = 20001, **model_options):
+        """Relative line intensities, synthetic spectrum and lamp metrics of a discharge (see levels.emission).
+
+        ``model_options`` go to :func:`levels.emission.compute_emission`: ``model`` ("lte" or "cr"),
+        ``loss_rate_per_s``, ``geometry``, ``broadening``, ``perturber``, ``pressure_pa``,
+        ``cool_layer_m``, ``forbidden_omega``.
+        """
         from levels import emission
 
         emission.check_conditions(te_k, ne_m3, tgas_k)
@@ -676,7 +715,8 @@ class Catalog:
             levels=levels, lines=rows, ionization_cm1=limit.energy_cm1 if limit else None, next_ion_levels=next_ion,
             te_k=te_k, ne_m3=ne_m3, tgas_k=tgas_k, window=(from_nm, to_nm), medium=medium,
             instrument_fwhm_nm=instrument_fwhm_nm, path_length_m=path_length_m,
-            element_density_m3=element_density_m3, cutoff_method=cutoff_method, grid_points=grid_points)
+            element_density_m3=element_density_m3, cutoff_method=cutoff_method, grid_points=grid_points,
+            **model_options)
         used = {row["dataset"] for row in result.lines}
         result.conditions["datasets"] = [name for name in info["datasets"] if name in used]
         return result
@@ -684,7 +724,8 @@ class Catalog:
     def import_level_records(self, records: Sequence[level_io.LevelRecord], *, source: str,
                              sample: str | None = None, kind: str = "measured", citation: str = "",
                              description: str = "",
-                             sample_conditions: Mapping[str, object] | None = None) -> ImportReport:
+                             sample_conditions: Mapping[str, object] | None = None,
+                             max_derived_lines: int | None = None) -> ImportReport:
         """Write validated level records as one new dataset (one transaction)."""
         if kind not in ("measured", "imported"):
             raise ValueError("imports make measured or imported datasets")
@@ -703,14 +744,15 @@ class Catalog:
             ds = queries.create_dataset(session, name=dataset_name, kind=kind, citation=citation,
                                         author=self.actor, description=description or f"imported from {source}",
                                         method="file import", sample=sample_row)
-            species_ids, rows = _insert_level_records(session, records, ds.id)
-            derived = sum(_rebuild_derived_lines(session, species_ids, self.actor).values())
+            species_ids, n_levels = _insert_level_records(session, records, ds.id)
+            derived = sum(_rebuild_derived_lines(session, species_ids, self.actor, max_lines=max_derived_lines,
+                                                 source=source).values())
             names = sorted({s.name for s in species_ids})
             queries.record_audit(session, "import-levels", f"dataset {ds.name}",
-                                 {"source": source, "levels": len(rows), "species": names,
+                                 {"source": source, "levels": n_levels, "species": names,
                                   "sample": sample}, actor=self.actor)
             return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
-                                species=names, levels=len(rows), lines=derived, warnings=list(warnings))
+                                species=names, levels=n_levels, lines=derived, warnings=list(warnings))
 
         return self.write(work)
 
@@ -725,75 +767,153 @@ def derived_dataset_name(spectrum_name: str, mass_number: int) -> str:
 
 
 def _insert_level_records(session: Session, records: Sequence[level_io.LevelRecord],
-                          dataset_id: int) -> tuple[dict[Spectrum, int], list[dict]]:
-    """Insert validated levels into a dataset (species created as needed); return species ids and rows."""
+                          dataset_id: int, block: int = 20_000) -> tuple[dict[Spectrum, int], int]:
+    """Insert validated levels into a dataset (species created as needed); return species ids and the count.
+
+    Rows are built and sent to the driver a block at a time, so a file of 10^6 levels never
+    holds 10^6 row dicts besides its records.
+    """
     species_ids: dict[Spectrum, int] = {}
-    rows = []
-    for rec in records:
-        if rec.spectrum not in species_ids:
-            species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
-        rows.append(_level_insert_row(rec, dataset_id, species_ids[rec.spectrum]))
-    queries.insert_rows(session, Level, rows)
+    for start in range(0, len(records), block):
+        rows = []
+        for rec in records[start:start + block]:
+            if rec.spectrum not in species_ids:
+                species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
+            rows.append(_level_insert_row(rec, dataset_id, species_ids[rec.spectrum]))
+        queries.insert_full_rows(session, Level, rows)
     session.flush()
-    return species_ids, rows
+    return species_ids, len(records)
 
 
-def _rebuild_derived_lines(session: Session, spectra: Iterable[Spectrum], actor: str) -> dict[str, int]:
+def rebuild_derived_lines(session: Session, spectra: Iterable[Spectrum], actor: str) -> dict[str, int]:
+    """Rebuild the derived lines of the stored species among ``spectra`` in the caller's transaction."""
+    return _rebuild_derived_lines(session, spectra, actor)
+
+
+def _rebuild_derived_lines(session: Session, spectra: Iterable[Spectrum], actor: str, *,
+                           max_lines: int | None = None, source: str | None = None) -> dict[str, int]:
     """Rebuild the derived lines of each stored species among ``spectra`` (sorted, so locks come in one order)."""
     counts: dict[str, int] = {}
     for spec in sorted(set(spectra), key=lambda sp: (sp.z, sp.charge, sp.mass_number or 0)):
         species = queries.find_species(session, spec)
         if species is not None:
-            counts[species.name] = _store_derived_lines(session, species, actor)
+            counts[species.name] = _store_derived_lines(session, species, actor, max_lines=max_lines, source=source)
     return counts
 
 
-def _store_derived_lines(session: Session, species: Species, actor: str) -> int:
-    """Replace the species' derived dataset with the E1 lines its levels imply and no dataset stores.
+#: lines computed, converted and inserted per block by the derived-line rebuild
+DERIVED_BLOCK = 50_000
+#: default most derived lines one species may imply (``levels import --max-derived-lines``,
+#: or the environment variable ``LEVELS_MAX_DERIVED_LINES``); about 2.5 GB of SQLite store
+#: (~250 bytes per stored line with its indexes) and several minutes of writing at the limit
+DEFAULT_MAX_DERIVED_LINES = 10_000_000
+MAX_DERIVED_ENV = "LEVELS_MAX_DERIVED_LINES"
+RITZ_NOTE = "Ritz value of a pair with an observed line"
 
-    Runs inside the caller's transaction, so an import and its lines land together.
+
+def default_max_derived_lines() -> int:
+    """The limit of derived lines per species: ``LEVELS_MAX_DERIVED_LINES`` if set, else the default."""
+    value = os.environ.get(MAX_DERIVED_ENV, "").strip()
+    if not value:
+        return DEFAULT_MAX_DERIVED_LINES
+    try:
+        number = int(float(value))
+    except ValueError:
+        raise PhysicsInputError(f"{MAX_DERIVED_ENV}={value!r} is not a whole number of lines") from None
+    if number < 0:
+        raise PhysicsInputError(f"{MAX_DERIVED_ENV} must not be negative, got {number}")
+    return number
+
+
+def _store_derived_lines(session: Session, species: Species, actor: str, *, max_lines: int | None = None,
+                         source: str | None = None) -> int:
+    """Replace the species' derived dataset with the E1 lines its levels imply (Ritz values).
+
+    Runs inside the caller's transaction, so an import and its lines land together. The
+    dataset is found by role and species (never by name). A pair that a *computed* dataset
+    already stores (hydrogenic or rates lines) is not derived again; a pair with a
+    *measured* line keeps its Ritz line beside the observed one, noted :data:`RITZ_NOTE`.
+
+    Memory is bounded by design: levels come as numpy columns (:func:`queries.level_columns`),
+    pairs are generated, converted and inserted in blocks of :data:`DERIVED_BLOCK` lines
+    (:func:`levels.physics.combination.iter_line_blocks`, one driver executemany per block),
+    so the peak is one block (~10 MB with the driver's tuples) plus the level columns
+    (~40 bytes per level) and the stored pair keys (8 bytes per stored line), whatever the
+    number of lines.
+
+    Raises
+    ------
+    TooLargeError
+        The levels imply more lines than ``max_lines`` (default :func:`default_max_derived_lines`);
+        the message names ``source`` and the option that raises the limit.
     """
     from sqlalchemy import select
 
-    from levels.physics.combination import build_lines
+    from levels.errors import TooLargeError
+    from levels.physics import selection
+    from levels.physics.combination import iter_line_blocks
 
     # one writer per species at a time rebuilds its derived lines (row lock on PostgreSQL;
     # SQLite write transactions are serialised already)
     session.execute(select(Species.id).where(Species.id == species.id).with_for_update(key_share=True))
-    name = derived_dataset_name(species.name, species.mass_number)
     old = queries.find_computed_dataset(session, species.id, DERIVED_ROLE)
     if old is not None:
         queries.delete_dataset(session, old)
-    chosen = [d for d in queries.visible_datasets(session) if d.role != DERIVED_ROLE]
-    levels = [lv for lv in queries.levels_by_precedence(session, species, chosen) if lv.two_j is not None]
-    if len(levels) < 2:
+    chosen = [d.id for d in queries.visible_datasets(session) if d.role != DERIVED_ROLE]
+    levels = queries.level_columns(session, species.id, chosen)
+    if levels["id"].size < 2:
         return 0
-    lines = build_lines(np.array([lv.energy_cm1 for lv in levels]),
-                        np.array([np.nan if lv.unc_cm1 is None else lv.unc_cm1 for lv in levels]),
-                        np.array([lv.two_j for lv in levels]), np.array([lv.parity for lv in levels]))
-    ids = np.array([lv.id for lv in levels], dtype=np.int64)
-    have = queries.stored_pair_keys(session, species.id, [d.id for d in chosen], "E1")
-    lower_ids, upper_ids = ids[lines.lower], ids[lines.upper]
-    keep = ~np.isin(queries.pair_keys(lower_ids, upper_ids), have)
-    if not keep.any():
-        return 0
-    ds = queries.create_dataset(session, name=name, kind="computed", method=DERIVED_METHOD,
-                                role=DERIVED_ROLE, owner_species_id=species.id,
-                                method_version=f"levels {__version__}", author=actor,
-                                citation="Ritz combination of stored levels (levels.physics.combination)",
-                                description=f"E1 lines implied by the stored levels of {species.name}",
-                                options={"air_formula": "iau2000", "multipoles": ["E1"]})
-    count = int(keep.sum())
-    air = lines.air_nm[keep]
-    columns = {
-        "dataset_id": np.full(count, ds.id), "species_id": np.full(count, species.id),
-        "lower_id": lower_ids[keep], "upper_id": upper_ids[keep], "multipole": np.full(count, "E1", dtype=object),
-        "wavenumber_cm1": lines.wavenumber_cm1[keep], "vacuum_nm": lines.vacuum_nm[keep],
-        "air_nm": np.where(np.isfinite(air), air, np.nan), "a_per_s": np.full(count, np.nan),
-        "f_abs": np.full(count, np.nan), "line_strength_au": np.full(count, np.nan), "unc_nm": lines.unc_nm[keep],
-    }
-    queries.insert_line_columns(session, columns, 0, count)
+    limit = default_max_derived_lines() if max_lines is None else max_lines
+    bound = selection.count_candidate_pairs(levels["two_j"], levels["parity"], ("E1",))
+    if bound > limit:
+        where = f"{source}: " if source else ""
+        raise TooLargeError(
+            f"{where}the {levels['id'].size:,} levels of {species.name} imply up to {bound:,} derived E1 lines "
+            f"(Ritz combinations), above the limit of {limit:,} (about {bound * 250 / 1e9:.1f} GB of store); "
+            f"to store them, pass --max-derived-lines {bound} to 'levels import' (or set {MAX_DERIVED_ENV}="
+            f"{bound} for every command that rebuilds them); nothing was written")
+    computed = queries.stored_pair_keys(session, species.id, chosen, "E1", observed=False)
+    observed = queries.stored_pair_keys(session, species.id, chosen, "E1", observed=True)
+    ids = levels["id"]
+    ds = None
+    count = 0
+    for block in iter_line_blocks(levels["energy_cm1"], levels["unc_cm1"], levels["two_j"], levels["parity"],
+                                  block=DERIVED_BLOCK):
+        lower_ids, upper_ids = ids[block.lower], ids[block.upper]
+        keys = queries.pair_keys(lower_ids, upper_ids)
+        keep = ~_sorted_member(keys, computed)
+        n = int(keep.sum())
+        if n == 0:
+            continue
+        if ds is None:
+            ds = queries.create_dataset(
+                session, name=derived_dataset_name(species.name, species.mass_number), kind="computed",
+                method=DERIVED_METHOD, role=DERIVED_ROLE, owner_species_id=species.id,
+                method_version=f"levels {__version__}", author=actor,
+                citation="Ritz combination of stored levels (levels.physics.combination)",
+                description=f"E1 lines implied by the stored levels of {species.name}",
+                options={"air_formula": "iau2000", "multipoles": ["E1"]})
+        air = block.air_nm[keep]
+        columns = {
+            "dataset_id": np.full(n, ds.id), "species_id": np.full(n, species.id),
+            "lower_id": lower_ids[keep], "upper_id": upper_ids[keep], "multipole": np.full(n, "E1", dtype=object),
+            "wavenumber_cm1": block.wavenumber_cm1[keep], "vacuum_nm": block.vacuum_nm[keep],
+            "air_nm": np.where(np.isfinite(air), air, np.nan), "a_per_s": np.full(n, np.nan),
+            "f_abs": np.full(n, np.nan), "line_strength_au": np.full(n, np.nan), "unc_nm": block.unc_nm[keep],
+            "note": np.where(_sorted_member(keys[keep], observed), RITZ_NOTE, "").astype(object),
+        }
+        queries.insert_line_columns(session, columns, 0, n)
+        count += n
     return count
+
+
+def _sorted_member(keys: np.ndarray, sorted_keys: np.ndarray) -> np.ndarray:
+    """``np.isin(keys, sorted_keys)`` for a sorted, unique ``sorted_keys`` (binary search, no temporary sort)."""
+    if sorted_keys.size == 0:
+        return np.zeros(keys.size, dtype=bool)
+    pos = np.searchsorted(sorted_keys, keys)
+    pos[pos == sorted_keys.size] = 0
+    return sorted_keys[pos] == keys
 
 
 def _check_line_query(query: LineQuery) -> None:
@@ -843,7 +963,13 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
 
     resolved = [lv for lv in levels if lv.two_j is not None]
     index = {lv.id: i for i, lv in enumerate(resolved)}
-    by_pair = {(ln.lower_id, ln.upper_id, ln.multipole): ln for ln in stored}
+    # several stored lines of one pair (a measured line, its derived Ritz line, computed rates): the one
+    # with rates wins, then the dataset first in precedence
+    rank = {dataset_id: i for i, dataset_id in enumerate(dataset_names)}
+    by_pair: dict[tuple, object] = {}
+    for ln in sorted(stored, key=lambda ln: (ln.a_per_s is None, rank.get(ln.dataset_id, len(rank)), ln.id),
+                     reverse=True):
+        by_pair[(ln.lower_id, ln.upper_id, ln.multipole)] = ln
     rows: list[dict] = []
     seen: set[tuple] = set()
     if resolved:
@@ -1014,6 +1140,19 @@ def _checked_columns(table, known: Sequence[str], required: Sequence[str]):
     if problems:
         raise InputFileError(problems)
     return table.rows
+
+
+def _record_off_ritz(ds: Dataset, reason: str | None, checked: Mapping, warnings: list[str], source: str) -> None:
+    """Keep the reason for accepted off-Ritz lines in the dataset's options, and say so."""
+    off = int(checked.get("off_ritz", 0) or 0)
+    if reason is None:
+        return
+    options = json.loads(ds.options_json or "{}")
+    options.update({"allow_off_ritz": reason, "off_ritz_lines": off})
+    ds.options_json = json.dumps(options, sort_keys=True)
+    if off:
+        warnings.append(f"{source}: {off} line{'s' if off != 1 else ''} off {'their' if off != 1 else 'its'} Ritz "
+                        f"wavenumber accepted ({reason}); each carries a note")
 
 
 def _refuse_reserved(name: str, source: str, line: int | None, field_name: str) -> None:

@@ -29,19 +29,37 @@ IDENTIFY_COLUMNS = ("peak_nm", "medium", "rank", "spectrum", "lower", "upper", "
 # ----------------------------------------------------------------- measured lines
 
 def store_measured_lines(session: Session, records: Sequence[io_records.LineRecord], dataset_id: int,
-                         source: str, air_formula: str = "iau2000") -> int:
-    """Resolve labels against the store's levels and write the lines (caller's transaction).
+                         source: str, air_formula: str = "iau2000", *, allow_off_ritz: str | None = None,
+                         report: dict | None = None) -> int:
+    """Resolve labels against the store's levels, check each line, write the lines (caller's transaction).
+
+    Every line is checked against its two levels: the parity and J selection rules of its
+    stated multipole (:func:`levels.physics.selection.rejection_reason`), and its vacuum
+    wavenumber against the Ritz wavenumber E_u - E_l
+    (:func:`levels.physics.combination.check_against_ritz`: refused beyond
+    :data:`~levels.physics.combination.OFF_RITZ_SIGMAS` combined standard uncertainties).
+
+    Parameters
+    ----------
+    allow_off_ritz : str, optional
+        Why lines off their Ritz wavenumbers are accepted for this file; they are then
+        written with a note, and counted in ``report["off_ritz"]``.
+    report : dict, optional
+        Filled with ``off_ritz`` (number of accepted off-Ritz lines) and ``largest_off_ritz_sigma``.
 
     Raises
     ------
     InputFileError
-        Unknown labels, an E1 claim between levels of equal parity, a lower
-        level above the upper one - every problem listed, nothing written.
+        Unknown labels, a multipole the two levels' parity or J forbid, a lower level
+        above the upper one, a line off its Ritz wavenumber (without ``allow_off_ritz``) -
+        every problem listed with file, line and field; nothing written.
     """
+    from levels.physics import combination, selection
+
     problems: list[Problem] = []
     chosen = queries.visible_datasets(session)
     by_species: dict = {}
-    rows = []
+    rows, kept, pairs = [], [], []
     for rec in records:
         if rec.spectrum not in by_species:
             species = queries.find_species(session, rec.spectrum)
@@ -77,11 +95,82 @@ def store_measured_lines(session: Session, records: Sequence[io_records.LineReco
             "unc_nm": rec.unc_nm, "observed_nm": rec.wavelength_nm, "medium": rec.medium,
             "intensity": rec.intensity, "note": rec.note,
         })
+        kept.append(rec)
+        pairs.append((lower, upper))
+    problems.extend(_selection_problems(kept, pairs, source, selection))
     if problems:
         raise InputFileError(problems)
     _fill_wavelengths(rows, air_formula)
+    problems = _ritz_problems(rows, kept, pairs, source, combination, allow_off_ritz, report)
+    if problems:
+        raise InputFileError(problems)
     queries.insert_full_rows(session, Line, rows)
     return len(rows)
+
+
+def _selection_problems(records, pairs, source: str, selection) -> list[Problem]:
+    """J rules of each line's multipole (parity is checked per line before); unresolved J is not judged."""
+    problems = []
+    for multipole in ("E1", "M1", "E2"):
+        idx = [k for k, rec in enumerate(records) if rec.multipole == multipole
+               and pairs[k][0].two_j is not None and pairs[k][1].two_j is not None]
+        if not idx:
+            continue
+        lo_j = np.array([pairs[k][0].two_j for k in idx])
+        up_j = np.array([pairs[k][1].two_j for k in idx])
+        lo_p = np.array([pairs[k][0].parity for k in idx])
+        up_p = np.array([pairs[k][1].parity for k in idx])
+        reasons = selection.rejection_reason(multipole, lo_j, lo_p, up_j, up_p)
+        for pos in np.flatnonzero(reasons != ""):
+            k = idx[int(pos)]
+            lower, upper = pairs[k]
+            others = [m for m in ("E1", "M1", "E2")
+                      if m != multipole and bool(selection.allowed(m, lower.two_j, lower.parity, upper.two_j,
+                                                                   upper.parity))]
+            hint = (f"; the levels allow {' or '.join(others)}" if others
+                    else "; no E1, M1 or E2 line joins these levels")
+            problems.append(Problem(source, records[k].line, "multipole",
+                                    f"an {multipole} line cannot join {lower.label} and {upper.label} "
+                                    f"({reasons[pos]}){hint}"))
+    return problems
+
+
+def _ritz_problems(rows, records, pairs, source: str, combination, allow_off_ritz: str | None,
+                   report: dict | None) -> list[Problem]:
+    """Each line's vacuum wavenumber against E_u - E_l of its levels (see store_measured_lines)."""
+    if not rows:
+        return []
+    sigma = np.array([r["wavenumber_cm1"] for r in rows])
+    vacuum = np.array([r["vacuum_nm"] for r in rows])
+    unc_vac = np.array([np.nan if r["unc_nm"] is None else r["unc_nm"] for r in rows], dtype=float)
+    e_lo = np.array([lo.energy_cm1 for lo, _ in pairs])
+    e_up = np.array([up.energy_cm1 for _, up in pairs])
+    u_lo = np.array([np.nan if lo.unc_cm1 is None else lo.unc_cm1 for lo, _ in pairs], dtype=float)
+    u_up = np.array([np.nan if up.unc_cm1 is None else up.unc_cm1 for _, up in pairs], dtype=float)
+    check = combination.check_against_ritz(sigma, sigma * unc_vac / vacuum, e_lo, u_lo, e_up, u_up)
+    off = np.flatnonzero(check.off)
+    if report is not None:
+        report["off_ritz"] = int(off.size)
+        spread = np.abs(check.delta_cm1[off]) / np.where(check.combined_unc_cm1[off] > 0,
+                                                          check.combined_unc_cm1[off], np.nan)
+        report["largest_off_ritz_sigma"] = float(np.nanmax(spread)) if off.size and np.isfinite(spread).any() else None
+    problems = []
+    for k in off.tolist():
+        lower, upper = pairs[k]
+        ritz_cm1 = upper.energy_cm1 - lower.energy_cm1
+        delta, unc = float(check.delta_cm1[k]), float(check.combined_unc_cm1[k])
+        sigmas = f"{abs(delta) / unc:.3g} combined standard uncertainties ({unc:.3g} cm-1)" if unc > 0 else             "with no uncertainty given"
+        text = (f"{rows[k]['observed_nm']!r} nm ({rows[k]['medium']}) is {delta:+.6g} cm-1 ({100 * delta / ritz_cm1:+.3g} %) "
+                f"from the Ritz wavenumber {ritz_cm1:.6f} cm-1 of {lower.label} - {upper.label}, {sigmas}; more than "
+                f"{combination.OFF_RITZ_SIGMAS:g} is refused")
+        if allow_off_ritz is None:
+            problems.append(Problem(source, records[k].line, "wavelength_nm",
+                                    text + "; check the identification, the medium and the levels, or import with "
+                                           "--allow-off-ritz \"<reason>\""))
+        else:
+            note = f"off its Ritz wavenumber by {delta:+.4g} cm-1 (allowed: {allow_off_ritz})"
+            rows[k]["note"] = f"{rows[k]['note']}; {note}" if rows[k]["note"] else note
+    return problems
 
 
 def _fill_wavelengths(rows: list[dict], air_formula: str) -> None:

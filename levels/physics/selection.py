@@ -47,6 +47,7 @@ __all__ = [
     "ls_flags",
     "candidate_pairs",
     "iter_candidate_pairs",
+    "count_candidate_pairs",
 ]
 
 #: Multipoles handled here; ``candidate_pairs`` reports them by their index in this tuple.
@@ -396,6 +397,52 @@ def iter_candidate_pairs(
                 if not _group_rule_ok(multipole, tj_a, p_a, tj_b, p_b):
                     continue
                 yield from _cross_pairs(idx_a, idx_b, ga == gb, en, code, chunk_size)
+
+
+def count_candidate_pairs(
+    two_j: npt.ArrayLike,
+    parity: npt.ArrayLike,
+    multipoles: Sequence[str] = ("E1",),
+) -> int:
+    """How many level pairs the parity and J rules allow (an upper bound of the lines), without building them.
+
+    Counts every pair between two allowed (parity, 2J) groups, n_a n_b for two
+    groups and n (n - 1) / 2 inside one; pairs of equal energy, which
+    :func:`iter_candidate_pairs` skips, are counted too, so this is an upper bound
+    (exact when no two levels share an energy). Cost: one sort of the levels.
+
+    Parameters
+    ----------
+    two_j, parity : array_like of int, shape (N,)
+        2J (>= 0) and parity (+1/-1) of each level.
+    multipoles : sequence of {"E1", "M1", "E2"}
+        Multipoles counted (a pair allowed for two of them counts twice).
+
+    Returns
+    -------
+    int
+        Number of allowed pairs.
+
+    Examples
+    --------
+    >>> count_candidate_pairs([1, 1, 3, 5], [1, -1, -1, 1])   # see candidate_pairs
+    3
+    """
+    tj = _two_j(two_j, "two_j").ravel()
+    par = _parity(parity, "parity").ravel()
+    if tj.size != par.size:
+        raise PhysicsInputError("two_j and parity must have the same length")
+    keys, counts = np.unique(tj.astype(np.int64) * 2 + (par > 0), return_counts=True)
+    total = 0
+    for m in tuple(multipoles):
+        _check_multipole(m)
+        for a in range(keys.size):
+            for b in range(a, keys.size):
+                if _group_rule_ok(m, int(keys[a] // 2), 1 if keys[a] % 2 else -1,
+                                  int(keys[b] // 2), 1 if keys[b] % 2 else -1):
+                    na, nb = int(counts[a]), int(counts[b])
+                    total += na * (na - 1) // 2 if a == b else na * nb
+    return total
 
 
 def _cross_pairs(idx_a, idx_b, same_group, energy, code, chunk_size):

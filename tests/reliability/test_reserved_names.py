@@ -93,9 +93,9 @@ def test_user_data_under_reserved_file_names_survives_every_rebuild(catalog, tmp
     # user datasets named by their files, one per reserved form, plus a Li I set named after Na I
     catalog.import_file(_file(tmp_path, "na-base.csv", LEVEL_HEADER, NA), dataset="na-base")
     made = []
-    for name, body in (("derived lines Na I A=23", NA.replace("17000", "17001")),
-                       ("series limit Na I A=23", NA.replace("17000", "17002")),
-                       ("hydrogenic C VI A=12", C6), ("rates Na I A=23", NA.replace("17000", "17003"))):
+    for name, body in (("derived lines Na I A=23", NA.replace("36000", "36001")),
+                       ("series limit Na I A=23", NA.replace("36000", "36002")),
+                       ("hydrogenic C VI A=12", C6), ("rates Na I A=23", NA.replace("36000", "36003"))):
         report = catalog.import_file(_file(tmp_path, name + ".csv", LEVEL_HEADER, body))
         assert report.dataset == "measured " + name and report.warnings
         made.append(report.dataset)

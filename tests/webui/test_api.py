@@ -180,7 +180,7 @@ BAD_BODIES = [
 
 def test_post_levels_and_lines_together(reader, shared):
     line = {"spectrum": "Li I", "lower": "1s2.2s 2S1/2", "upper": "1s2.2p 2P°3/2", "wavelength_nm": 670.96,
-            "medium": "air", "unc_nm": 0.002, "intensity": 100}
+            "medium": "vacuum", "unc_nm": 0.002, "intensity": 100}
     body = {**GOOD_BODY, "name": "cell-5/with-lines", "lines": [line]}
     response = reader.post("/api/v1/datasets", json=body, headers=AUTH)
     assert response.status_code == 201, response.get_json()
