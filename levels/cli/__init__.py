@@ -563,55 +563,77 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, candid
 @click.option("--te", required=True, metavar="TEMPERATURE", help="Electron (excitation) temperature: 1.0eV or 11600K.")
 @click.option("--ne", required=True, metavar="DENSITY", help="Electron density: 1e18m-3 or 1e12cm-3.")
 @click.option("--tgas", default="300K", show_default=True, metavar="TEMPERATURE", help="Gas temperature (Doppler width).")
+@click.option("--model", type=click.Choice(["lte", "cr"]), default="lte", show_default=True,
+              help="Populations: lte (Boltzmann-Saha at Te) or cr (collisional-radiative steady state).")
 @click.option("--from", "from_", metavar="WAVELENGTH", help="Window start (e.g. 380nm).")
 @click.option("--to", metavar="WAVELENGTH", help="Window end (e.g. 780nm).")
 @click.option("--medium", type=click.Choice(["air", "vacuum"]), default="air", show_default=True)
 @click.option("--instrument-fwhm", default="0nm", show_default=True, metavar="WAVELENGTH",
               help="Gaussian instrument profile FWHM.")
-@click.option("--path-length", metavar="LENGTH", help="Uniform slab thickness for the resonance-line escape factor (e.g. 0.01m).")
+@click.option("--length", "--path-length", "path_length", metavar="LENGTH",
+              help="Plasma depth (slab thickness or cylinder radius) for escape factors and self-absorption (e.g. 0.01m).")
+@click.option("--geometry", type=click.Choice(["slab", "cylinder"]), default="slab", show_default=True,
+              help="Shape of the plasma for the escape factors of --model cr.")
+@click.option("--loss-rate", metavar="RATE", default="0", show_default=True,
+              help="Loss of metastable levels to walls or by diffusion, s-1 (--model cr).")
+@click.option("--forbidden-omega", type=float, default=None, metavar="OMEGA",
+              help="Collision strength of transitions without an f value (--model cr; default 0.1).")
+@click.option("--broadening", type=click.Choice(["thermal", "pressure"]), default="thermal", show_default=True,
+              help="thermal: Doppler and natural widths; pressure: also Stark and resonance widths.")
+@click.option("--perturber", default=None, metavar="GAS",
+              help="Foreign gas for van der Waals broadening (with --pressure): He, Ne, Ar, Kr, Xe, H2, N2, Hg.")
+@click.option("--pressure", metavar="PRESSURE", help="Pressure of the perturber gas (e.g. 1bar, 20kPa, 760Torr).")
+@click.option("--cool-layer", metavar="LENGTH",
+              help="Outer layer of ground-state atoms at the gas temperature that absorbs (self-reversal), with --length.")
 @click.option("--element-density", metavar="DENSITY", help="Density of the element, all charge states (default: ne).")
 @click.option("--cutoff", "cutoff_method", type=click.Choice(["debye", "inglis-teller", "none"]), default="debye",
               show_default=True, help="Partition-function cutoff.")
-@click.option("--top", type=click.IntRange(min=0), default=15, show_default=True, help="Lines printed in the table.")
+@click.option("--top", type=int, default=15, show_default=True, help="Lines printed in the table.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json", "csv", "ecsv"]), default="table", show_default=True)
 @click.option("--output", type=click.Path(dir_okay=False), help="Write the line list (csv/ecsv/json) to this file.")
 @click.option("--plot", type=click.Path(dir_okay=False), help="Write an interactive spectrum (HTML) to this file.")
 @click.option("--spectrum", "spectrum_file", type=click.Path(dir_okay=False), help="Write the sampled spectrum (CSV).")
-@click.option("--points", type=click.IntRange(2, 10_000_001), default=20001, show_default=True, help="Points of the sampled spectrum.")
+@click.option("--points", type=int, default=20001, show_default=True, help="Points of the sampled spectrum.")
 @click.pass_obj
 @reports_errors
-def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: str | None, to: str | None, medium: str,
-             instrument_fwhm: str, path_length: str | None, element_density: str | None, cutoff_method: str,
-             top: int, fmt: str, output: str | None, plot: str | None, spectrum_file: str | None,
-             points: int) -> None:
+def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: str, from_: str | None, to: str | None,
+             medium: str, instrument_fwhm: str, path_length: str | None, geometry: str, loss_rate: str,
+             forbidden_omega: float | None, broadening: str, perturber: str | None, pressure: str | None,
+             cool_layer: str | None, element_density: str | None, cutoff_method: str, top: int, fmt: str,
+             output: str | None, plot: str | None, spectrum_file: str | None, points: int) -> None:
     """Predicted emission of SPECTRUM in a discharge: line intensities, spectrum, colour, UV shares.
 
-    Populations follow Boltzmann at the electron temperature and Saha with the
-    next ion (LTE); lines are optically thin unless --path-length is given.
-    rel_intensity is each line's power relative to the strongest in the window;
-    photon_share its fraction of the photons emitted in the window.
+    --model lte (default): populations follow Boltzmann at the electron
+    temperature and Saha with the next ion. --model cr: the collisional-radiative
+    steady state (electron collisions, radiative decay with escape factors over
+    --length, recombination, metastable --loss-rate); it needs the species'
+    oscillator strengths and ionization energy. Either way the report gives
+    McWhirter's LTE criterion and whether it holds. Lines are optically thin
+    unless --length is given. rel_intensity is each line's power relative to the
+    strongest in the window; photon_share its fraction of the photons emitted in
+    the window.
 
     \b
-    Example:
+    Examples:
       levels emission "H I" --te 1.0eV --ne 1e19m-3 --tgas 600K --from 380nm --to 700nm --plot h.html
+      levels emission "H I" --te 1eV --ne 1e17m-3 --model cr --length 0.01m --loss-rate 1e4 --format json
     """
     from levels.catalog import EMISSION_COLUMNS, LINE_HEADINGS, LINE_UNITS
     from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 
-    require_existing_store(obj)
-    output_path(output)
-    output_path(plot, "--plot")
-    output_path(spectrum_file, "--spectrum")
-    from_nm, to_nm = _window(from_, to)
     result = obj.catalog.emission(
         spectrum, te_k=temperature_k(te), ne_m3=density_m3(ne), tgas_k=temperature_k(tgas),
-        from_nm=from_nm, to_nm=to_nm, medium=medium,
+        from_nm=_wavelength_option(from_, "--from"), to_nm=_wavelength_option(to, "--to"), medium=medium,
         instrument_fwhm_nm=wavelength_nm(instrument_fwhm) if instrument_fwhm.strip() not in ("0", "0nm") else 0.0,
         path_length_m=parse_quantity(path_length, "length") if path_length else None,
         element_density_m3=density_m3(element_density) if element_density else None, cutoff_method=cutoff_method,
-        grid_points=points)
+        grid_points=points, model=model, loss_rate_per_s=_rate_option(loss_rate, "--loss-rate"), geometry=geometry,
+        broadening=broadening, perturber=perturber,
+        pressure_pa=parse_quantity(pressure, "pressure") if pressure else None,
+        cool_layer_m=parse_quantity(cool_layer, "length") if cool_layer else None, forbidden_omega=forbidden_omega)
     provenance = obj.catalog.provenance(
-        f"emission {spectrum}; te {te}; ne {ne}; tgas {tgas}; window {from_ or '-'}..{to or '-'} {medium}",
+        f"emission {spectrum}; model {model}; te {te}; ne {ne}; tgas {tgas}; window {from_ or '-'}..{to or '-'} "
+        f"{medium}; length {path_length or 'none (optically thin)'}",
         result.conditions["datasets"], model=result.conditions["model"], cutoff=result.conditions["cutoff"])
     if result.warnings and any(w.startswith("CAUTION") for w in result.warnings):
         provenance["caution"] = result.warnings[0]
@@ -624,7 +646,6 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: st
         units = dict(LINE_UNITS)
         text = format_table(result.lines, EMISSION_COLUMNS, "csv" if fmt == "table" else fmt, provenance, units=units)
         if output:
-            output_path(output)
             write_atomic(output, text)
             click.echo(f"wrote {len(result.lines)} lines to {output}", err=True)
         else:
@@ -633,6 +654,8 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: st
         c = result.conditions
         click.echo(f"{spectrum}: Te {c['te_k']:.0f} K, ne {c['ne_m3']:.3g} m-3, Tgas {c['tgas_k']:.0f} K; "
                    f"{len(result.lines)} lines with known A in the window")
+        click.echo(f"model: {model} - {c['model']}")
+        click.echo(f"validity: {result.validity['text']}")
         click.echo(f"cutoff: {c['cutoff']}")
         shown = result.lines[:top]
         click.echo(format_text_table(shown, ("lower", "upper", "air_nm", "vacuum_nm", "a_per_s", "rel_intensity",
@@ -641,20 +664,26 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: st
                                                "photon_share": "photon share"}), nl=False)
         m = result.metrics
         cct = "n/a (far from the Planckian locus)" if m["cct_k"] is None else f"{m['cct_k']:.0f} K, Duv {m['duv']:+.4f}"
-        click.echo(f"colour: CIE 1931 x {m['cie_x']:.4f}, y {m['cie_y']:.4f}; CIE 1976 u' {m['cie_u_prime']:.4f}, "
-                   f"v' {m['cie_v_prime']:.4f}; CCT {cct}")
+        click.echo(f"colour ({model} populations): CIE 1931 x {m['cie_x']:.4f}, y {m['cie_y']:.4f}; "
+                   f"CIE 1976 u' {m['cie_u_prime']:.4f}, v' {m['cie_v_prime']:.4f}; CCT {cct}")
         click.echo(f"luminous efficacy of radiation {m['efficacy_lm_per_w']:.1f} lm/W; power shares: "
                    f"UV-C {m['share_uv_c']:.2%}, UV-B {m['share_uv_b']:.2%}, UV-A {m['share_uv_a']:.2%}, "
                    f"visible {m['share_visible']:.2%}, IR {m['share_ir']:.2%}")
+        if model == "cr":
+            rows = [p for p in result.populations if p["departure"] is not None][:top]
+            click.echo("populations per ground-level population (lowest levels):")
+            click.echo(format_text_table(rows, ("label", "energy_cm1", "population_rel", "departure"),
+                                         headings={"label": "level", "energy_cm1": "energy [cm-1]",
+                                                   "population_rel": "n/n(ground)", "departure": "departure b"}),
+                       nl=False)
     if plot:
         from levels.figures import spectrum_figure, write_html
 
-        output_path(plot, "--plot")
-        title = f"{spectrum} at Te {result.conditions['te_k']:.0f} K, ne {result.conditions['ne_m3']:.2g} m⁻³"
+        title = (f"{spectrum} at Te {result.conditions['te_k']:.0f} K, ne {result.conditions['ne_m3']:.2g} m⁻³, "
+                 f"{model.upper()} populations")
         write_html(spectrum_figure(result.grid_nm, result.spectrum, result.lines, medium=medium, title=title), plot, title)
         click.echo(f"wrote the interactive spectrum to {plot}", err=True)
     if spectrum_file:
-        output_path(spectrum_file, "--spectrum")
         rows = [{"wavelength_nm": float(x), "spectral_radiance": float(y)} for x, y in zip(result.grid_nm, result.spectrum)]
         write_atomic(spectrum_file, format_table(rows, ("wavelength_nm", "spectral_radiance"), "csv",
                                                  {**provenance, "units": "spectral_radiance in W m-3 sr-1 nm-1; "
@@ -662,6 +691,22 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, from_: st
         click.echo(f"wrote {len(rows)} spectrum points to {spectrum_file}", err=True)
     for text in result.warnings:
         click.echo(("" if text.startswith("CAUTION") else "warning: ") + text, err=True)
+
+
+def _rate_option(text: str, name: str) -> float:
+    """A rate in s-1 from '1e4', '1e4s-1' or '1e4/s'; UnitError naming the option otherwise."""
+    from levels.errors import UnitError
+
+    raw = text.strip()
+    for suffix in ("s-1", "s^-1", "/s", "Hz"):
+        if raw.endswith(suffix):
+            raw = raw[: -len(suffix)].strip()
+            break
+    try:
+        value = float(raw)
+    except ValueError:
+        raise UnitError(f"{name}: expected a rate in s-1 such as 1e4 or 1e4s-1, got {text!r}") from None
+    return value
 
 
 @main.command()
