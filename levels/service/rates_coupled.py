@@ -60,7 +60,7 @@ def _subshells(config: Configuration) -> tuple[tuple[int, int, int], ...]:
 def _treatable(config: Configuration) -> str | None:
     """None when the method treats the configuration, else the reason."""
     shells = open_shells(_subshells(config)).shells
-    if len(shells) == 1:
+    if len(shells) == 1 and shells[0][2] in (1, 4 * shells[0][1] + 1):
         return "one open subshell: a one-valence-electron spectrum (use the single method)"
     if len(shells) > 2:
         return f"{len(shells)} open subshells; the method takes an open core plus one electron (two)"
