@@ -1,0 +1,79 @@
+"""The ``levels rates`` command (registered on :data:`levels.cli.main`); the work is in :mod:`levels.service.rates`."""
+
+from __future__ import annotations
+
+import json
+
+import click
+
+from levels.cli import Context, emit, main, output_path, reports_errors
+from levels.io.tables import format_text_table, write_atomic
+
+
+@main.command()
+@click.argument("spectrum")
+@click.option("--method", type=click.Choice(["auto", "single", "coupled"]), default="auto", show_default=True,
+              help="single: one electron outside closed shells; coupled: open core plus one electron; "
+                   "auto: per configuration.")
+@click.option("--dataset", "datasets", multiple=True, metavar="NAME",
+              help="Use the levels of these datasets, in this order of precedence (repeat the option).")
+@click.option("--format", "fmt", type=click.Choice(["table", "csv", "json"]), default="table", show_default=True)
+@click.option("--output", type=click.Path(dir_okay=False), help="Write the report (csv/json) to this file.")
+@click.option("--top", type=int, default=20, show_default=True, help="Lines printed in the table.")
+@click.pass_obj
+@reports_errors
+def rates(obj: Context, spectrum: str, method: str, datasets: tuple[str, ...], fmt: str, output: str | None,
+          top: int) -> None:
+    """Compute E1 rates (E2/M1 for metastable levels) of SPECTRUM from its stored levels.
+
+    The rates are stored as the computed dataset "rates <spectrum> A=<mass>"
+    (replaced on a re-run, in one transaction); measured A values keep
+    precedence. Afterwards 'levels lines' shows A, f and S, 'levels show' the
+    lifetimes, and 'levels emission' works for the species. The ionization
+    limit is the stored one, or one fitted here from the species' series.
+    Every rate carries a relative uncertainty (a_rel_unc); levels the method
+    cannot treat are listed as skipped, with the reason.
+
+    \b
+    Example:
+      levels rates "Na I"
+      levels rates "Li I" --method single --format json --output li-rates.json
+    """
+    from levels.service.rates import LIFETIME_COLUMNS, RATES_COLUMNS, compute_rates
+
+    output_path(output)
+    if fmt == "table" and output:
+        raise click.UsageError("--output needs --format csv or json")
+    report = compute_rates(obj.catalog, spectrum, method=method, datasets=list(datasets) or None)
+    provenance = obj.catalog.provenance(f"rates {spectrum}; method {method}", report.datasets,
+                                        computed_dataset=report.saved_as or "", ionization=report.ionization_source)
+    if fmt == "json":
+        payload = report.as_dict()
+        payload["provenance"] = provenance
+        text = json.dumps(payload, indent=1, ensure_ascii=False) + "\n"
+        if output:
+            write_atomic(output, text)
+            click.echo(f"wrote {output}", err=True)
+        else:
+            click.echo(text, nl=False)
+    elif fmt == "csv":
+        emit(report.lines, RATES_COLUMNS, "csv", provenance, output=output,
+             units={"vacuum_nm": "nm", "a_per_s": "s-1", "line_strength_au": "au"})
+    else:
+        click.echo(f"{report.spectrum}: {len(report.lines)} lines, {len(report.levels)} lifetimes, "
+                   f"{len(report.skipped)} levels skipped; method {report.method}")
+        click.echo(f"ionization limit {report.ionization_cm1:.3f} cm-1 ({report.ionization_source})")
+        click.echo(f"stored as computed dataset {report.saved_as!r}")
+        shown = sorted(report.lines, key=lambda r: -r["a_per_s"])[:top]
+        click.echo(format_text_table(shown, RATES_COLUMNS, headings={
+            "vacuum_nm": "λ vac [nm]", "a_per_s": "A [s-1]", "a_rel_unc": "rel. unc.", "f_abs": "f",
+            "line_strength_au": "S [au]"}), nl=False)
+        if len(report.lines) > top:
+            click.echo(f"... {len(report.lines) - top} weaker lines (--format csv lists all)")
+        click.echo(format_text_table(report.levels, LIFETIME_COLUMNS,
+                                     headings={"lifetime_s": "lifetime [s]", "lifetime_rel_unc": "rel. unc."}),
+                   nl=False)
+    for item in report.skipped:
+        click.echo(f"skipped {item['label']}: {item['reason']}", err=True)
+    for text in report.warnings:
+        click.echo(f"warning: {text}", err=True)
