@@ -832,6 +832,7 @@ def hydrogenic(obj: Context, spectrum: str, mass_number: int | None, n_max: int,
 # store maintenance commands (check, export-store, import-store, history, retract, restore)
 from levels.cli import store as _store_commands  # noqa: E402,F401  (registers its commands on ``main``)
 from levels.cli import spectra as _spectra_commands  # noqa: E402,F401  (peaks, calibrate, diagnose)
+from levels.cli import rates as _rates_commands  # noqa: E402,F401  (rates of many-electron species)
 
 
 def run() -> None:  # pragma: no cover - console entry for ``python -m levels``
