@@ -110,7 +110,7 @@ COLUMNS: dict[str, dict[str, Column]] = {
         "id": _ID, "name": _text(200), "kind": _text(16), "method": _text(200), "method_version": _text(64),
         "citation": _text(None, multiline=True), "author": _text(200), "description": _text(None, multiline=True),
         "options_json": _text(None, multiline=True), "created_at": _WHEN, "sample_id": _FK_NULL,
-        "retracted": _int(0, 1),
+        "retracted": _int(0, 1), "role": _text(32), "owner_species_id": _FK_NULL,
     },
     "levels": {
         "id": _ID, "dataset_id": _FK, "species_id": _FK, "label": _text(200), "configuration": _text(200),
