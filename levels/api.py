@@ -478,7 +478,8 @@ class Store:
             used = sorted({r["dataset"] for r in rows})
             without = sum(1 for r in rows if r["a_per_s"] is None)
         else:
-            rows, info = self._catalog.species_lines(query, multipoles=query.multipoles, air_formula=air_formula)
+            rows, info = self._catalog.species_lines(query, multipoles=query.multipoles or ("E1",),
+                                                     air_formula=air_formula)
             used, total, without = info["datasets"], info["total"], info["without_rates"]
         provenance = self._catalog.provenance(
             query.describe(), used, air_formula=air_formula_description(air_formula),
@@ -531,7 +532,7 @@ class Store:
         from_nm, to_nm = _window(window)
         result = self._catalog.emission(
             spectrum, te_k=te_k, ne_m3=ne_m3, tgas_k=tgas_k, from_nm=from_nm, to_nm=to_nm, medium=medium,
-            instrument_fwhm_nm=0.0 if instrument_fwhm is None else _wavelength_nm(instrument_fwhm, "instrument_fwhm"),
+            instrument_fwhm_nm=_wavelength_nm(instrument_fwhm, "instrument_fwhm") or 0.0,
             path_length_m=None if path_length is None else _quantity(path_length, "path_length", u.m, "length"),
             element_density_m3=None if element_density is None else _quantity(element_density, "element_density",
                                                                                u.m ** -3, "density"),

@@ -29,6 +29,7 @@ from collections.abc import Mapping
 from pathlib import Path
 
 from flask import Flask
+from flask.json.provider import DefaultJSONProvider
 
 from levels.catalog import Catalog
 from levels.errors import LevelsError
@@ -107,7 +108,8 @@ def create_app(config: Mapping | None = None) -> Flask:
     app = Flask(__name__, instance_path=str(Path(instance).resolve()) if instance else None,
                 instance_relative_config=True)
     _load_config(app, given)
-    app.json.sort_keys = False
+    if isinstance(app.json, DefaultJSONProvider):
+        app.json.sort_keys = False
 
     catalog = Catalog(app.config["LEVELS_DB"], actor=app.config.get("LEVELS_ACTOR") or _default_actor())
     if app.config.get("LEVELS_INIT_STORE"):

@@ -28,7 +28,6 @@ def table_download(rows: Iterable[Mapping], columns: Sequence[str], fmt: str, pr
         raise ValueError(f"unknown format {fmt!r}")
     text = format_table(rows, columns, fmt, provenance, units=units)
     response = Response(text, mimetype=MIMETYPES[fmt])
-    response.charset = "utf-8"
     response.headers["Content-Disposition"] = f'attachment; filename="{safe_filename(stem)}.{SUFFIXES[fmt]}"'
     return response
 

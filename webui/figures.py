@@ -18,6 +18,7 @@ import json
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 
@@ -296,7 +297,7 @@ def diagram_layout(layer: LevelLayer, *, ionization_cm1: float | None = None, ti
                             "showarrow": False, "font": {"color": LIMIT_COLOUR, "size": 12},
                             "text": f"ionization limit {_fmt(ionization_cm1 * scale, '.6g')} {unit_text}"})
     top = max([layer.top] + ([ionization_cm1] if ionization_cm1 else []))
-    layout = {
+    layout: dict[str, Any] = {
         "paper_bgcolor": PAPER, "plot_bgcolor": PAPER,
         "font": {"family": "DejaVu Sans, Verdana, sans-serif", "size": 12, "color": "#222"},
         "margin": {"l": 70, "r": 20, "t": 24, "b": 60},

@@ -62,7 +62,7 @@ def list_param(args: Mapping, name: str) -> list[str]:
     else:
         value = args.get(name)
         raw = [] if value is None else (list(value) if isinstance(value, (list, tuple)) else [value])
-    out = []
+    out: list[str] = []
     for item in raw:
         text = str(item).strip()
         if len(text) > MAX_PARAM_CHARS:

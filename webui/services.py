@@ -84,7 +84,7 @@ class SpeciesRef:
 
     def url_args(self) -> dict:
         """Keyword arguments of ``url_for`` for this species."""
-        out = {"spectrum": self.url_name}
+        out: dict[str, object] = {"spectrum": self.url_name}
         if self.mass_query is not None:
             out["mass_number"] = self.mass_query
         return out

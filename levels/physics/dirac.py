@@ -70,7 +70,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import asdict, dataclass
-from typing import Literal
+from typing import Literal, cast
 
 import numpy as np
 import scipy.constants as sc
@@ -554,6 +554,7 @@ def _contributions(
         bg = inv_k2l1 * (x**4 * mu3 * rho**2 / 2.0) * inv_n3
         out["recoil"] = fm1 * (mu - 1.0) - fm1**2 * (mu**2 * rho / (2.0 * (1.0 + rho))) + bg
         if corr.higher_order:
+            assert ln_k0 is not None  # need_bethe holds with recoil and higher orders
             lpos = np.maximum(lf, 1.0)
             # l >= 1 parts (zeroed for s states below and replaced by the s-state terms)
             a_n = 1.0 / (lpos * (lpos + 1.0) * (2.0 * lpos + 1.0))
@@ -811,7 +812,7 @@ def level_energies_hz(
     terms = level_contributions_hz(
         z, n, l, two_j, nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm, corrections=corrections
     )
-    return sum(terms.values())
+    return cast(np.ndarray, sum(terms.values()))
 
 
 def level_energies_cm1(

@@ -31,6 +31,7 @@ from __future__ import annotations
 
 import warnings
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 from numpy.typing import NDArray
@@ -186,7 +187,8 @@ def compute(z: int, *, nuclear_mass_u: float, n_max: int = 20, fine_structure: b
         radius, source = dirac.charge_radius_fm(z, a)
     else:
         radius, source = float(charge_radius_fm), "given by the caller"
-    kwargs = dict(nuclear_mass_u=nuclear_mass_u, charge_radius_fm=radius, corrections=corrections)
+    kwargs: dict[str, Any] = dict(nuclear_mass_u=nuclear_mass_u, charge_radius_fm=radius,
+                                  corrections=corrections)
     if fine_structure:
         absolute = dirac.level_energies_cm1(z, n, l, two_j, **kwargs)
     else:

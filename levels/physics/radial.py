@@ -633,10 +633,11 @@ def radial_dipole_array(
     >>> radial_dipole_array([2, 3], [1, 0], [1, 2], [0, 1]).round(6)
     array([1.290266, 0.938404])
     """
-    arrays = [_as_int_array(n, "n"), _as_int_array(l, "l"), _as_int_array(n2, "n2"), _as_int_array(l2, "l2")]
+    arrays: list[np.ndarray] = [_as_int_array(n, "n"), _as_int_array(l, "l"), _as_int_array(n2, "n2"),
+                                _as_int_array(l2, "l2")]
     shape = arrays[0].shape
     if any(a.shape != shape for a in arrays[1:]):
-        arrays = np.broadcast_arrays(*arrays)
+        arrays = list(np.broadcast_arrays(*arrays))
         shape = arrays[0].shape
     n_a, l_a, n_b, l_b = (a.ravel() for a in arrays)
     divisor = _check_scale(z, mass_ratio)

@@ -487,6 +487,7 @@ def make_grid(
             raise PhysicsInputError(f"step_nm must be finite and > 0, got {step_nm!r}")
         n_float = math.floor((hi - lo) / step * (1.0 + 1e-12) + 1e-9) + 1
     else:
+        assert points is not None  # exactly one of step_nm and points, checked above
         if isinstance(points, bool) or int(points) != points or points < 2:
             raise PhysicsInputError(f"points must be an integer >= 2, got {points!r}")
         n_float = int(points)

@@ -188,7 +188,7 @@ def reexpress_air(rows: list[dict], formula: str, recorded: Mapping[str, str | N
     (1.0, 656.2883)
     """
     check_air_formula(formula)
-    todo = [i for i, row in enumerate(rows) if recorded.get(row.get("dataset")) != formula]
+    todo = [i for i, row in enumerate(rows) if recorded.get(str(row.get("dataset"))) != formula]
     if not todo:
         return 0
     values = air_wavelengths([rows[i]["vacuum_nm"] for i in todo], formula)

@@ -110,7 +110,7 @@ def make_engine(url_or_path: str | os.PathLike | None, *, echo: bool = False) ->
     url = normalize_url(url_or_path)
     parsed = make_url(url)
     if parsed.get_backend_name() == "sqlite":
-        database = parsed.database
+        database = parsed.database or ""
         read_only = bool(database) and database != ":memory:" and Path(database).exists() \
             and not os.access(database, os.W_OK)
         if database and database != ":memory:" and not read_only:
@@ -314,7 +314,7 @@ def sqlite_integrity_check(engine: Engine) -> list[str]:
     """Problems reported by SQLite's own ``PRAGMA integrity_check`` and ``foreign_key_check``."""
     if not is_sqlite(engine):
         return []
-    problems = []
+    problems: list[str] = []
     with engine.connect() as connection:
         rows = [r[0] for r in connection.exec_driver_sql("PRAGMA integrity_check")]
         if rows != ["ok"]:
