@@ -10,7 +10,7 @@ import json
 from pathlib import Path
 
 from levels.catalog import Catalog
-from levels.errors import AlreadyExistsError
+from levels.errors import AlreadyExistsError, LevelsError
 
 DEMO_DIR = Path(__file__).resolve().parent.parent / "seed_data" / "demo"
 
@@ -42,6 +42,7 @@ def build_demo(catalog: Catalog, *, n_max: int = 20) -> list[str]:
         out.append("the invented sample li-cell-7 is already in the store")
     fit = catalog.fit_limit("Li I", ["ns 2S1/2", "nd 2D5/2"], n_min=4)
     out.append(f"fitted the Li I series limit: {fit['limit_cm1']:.3f} ± {fit['limit_unc_cm1']:.3f} cm-1")
+    out += _demo_rates(catalog)
     cond = lamp["conditions"]
     out += [
         "",
@@ -51,8 +52,52 @@ def build_demo(catalog: Catalog, *, n_max: int = 20) -> list[str]:
         f"--from {lamp['window']['from']} --to {lamp['window']['to']} --instrument-fwhm {lamp['instrument_fwhm']} "
         "--plot hd-lamp.html",
         "  levels lines \"He II\" --from 460nm --to 480nm",
+        "  levels rates \"Li I\" --format json --output li-rates.json",
+        "  levels emission \"Li I\" --te 0.5eV --ne 1e19m-3 --from 400nm --to 900nm --plot li-cell.html",
         "  levels optimize li-cell-7/lines",
         "  levels identify \"Li I\" seed_data/demo/peaks-li-cell.csv --tolerance 0.003nm",
         "  levels serve        (then open http://127.0.0.1:8150/)",
     ]
     return out
+
+
+def _demo_rates(catalog: Catalog) -> list[str]:
+    """Rates of the invented lithium sample, and of every other invented level sample in seed_data/demo."""
+    from levels.service.rates import compute_rates
+
+    out = []
+    report = compute_rates(catalog, "Li I")
+    out.append(f"computed rates of the invented Li I levels: {len(report.lines)} lines, {len(report.levels)} "
+               f"lifetimes ({report.method}) into {report.saved_as!r}")
+    for path in sorted(DEMO_DIR.glob("sample-*.csv")):
+        if path.name == "sample-li-cell.csv":
+            continue
+        name = f"demo/{path.stem}"
+        try:
+            imported = catalog.import_file(path, dataset=name)
+            spectra = imported.species
+            out.append(f"imported the invented sample {path.name}: {imported.levels} levels of {', '.join(spectra)}")
+        except AlreadyExistsError:
+            spectra = _species_of(catalog, name)
+            out.append(f"the invented sample {path.name} is already in the store")
+        for spectrum in spectra:
+            try:
+                other = compute_rates(catalog, spectrum)
+                out.append(f"computed rates of the invented {spectrum} levels: {len(other.lines)} lines, "
+                           f"{len(other.skipped)} levels skipped ({other.method})")
+            except LevelsError as exc:
+                out.append(f"no rates for the invented {spectrum} levels: {exc}")
+    return out
+
+
+def _species_of(catalog: Catalog, dataset: str) -> list[str]:
+    """Spectra whose levels a stored dataset holds."""
+    rows = catalog.dataset_rows()
+    names = {r["name"] for r in rows}
+    if dataset not in names:
+        return []
+    species = []
+    for row in catalog.species_rows():
+        if dataset in row["datasets"].split("; "):
+            species.append(row["spectrum"])
+    return species

@@ -182,3 +182,25 @@ def test_cli_json_report_has_the_contract_keys(sodium, store_url, tmp_path):
     assert table.exit_code == 0 and "stored as computed dataset 'rates Na I A=23'" in table.output
     csv = CliRunner().invoke(main, ["--db", store_url, "rates", "Na I", "--format", "csv"])
     assert csv.exit_code == 0 and "lower,upper,vacuum_nm,multipole,a_per_s,a_rel_unc" in csv.output
+
+
+def test_demo_computes_rates_of_its_invented_samples(catalog, tmp_path, monkeypatch):
+    import shutil
+
+    from levels import demo
+
+    # a copy of the demo folder with one more invented level sample (the Na I levels above, marked invented)
+    folder = tmp_path / "demo"
+    shutil.copytree(demo.DEMO_DIR, folder)
+    (folder / "sample-zz-extra.csv").write_text("# INVENTED test sample\n" + HEADER + NA_LEVELS, encoding="utf-8")
+    monkeypatch.setattr(demo, "DEMO_DIR", folder)
+    out = demo.build_demo(catalog, n_max=2)
+    assert any(line.startswith("computed rates of the invented Li I levels") for line in out)
+    assert any(line.startswith("computed rates of the invented Na I levels") for line in out)
+    names = {d["name"] for d in catalog.dataset_rows()}
+    assert {"rates Li I A=7", "rates Na I A=23"} <= names
+    result = catalog.emission("Li I", te_k=5800.0, ne_m3=1e19, from_nm=600.0, to_nm=720.0)
+    assert result.lines and all(r["a_per_s"] for r in result.lines)
+    again = demo.build_demo(catalog, n_max=2)   # a second run refreshes, nothing doubles
+    assert any("already in the store" in line for line in again)
+    assert len([n for n in (d["name"] for d in catalog.dataset_rows()) if n.startswith("rates ")]) == 2
