@@ -743,6 +743,8 @@ def label_pattern_to_regex(pattern: str) -> re.Pattern[str]:
         raise NotationError(f"series pattern {pattern!r} must contain 'n' for the running principal number")
     config, _, rest = pattern.strip().partition(" ")
     head, dot, last = config.rpartition(".")
+    if ")" in last:     # a parent term before the running subshell: '2p5(2P°3/2)ns'
+        head, dot, last = (head + dot + last).rpartition(")")
     if not last.startswith("n"):
         raise NotationError(f"series pattern {pattern!r}: the last subshell must start with 'n', like 'ns'")
     prefix = re.escape(head + dot) if head else r"(?:[^ ]*\.)?"

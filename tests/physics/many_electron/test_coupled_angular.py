@@ -6,7 +6,10 @@ import random
 import numpy as np
 import pytest
 from sympy import Rational
-from sympy.physics.wigner import gaunt, wigner_3j as sympy_3j, wigner_6j as sympy_6j, wigner_9j as sympy_9j
+from sympy.physics.wigner import gaunt
+from sympy.physics.wigner import wigner_3j as sympy_3j
+from sympy.physics.wigner import wigner_6j as sympy_6j
+from sympy.physics.wigner import wigner_9j as sympy_9j
 
 from levels.errors import QuantumNumberError
 from levels.physics.many_electron.angular import (

@@ -11,7 +11,8 @@ import numpy as np
 import pytest
 import sympy
 from sympy.physics.hydrogen import R_nl
-from sympy.physics.wigner import wigner_3j as sympy_3j, wigner_6j as sympy_6j
+from sympy.physics.wigner import wigner_3j as sympy_3j
+from sympy.physics.wigner import wigner_6j as sympy_6j
 
 from levels.errors import PhysicsInputError
 from levels.physics.many_electron import intermediate_coupling as ic
