@@ -540,8 +540,13 @@ def _stark_density(measured, identified, candidates, hydrogen, instrument_fwhm_n
     if ne_unc is None:
         warnings.append("the peaks file has no fwhm_unc_nm: the ne uncertainty is not known")
     lo, hi = stark.NE_RANGE_M3
-    if not lo <= ne <= hi:
-        warnings.append(f"ne {ne:.3g} m-3 lies outside {lo:.0e}..{hi:.0e} m-3, where the Stark-width fit was made")
+    if ne < lo:
+        warnings.append(f"{line} at {pk.peak_nm:.4f} nm: the Stark part of its width ({lorentz:.3g} nm) means ne "
+                        f"{ne:.2g} m-3, below the {lo:.0e} m-3 where the width fit holds: ne is left null "
+                        "(below about that value)")
+        return None, None, None
+    if ne > hi:
+        warnings.append(f"ne {ne:.3g} m-3 lies above {hi:.0e} m-3, where the Stark-width fit was made")
     method = (f"Stark width of {line} ({row['spectrum']}), Gigosos, González & Cardeñoso 2003; Lorentzian part "
               f"{lorentz:.4g} nm of the {pk.fwhm_nm:.4g} nm FWHM after removing Gaussian {gauss:.4g} nm "
               f"(Doppler at {tgas_k:.0f} K, instrument {instrument_fwhm_nm:.4g} nm)")

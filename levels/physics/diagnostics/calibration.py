@@ -283,7 +283,8 @@ def match_to_lines(peak_pixel: ArrayLike, coefficients: ArrayLike, line_nm: Arra
                    ) -> tuple[NDArray[np.intp], NDArray[np.intp]]:
     """One-to-one matches of peaks to lines under a dispersion: nearest line within tolerance.
 
-    A line claimed by several peaks goes to the nearest one.
+    A line claimed by several peaks goes to the nearest one. ``tolerance_nm`` may be one
+    value per peak; where it is wider than the smallest, the window must hold exactly one line.
 
     Returns
     -------
@@ -304,7 +305,14 @@ def match_to_lines(peak_pixel: ArrayLike, coefficients: ArrayLike, line_nm: Arra
         j, dist = np.zeros(pp.size, dtype=np.intp), np.abs(mapped - ll[0])
     else:
         j, dist = _nearest(ll[order], mapped)
-    ok = dist <= tolerance_nm
+    tol = np.broadcast_to(np.asarray(tolerance_nm, dtype=float), pp.shape)
+    ok = dist <= tol
+    widened = tol > tol.min()
+    if widened.any() and ll.size > 1:
+        # a widened window must hold one line only (else the match would be a guess)
+        lo = np.searchsorted(ll[order], mapped - tol, "left")
+        hi = np.searchsorted(ll[order], mapped + tol, "right")
+        ok &= ~widened | (hi - lo == 1)
     peaks, lines, dists = np.flatnonzero(ok), order[j[ok]], dist[ok]
     best: dict[int, tuple[float, int]] = {}
     for pi, li, d in zip(peaks.tolist(), lines.tolist(), dists.tolist()):
@@ -312,6 +320,68 @@ def match_to_lines(peak_pixel: ArrayLike, coefficients: ArrayLike, line_nm: Arra
             best[li] = (d, pi)
     pairs = sorted((pi, li) for li, (_, pi) in best.items())
     return (np.array([p for p, _ in pairs], dtype=np.intp), np.array([li for _, li in pairs], dtype=np.intp))
+
+
+def _clusters(pp, ps, ll, ls, coef, scale):
+    """Peaks (by mapped wavelength) and lines closer than ``scale`` nm merged into weighted centroids."""
+    order = np.argsort(evaluate(coef, pp))
+    mapped = evaluate(coef, pp[order])
+    groups = np.split(order, np.flatnonzero(np.diff(mapped) > scale) + 1)
+    cp = np.array([np.average(pp[g], weights=np.maximum(ps[g], 1e-300)) for g in groups])
+    cl, _, _ = merge_blends(ll, ls, scale)
+    return cp, cl
+
+
+def _stage(pp, ps, ll, ls, coef, tol, degree, clip, floor, scale=None, spread=None):
+    """One match-and-fit step on merged peaks and lines; the degree is limited by the matches."""
+    cp, cl = _clusters(pp, ps, ll, ls, coef, tol / 2.0 if scale is None else scale)
+    reach = tol if spread is None else np.maximum(tol, 4.0 * spread(cp))
+    pi, li = match_to_lines(cp, coef, cl, reach)
+    use_deg = min(degree, max(pi.size - 2, 0))
+    if use_deg < 1:
+        raise PhysicsInputError(f"only {pi.size} peaks matched lines while refining the calibration "
+                                "(check the species, the medium and the wavelength range)")
+    return fit_dispersion(cp[pi], cl[li], use_deg, clip=clip, floor_nm=floor), pi
+
+
+def prediction_sigma(fit: Dispersion) -> callable:
+    """Standard uncertainty (nm) of the fitted polynomial at any pixel, from its covariance.
+
+    Far outside the fitted pixels the uncertainty grows as the polynomial extrapolates.
+
+    Examples
+    --------
+    >>> p = np.linspace(0, 1000, 12)
+    >>> fit = fit_dispersion(p, 400 + 0.1 * p + np.random.default_rng(0).normal(0, 0.01, 12), 1)
+    >>> bool(prediction_sigma(fit)(np.array([3000.0]))[0] > prediction_sigma(fit)(np.array([500.0]))[0])
+    True
+    """
+    used = fit.used
+    p = fit.pixel[used]
+    mid, span = (p.max() + p.min()) / 2.0, (p.max() - p.min()) / 2.0 or 1.0
+    a = np.polynomial.polynomial.polyvander((p - mid) / span, fit.degree)
+    cov = np.linalg.pinv(a.T @ a) * max(fit.rms_nm, 1e-12) ** 2
+
+    def sigma(query):
+        v = np.polynomial.polynomial.polyvander((np.asarray(query, dtype=float) - mid) / span, fit.degree)
+        return np.sqrt(np.maximum(np.einsum("ij,jk,ik->i", v, cov, v), 0.0))
+
+    return sigma
+
+
+def _settle(pp, ps, ll, ls, coef, tol, degree, clip, floor):
+    """Phase A of :func:`calibrate`: fixed tolerance and merging scale, degree raised step by step."""
+    previous = -1
+    spread = None
+    for deg in list(range(1, degree + 1)) + [degree] * 10:
+        step, pi = _stage(pp, ps, ll, ls, coef, tol, deg, clip, max(floor, tol / 4.0), spread=spread)
+        coef = step.coefficients
+        if step.degree == degree:
+            if pi.size == previous:
+                break
+            previous = pi.size
+            spread = prediction_sigma(step)
+    return coef, tol
 
 
 def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: ArrayLike, line_nm: ArrayLike,
@@ -358,6 +428,19 @@ def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: Array
     if pp.size < degree + 2:
         raise PhysicsInputError(f"a degree-{degree} calibration needs at least {degree + 2} peaks; found {pp.size}")
     width_px = float(np.median(pw)) if pw.size else 1.0
+    notes = []
+    if pw.size >= degree + 4:
+        # a peak much wider than the instrument's width is an unresolved blend: no place in a calibration
+        isolated = pw <= 1.5 * width_px
+        if (~isolated).any() and isolated.sum() >= degree + 2:
+            notes.append(f"{int((~isolated).sum())} peak(s) wider than 1.5 times the median width (unresolved "
+                         "blends) were left out of the matching")
+            keep_index = np.flatnonzero(isolated)
+            pp, ps, pw = pp[isolated], ps[isolated], pw[isolated]
+        else:
+            keep_index = np.arange(pp.size)
+    else:
+        keep_index = np.arange(pp.size)
     if rough_coefficients is not None:
         coef = np.asarray(rough_coefficients, dtype=float)
         disp = float(np.polynomial.polynomial.polyval(np.median(pp), np.polynomial.polynomial.polyder(coef)))
@@ -373,33 +456,36 @@ def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: Array
     # taken as one (area- or strength-weighted); the tolerance shrinks as the fit improves
     base_tol = 0.5 * width_px * abs(disp)
     floor = 0.05 * width_px * abs(disp)
-    deg = 1
+    # phase A: at the first tolerance, with peaks and lines merged at half of it, raise the degree
+    # until the matched set settles (far clusters come in while close pairs are still one)
+    coef, tol = _settle(pp, ps, ll, ls, coef, tol, degree, clip, floor)
+    # phase B: narrow the tolerance (and the merging scale) as the residuals allow
+    spread = None
     for _ in range(30):
-        order = np.argsort(evaluate(coef, pp))
-        mapped = evaluate(coef, pp[order])
-        groups = np.split(order, np.flatnonzero(np.diff(mapped) > tol / 2.0) + 1)
-        cp = np.array([np.average(pp[g], weights=np.maximum(ps[g], 1e-300)) for g in groups])
-        cl, _, _ = merge_blends(ll, ls, tol / 2.0)
-        pi, li = match_to_lines(cp, coef, cl, tol)
-        use_deg = min(deg, max(pi.size - 2, 0))
-        if use_deg < 1:
-            raise PhysicsInputError(f"only {pi.size} peaks matched lines while refining the calibration "
-                                    "(check the species, the medium and the wavelength range)")
-        step = fit_dispersion(cp[pi], cl[li], use_deg, weights=None, clip=clip, floor_nm=max(floor, tol / 4.0))
+        step, pi = _stage(pp, ps, ll, ls, coef, tol, degree, clip, max(floor, tol / 4.0), spread=spread)
         coef = step.coefficients
+        spread = prediction_sigma(step) if step.degree == degree else None
         new_tol = max(4.0 * step.rms_nm, base_tol)
-        if use_deg >= degree and new_tol >= 0.8 * tol:
+        if new_tol >= 0.8 * tol:
             tol = new_tol
             break
-        deg = min(degree, deg + 1)
         tol = max(new_tol, tol / 2.0)
-    # final pass at the asked degree with the tightened tolerance
-    pi, li = match_to_lines(pp, coef, ll, tol)
-    if pi.size < degree + 2:
-        raise PhysicsInputError(f"only {pi.size} peaks matched lines; a degree-{degree} calibration needs "
-                                f"{degree + 2} (check the species, the medium and the wavelength range)")
-    fit = fit_dispersion(pp[pi], ll[li], degree, clip=clip, floor_nm=floor)
-    fit.peak_index, fit.line_index = pi, li
+    # final passes on the single peaks and lines, until the matched set settles
+    previous = None
+    for _ in range(5):
+        pi, li = match_to_lines(pp, coef, ll, tol)
+        if pi.size < degree + 2:
+            raise PhysicsInputError(f"only {pi.size} peaks matched lines; a degree-{degree} calibration needs "
+                                    f"{degree + 2} (check the species, the medium and the wavelength range)")
+        fit = fit_dispersion(pp[pi], ll[li], degree, clip=clip, floor_nm=floor)
+        fit.peak_index, fit.line_index = pi, li
+        coef = fit.coefficients
+        key = (tuple(pi.tolist()), tuple(li.tolist()))
+        if key == previous:
+            break
+        previous = key
+    fit.peak_index = keep_index[fit.peak_index]
+    fit.warnings.extend(notes)
     if degree and fit.used.sum() < degree + 4:
         fit.warnings.append(f"only {int(fit.used.sum())} lines fix a degree-{degree} polynomial; "
                             "its residuals say little about its accuracy between the lines")
