@@ -288,10 +288,25 @@ def line_name(ref: SpeciesRef | None) -> str | None:
     return None if ref is None else ref.name
 
 
+def line_window(ref: SpeciesRef, flt: LineFilter, limit: int | None = None, offset: int = 0,
+                order: str | None = None) -> tuple[list[dict], int]:
+    """Lines of one species under the filter, in the filter's order (or ``order``), ``limit`` from ``offset``,
+    and how many match in all: the rows ``Catalog.line_rows`` gives, from the species' line columns kept
+    per store revision (no query, no count per request)."""
+    if not ref.lines_reachable:
+        return [], 0
+    lines = read_cache().species_lines(ref.spectrum, revision())
+    keep = lines.mask(from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium, multipoles=flt.multipoles,
+                      min_a=flt.min_a)
+    return lines.line_rows(lines.page(keep, order or flt.order, offset, limit)), int(keep.sum())
+
+
 def line_page(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter, page: Page) -> tuple[list[dict], int]:
     """One page of lines matching the filter, and the total count."""
     if ref is not None and not ref.lines_reachable:
         return [], 0
+    if ref is not None and has_request_context():
+        return line_window(ref, flt, page.per, page.offset)
     return cat.line_rows(flt.query(line_name(ref), limit=page.per, offset=page.offset))
 
 
@@ -299,6 +314,8 @@ def all_lines(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter) -> list[dic
     """Every line matching the filter (for downloads)."""
     if ref is not None and not ref.lines_reachable:
         return []
+    if ref is not None and has_request_context():
+        return line_window(ref, flt)[0]
     rows, _total = cat.line_rows(flt.query(line_name(ref)))
     return rows
 

@@ -16,7 +16,7 @@ from __future__ import annotations
 import threading
 from collections import OrderedDict
 from collections.abc import Callable, Hashable, Sequence
-from dataclasses import dataclass
+from dataclasses import dataclass, field
 from typing import TYPE_CHECKING, TypeVar
 
 import numpy as np
@@ -30,6 +30,10 @@ if TYPE_CHECKING:  # the service floor does not import the old hub at run time (
     from levels.catalog import Catalog
 
 T = TypeVar("T")
+#: the keys of a stored line's row, as ``levels.store.queries.line_row`` gives them (``spectrum`` added per row)
+LINE_ROW_COLUMNS = ("id", "lower", "upper", "lower_cm1", "upper_cm1", "wavenumber_cm1", "vacuum_nm", "air_nm",
+                    "multipole", "a_per_s", "f_abs", "line_strength_au", "g_lower", "g_upper", "unc_nm", "dataset",
+                    "observed_nm", "medium", "intensity", "note", "lower_id", "upper_id")
 Revision = tuple[int, ...]
 
 
@@ -51,6 +55,7 @@ class SpeciesLines:
     spectrum: str
     columns: dict[str, np.ndarray]
     by_a: np.ndarray
+    _orders: dict = field(default_factory=dict, repr=False, compare=False)
 
     def __len__(self) -> int:
         return len(self.columns["id"])
@@ -79,6 +84,43 @@ class SpeciesLines:
     def strongest(self, keep: np.ndarray, limit: int) -> np.ndarray:
         """Indices of at most ``limit`` rows among ``keep``, largest A first."""
         return self.by_a[keep[self.by_a]][:limit]
+
+    def order(self, kind: str) -> np.ndarray:
+        """Row indices in a line-list order (the store's: ``wavelength`` by vacuum wavelength then id,
+        ``-wavelength`` reversed, ``strength`` by S and ``a`` by A, largest first, unknown last, then by
+        vacuum wavelength)."""
+        found = self._orders.get(kind)
+        if found is not None:
+            return found
+        c = self.columns
+        if kind == "wavelength":
+            found = np.lexsort((c["id"], c["vacuum_nm"]))
+        elif kind == "-wavelength":
+            found = np.lexsort((c["id"], -c["vacuum_nm"]))
+        elif kind == "strength":
+            s = c["line_strength_au"]
+            found = np.lexsort((c["vacuum_nm"], np.where(np.isnan(s), np.inf, -s)))
+        elif kind == "a":
+            found = self.by_a
+        else:
+            raise PhysicsInputError(f"order must be one of wavelength, -wavelength, strength, a; not {kind!r}")
+        self._orders[kind] = found
+        return found
+
+    def page(self, keep: np.ndarray, kind: str, offset: int = 0, limit: int | None = None) -> np.ndarray:
+        """Indices of the rows among ``keep`` in order ``kind``, from ``offset``, at most ``limit``."""
+        ordered = self.order(kind)
+        chosen = ordered[keep[ordered]]
+        stop = None if limit is None else offset + limit
+        return chosen[offset:stop]
+
+    def line_rows(self, index: np.ndarray) -> list[dict]:
+        """Rows ``index`` as the store's line-list rows (``levels.store.queries.line_row``: the
+        line-list columns, ``id``, ``observed_nm``, ``medium``, ``intensity``, ``note`` and the level ids)."""
+        rows = self.rows(index, LINE_ROW_COLUMNS)
+        for row in rows:
+            row["spectrum"] = self.spectrum
+        return rows
 
     def rows(self, index: np.ndarray, names: Sequence[str]) -> list[dict]:
         """Rows ``index`` as dicts of plain Python values (NaN becomes None)."""

@@ -15,11 +15,13 @@ from sqlalchemy.orm import Session, aliased
 
 from levels.store.schema import Level, Line
 
-#: columns of :func:`species_line_columns`, in order
+#: columns of :func:`species_line_columns`, in order (the line-list row of ``queries.line_row`` but the names)
 LINE_ARRAY_COLUMNS = ("id", "dataset_id", "lower_id", "upper_id", "multipole", "wavenumber_cm1", "vacuum_nm",
-                      "air_nm", "a_per_s", "lower", "upper", "lower_cm1", "upper_cm1")
-_FLOAT = ("wavenumber_cm1", "vacuum_nm", "air_nm", "a_per_s", "lower_cm1", "upper_cm1")
-_INT = ("id", "dataset_id", "lower_id", "upper_id")
+                      "air_nm", "a_per_s", "f_abs", "line_strength_au", "unc_nm", "observed_nm", "medium",
+                      "intensity", "note", "lower", "upper", "lower_cm1", "upper_cm1", "g_lower", "g_upper")
+_FLOAT = ("wavenumber_cm1", "vacuum_nm", "air_nm", "a_per_s", "f_abs", "line_strength_au", "unc_nm", "observed_nm",
+          "intensity", "lower_cm1", "upper_cm1")
+_INT = ("id", "dataset_id", "lower_id", "upper_id", "g_lower", "g_upper")
 
 
 def species_line_columns(session: Session, species_id: int, dataset_ids: Sequence[int]) -> dict[str, np.ndarray]:
@@ -37,14 +39,16 @@ def species_line_columns(session: Session, species_id: int, dataset_ids: Sequenc
     Returns
     -------
     dict of str to numpy.ndarray
-        :data:`LINE_ARRAY_COLUMNS`: ids (int64), ``multipole``, ``lower`` and ``upper`` level labels
-        (object), wavenumber (cm-1), vacuum and air wavelengths (nm), Einstein A (s-1) and the two
-        level energies (cm-1) as float64; ordered by line id.
+        :data:`LINE_ARRAY_COLUMNS`: ids and statistical weights (int64); ``multipole``, ``medium``,
+        ``note`` and the ``lower`` and ``upper`` level labels (object, as stored); wavenumber and level
+        energies (cm-1), wavelengths and their uncertainty (nm), Einstein A (s-1), f, S (atomic units)
+        and intensity as float64 with NaN for NULL; ordered by line id.
     """
     lower, upper = aliased(Level), aliased(Level)
     query = (select(Line.id, Line.dataset_id, Line.lower_id, Line.upper_id, Line.multipole, Line.wavenumber_cm1,
-                    Line.vacuum_nm, Line.air_nm, Line.a_per_s, lower.label, upper.label, lower.energy_cm1,
-                    upper.energy_cm1)
+                    Line.vacuum_nm, Line.air_nm, Line.a_per_s, Line.f_abs, Line.line_strength_au, Line.unc_nm,
+                    Line.observed_nm, Line.medium, Line.intensity, Line.note, lower.label, upper.label,
+                    lower.energy_cm1, upper.energy_cm1, lower.g, upper.g)
              .join(lower, lower.id == Line.lower_id).join(upper, upper.id == Line.upper_id)
              .where(Line.species_id == species_id, Line.dataset_id.in_(list(dataset_ids)))
              .order_by(Line.id))
@@ -58,6 +62,6 @@ def species_line_columns(session: Session, species_id: int, dataset_ids: Sequenc
             out[name] = np.array(values, dtype=np.int64)
         else:
             array = np.empty(len(values), dtype=object)
-            array[:] = ["" if v is None else v for v in values]
+            array[:] = list(values)
             out[name] = array
     return out

@@ -16,6 +16,7 @@ in count and time).
 from __future__ import annotations
 
 import functools
+import os
 import random
 import socket
 import subprocess
@@ -41,6 +42,10 @@ URL_NAME = "Na_I"
 LOAD_REQUESTS = 2000
 LOAD_THREADS = 4
 LOAD_SECONDS = 45.0
+#: requests of the one-client pass before the load test
+SINGLE_REQUESTS = 200
+#: the issue's bound on the diagram's p95 latency under the 4-client load, s
+DIAGRAM_P95_TARGET_S = 0.1
 
 
 def _synthetic_rows():
@@ -201,28 +206,37 @@ def bench_web_load() -> BenchResult:
         random.Random(5).shuffle(plan)
         lock = threading.Lock()
         times: dict[str, list[float]] = {"table": [], "diagram": []}
+        single: dict[str, list[float]] = {"table": [], "diagram": []}
         errors = []
-        deadline = time.perf_counter() + LOAD_SECONDS
         rng = random.Random(11)
+
+        def request(session, kind: str, into: dict[str, list[float]]) -> None:
+            if kind == "table":
+                start = rng.uniform(200, 5000)
+                target = f"{base}/api/v1/species/{URL_NAME}/lines"
+                query = {"from_nm": f"{start:.1f}", "to_nm": f"{start * 1.5:.1f}", "limit": 100,
+                         "offset": rng.randrange(0, 200)}
+            else:
+                target = f"{base}/species/{URL_NAME}/diagram.json"
+                query = {"min_a": f"{10 ** rng.uniform(2, 6):.3g}"}
+            t0 = time.perf_counter()
+            response = session.get(target, params=query, timeout=30)
+            elapsed = time.perf_counter() - t0
+            with lock:
+                (into[kind] if response.status_code == 200 else errors).append(elapsed)
+
+        # one client first (the same mix, 10 % diagrams): latency without queueing; also warms the caches
+        with requests.Session() as session:
+            for kind in plan[:SINGLE_REQUESTS]:
+                request(session, kind, single)
+        deadline = time.perf_counter() + LOAD_SECONDS
 
         def worker(items: list[str]) -> None:
             with requests.Session() as session:
                 for kind in items:
                     if time.perf_counter() > deadline:
                         return
-                    if kind == "table":
-                        start = rng.uniform(200, 5000)
-                        target = f"{base}/api/v1/species/{URL_NAME}/lines"
-                        query = {"from_nm": f"{start:.1f}", "to_nm": f"{start * 1.5:.1f}", "limit": 100,
-                                 "offset": rng.randrange(0, 200)}
-                    else:
-                        target = f"{base}/species/{URL_NAME}/diagram.json"
-                        query = {"min_a": f"{10 ** rng.uniform(2, 6):.3g}"}
-                    t0 = time.perf_counter()
-                    response = session.get(target, params=query, timeout=30)
-                    elapsed = time.perf_counter() - t0
-                    with lock:
-                        (times[kind] if response.status_code == 200 else errors).append(elapsed)
+                    request(session, kind, times)
 
         workers = [threading.Thread(target=worker, args=(plan[i::LOAD_THREADS],)) for i in range(LOAD_THREADS)]
         t_start = time.perf_counter()
@@ -239,16 +253,31 @@ def bench_web_load() -> BenchResult:
             server.kill()
             server.wait()
     done = len(times["table"]) + len(times["diagram"])
+    diagram_p95 = _percentile(times["diagram"], 0.95)
+    throughput = done / wall if wall else 0.0
+    print(f"web load: {done} of {LOAD_REQUESTS} requests in {wall:.1f} s with {LOAD_THREADS} clients, "
+          f"throughput {throughput:.1f} requests/s; diagram p95 {diagram_p95 * 1e3:.1f} ms "
+          f"(target <= {DIAGRAM_P95_TARGET_S * 1e3:.0f} ms), "
+          f"table p95 {_percentile(times['table'], 0.95) * 1e3:.1f} ms; "
+          f"one client: diagram p95 {_percentile(single['diagram'], 0.95) * 1e3:.1f} ms, "
+          f"table p95 {_percentile(single['table'], 0.95) * 1e3:.1f} ms", file=sys.stderr)
     return BenchResult(
-        name="web_load_p95", figure=_percentile(times["table"], 0.95), baseline=_percentile(times["diagram"], 0.95),
+        name="web_load_p95", figure=_percentile(times["table"], 0.95), baseline=diagram_p95,
         unit="s",
-        details={"requests_done": done, "requests_planned": LOAD_REQUESTS, "errors": len(errors),
-                 "threads": LOAD_THREADS, "wall_s": wall, "throughput_per_s": done / wall if wall else 0.0,
+        details={"requests_done": done, "requests_planned": LOAD_REQUESTS, "all_done": done == LOAD_REQUESTS,
+                 "errors": len(errors), "threads": LOAD_THREADS, "wall_s": wall, "throughput_per_s": throughput,
                  "table_requests": len(times["table"]), "diagram_requests": len(times["diagram"]),
                  "table_p50_s": _percentile(times["table"], 0.5), "table_p95_s": _percentile(times["table"], 0.95),
-                 "diagram_p50_s": _percentile(times["diagram"], 0.5),
-                 "diagram_p95_s": _percentile(times["diagram"], 0.95),
-                 "note": "figure = line-table page p95, baseline = diagram p95, both under the same mixed load"},
+                 "diagram_p50_s": _percentile(times["diagram"], 0.5), "diagram_p95_s": diagram_p95,
+                 "diagram_p95_target_s": DIAGRAM_P95_TARGET_S, "diagram_p95_met": diagram_p95 <= DIAGRAM_P95_TARGET_S,
+                 "single_client_requests": sum(len(v) for v in single.values()),
+                 "single_table_p50_s": _percentile(single["table"], 0.5),
+                 "single_table_p95_s": _percentile(single["table"], 0.95),
+                 "single_diagram_p50_s": _percentile(single["diagram"], 0.5),
+                 "single_diagram_p95_s": _percentile(single["diagram"], 0.95),
+                 "load_average_1min": os.getloadavg()[0],
+                 "note": "figure = line-table page p95, baseline = diagram p95, both under the same mixed load; "
+                         "single_* from one client before the load (same mix); the machine is shared"},
     )
 
 

@@ -367,3 +367,24 @@ def test_diagram_json_is_the_figure_of_the_rows(reader, shared):
                             title="Li I level diagram")
     assert json.loads(json.dumps(built["figure"])) == payload["figure"]
     assert payload["lines_unplaced"] == built["unplaced"]
+
+
+@pytest.mark.parametrize("filters", [
+    {}, {"order": "a"}, {"order": "strength"}, {"order": "-wavelength"},
+    {"from_nm": 300.0, "to_nm": 900.0, "medium": "air"}, {"multipoles": ("E2",), "order": "a"},
+    {"min_a": 1e5, "from_nm": 200.0, "order": "strength"},
+])
+def test_kept_line_pages_are_the_catalogs_rows(shared, filters):
+    """Pages served from the kept line columns equal Catalog.line_rows, row for row and value for value."""
+    from webui import services
+    from webui.params import LineFilter
+
+    cat = shared["catalog"]
+    flt = LineFilter(**filters)
+    with shared["app"].test_request_context("/"):
+        ref = services.resolve_species(services.catalog(), "Li_I")
+        for limit, offset in ((None, 0), (7, 0), (7, 5)):
+            got, total = services.line_window(ref, flt, limit, offset)
+            want, want_total = cat.line_rows(flt.query("Li I", limit=limit, offset=offset))
+            assert total == want_total > 0
+            assert got == want
