@@ -176,8 +176,8 @@ def coupled_rates(levels: list[LevelInput], *, ionization_cm1: float | None,
     return result
 
 
-def _group_levels(levels: list[LevelInput], result: MethodResult) -> dict[str, _Group]:
-    groups: dict[str, _Group] = {}
+def _group_levels(levels: list[LevelInput], result: MethodResult) -> dict[tuple, _Group]:
+    groups: dict[tuple, _Group] = {}
     for lv in levels:
         if lv.configuration is None or not lv.configuration.strip():
             result.skipped.append((lv.level_id, "no configuration"))
@@ -203,10 +203,13 @@ def _group_levels(levels: list[LevelInput], result: MethodResult) -> dict[str, _
         except NotationError:
             term = None
         bare = config.without_parents()
-        key = format_configuration(bare)
-        if key not in groups:
-            groups[key] = _Group(key, bare, configuration_model(open_shells(_subshells(bare))), [], [], [])
-        group = groups[key]
+        shells = open_shells(_subshells(bare))
+        # one group per configuration however it is written ('2p5.3p', '1s2.2s2.2p5.3p'): keyed by its
+        # open subshells, or by the closed subshells for a closed-shell configuration
+        identity = shells.shells or tuple(sorted(_subshells(bare)))
+        if identity not in groups:
+            groups[identity] = _Group(format_configuration(bare), bare, configuration_model(shells), [], [], [])
+        group = groups[identity]
         group.levels.append(lv)
         group.terms.append(term)
         group.parents.append(config.parents[-1][2] if config.parents else None)
@@ -221,8 +224,36 @@ def _binding(group: _Group, ionization_cm1: float) -> np.ndarray:
     return np.array([core, outer][: len(group.model.shells.shells)])
 
 
+def _drop_impossible_j(group: _Group, result: MethodResult) -> None:
+    """Skip levels whose J the configuration lacks, and every level of a J with more levels than states."""
+    keep = []
+    counts: dict[int, int] = {}
+    for lv in group.levels:
+        counts[lv.two_j] = counts.get(lv.two_j, 0) + 1
+    for index, lv in enumerate(group.levels):
+        sub = group.model.subspaces.get(lv.two_j)
+        if sub is None:
+            result.skipped.append((lv.level_id, f"configuration {group.key} has no level with J = "
+                                                f"{format_j(lv.two_j)}"))
+        elif counts[lv.two_j] > sub.basis.shape[1]:
+            result.skipped.append((lv.level_id, f"{counts[lv.two_j]} measured levels with J = {format_j(lv.two_j)} "
+                                                f"in configuration {group.key}, which has {sub.basis.shape[1]}: "
+                                                "a level is misassigned"))
+        else:
+            keep.append(index)
+    if len(keep) < len(group.levels):
+        result.warnings.append(f"coupled: configuration {group.key}: {len(group.levels) - len(keep)} level(s) left "
+                               "out, their J does not fit the configuration (see skipped)")
+    group.levels = [group.levels[i] for i in keep]
+    group.terms = [group.terms[i] for i in keep]
+    group.parents = [group.parents[i] for i in keep]
+
+
 def _fit_group(group: _Group, z: int | None, charge: int, ionization_cm1: float,
                result: MethodResult) -> dict | None:
+    _drop_impossible_j(group, result)
+    if not group.levels:
+        return None
     model = group.model
     energies = np.array([lv.energy_cm1 for lv in group.levels])
     two_j = np.array([lv.two_j for lv in group.levels])
@@ -342,6 +373,8 @@ def _lines(groups: list[_Group], ionization_cm1: float, zeta_ion: float, result:
     from levels.physics.many_electron.slater_condon import _jump  # noqa: PLC0415 (same method family)
 
     lines: list[LineRate] = []
+    incomplete: set[int] = set()
+    refused: list[str] = []
     for a_index, ga in enumerate(groups):
         for gb in groups[a_index + 1:]:
             if ga.config.parity == gb.config.parity:
@@ -361,7 +394,8 @@ def _lines(groups: list[_Group], ionization_cm1: float, zeta_ion: float, result:
                 radial = ic.coulomb_dipole_integral(nu_a, leave[1], nu_b, enter[1], zeta_ion)
                 radial_rel = _radial_sensitivity(ga, gb, leave, enter, radial, ionization_cm1, zeta_ion)
             except PhysicsInputError as exc:
-                result.warnings.append(f"coupled: no lines between {ga.key} and {gb.key}: {exc}")
+                refused.append(f"{ga.key} - {gb.key} ({exc})")
+                incomplete.update(_possible_uppers(ga, gb))
                 continue
             out_of_range = not gb.model.parameters or not ga.model.parameters
             if out_of_range:
@@ -370,8 +404,11 @@ def _lines(groups: list[_Group], ionization_cm1: float, zeta_ion: float, result:
                     f"Coulomb approximation (nu = {nu_a:.2f}, {nu_b:.2f}); their uncertainty includes "
                     f"{ic.RANGE_REL_UNC}")
             lines.extend(_pair_lines(ga, gb, radial, out_of_range, radial_rel))
+    if refused:
+        result.warnings.append("coupled: no lines between " + "; ".join(refused)
+                               + "; lifetimes of the levels that decay that way are not given")
     result.lines.extend(lines)
-    _lifetimes(lines, result)
+    _lifetimes(lines, result, incomplete)
     treated = {lv.level_id for g in groups for lv in g.levels}
     result.parameters["treated_levels"] = len(treated)
 
@@ -481,10 +518,21 @@ def _pair_lines(ga: _Group, gb: _Group, radial: float, out_of_range: bool, radia
     return rows
 
 
-def _lifetimes(lines: list[LineRate], result: MethodResult) -> None:
+def _possible_uppers(ga: _Group, gb: _Group) -> set[int]:
+    """Levels that would decay by an E1 line between the two groups (J rule and energy order)."""
+    out = set()
+    for lva in ga.levels:
+        for lvb in gb.levels:
+            if abs(lva.two_j - lvb.two_j) <= 2 and lva.two_j + lvb.two_j > 0:
+                out.add(lva.level_id if lva.energy_cm1 > lvb.energy_cm1 else lvb.level_id)
+    return out
+
+
+def _lifetimes(lines: list[LineRate], result: MethodResult, incomplete: set[int]) -> None:
     total: dict[int, float] = {}
     weighted: dict[int, float] = {}
     for line in lines:
         total[line.upper_id] = total.get(line.upper_id, 0.0) + line.a_per_s
         weighted[line.upper_id] = weighted.get(line.upper_id, 0.0) + line.a_per_s * line.a_rel_unc
-    result.lifetimes = {level: (1.0 / a, weighted[level] / a) for level, a in total.items() if a > 0}
+    result.lifetimes = {level: (1.0 / a, weighted[level] / a) for level, a in total.items()
+                        if a > 0 and level not in incomplete}

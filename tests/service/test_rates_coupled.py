@@ -66,8 +66,36 @@ def test_more_levels_of_one_j_than_the_configuration_has():
     rows = _rows(HG) + [LevelInput(20, "extra", "6s.6p", "1P°", 2, -1, 60000.0)]
     result = coupled_rates(rows, ionization_cm1=IP, spectrum="Hg I")
     reasons = dict(result.skipped)
-    assert "3 measured levels with J = 1; the configuration has 2" in reasons[3]
-    assert not any(line.upper_id == 5 for line in result.lines)
+    assert "3 measured levels with J = 1 in configuration 6s.6p, which has 2" in reasons[3]
+    assert {3, 5, 20} <= set(reasons)
+    assert not result.lines                           # only J = 0 and J = 2 remain: no E1 to 6s2 1S0
+    assert result.parameters["configurations"]["6s.6p"]["n_levels"] == 2
+
+
+def test_a_j_the_configuration_lacks_is_skipped_alone():
+    rows = _rows(HG) + [LevelInput(21, "6s.6p J=3", "6s.6p", "", 6, -1, 60000.0)]
+    result = coupled_rates(rows, ionization_cm1=IP, spectrum="Hg I")
+    assert dict(result.skipped) == {21: "configuration 6s.6p has no level with J = 3"}
+    assert len(result.lines) == 2
+
+
+def test_one_configuration_written_two_ways_is_one_group():
+    rows = _rows(HG)
+    rows[1] = LevelInput(2, "x", "[Xe].4f14.5d10.6s.6p", "3P°", 0, -1, 37645.080)
+    result = coupled_rates(rows, ionization_cm1=IP, spectrum="Hg I")
+    assert list(result.parameters["configurations"]) == ["6s2", "[Xe].4f14.5d10.6s.6p"]
+    assert result.parameters["configurations"]["[Xe].4f14.5d10.6s.6p"]["n_levels"] == 4
+
+
+def test_lifetimes_left_out_where_a_decay_channel_is_outside_the_method():
+    # Ne I 2p5 3s J = 1 levels decay to 2p6 by a core-electron jump the method refuses: no lifetime for them
+    rows = [LevelInput(1, "2p6 1S0", "2p6", "1S", 0, 1, 0.0)] + [
+        LevelInput(2 + i, f"3s {j}", "2p5.3s", "", 2 * j, -1, e) for i, (j, e) in
+        enumerate([(2, 134041.840), (1, 134459.287), (0, 134818.640), (1, 135888.717)])] + [
+        LevelInput(6, "3p 3", "2p5.3p", "", 6, 1, 149657.039)]     # Ne I levels: Kaufman & Minnhagen 1972 (from memory)
+    result = coupled_rates(rows, ionization_cm1=173929.75, spectrum="Ne I")
+    assert set(result.lifetimes) == {6}
+    assert any("lifetimes of the levels that decay that way are not given" in w for w in result.warnings)
 
 
 def test_swapped_ls_labels_are_reported_as_contradictory():
