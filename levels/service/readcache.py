@@ -165,16 +165,20 @@ class ReadCache:
     def get(self, key: Hashable, revision: Revision, build: Callable[[], T]) -> T:
         """The answer to ``key`` at ``revision``, built by ``build()`` when not kept."""
         with self._lock:
-            if revision != self._revision:
-                self._entries.clear()
-                self._revision = revision
+            if self._revision is not None and revision < self._revision:
+                stale = True  # a request that read the revision before a newer one was seen: answer, keep nothing
+            else:
+                stale = False
+                if revision != self._revision:
+                    self._entries.clear()
+                    self._revision = revision
             full = (revision, key)
             if full in self._entries:
                 self._entries.move_to_end(full)
                 return self._entries[full]  # type: ignore[return-value]
         value = build()
         with self._lock:
-            if revision == self._revision:
+            if not stale and revision == self._revision:
                 self._entries[(revision, key)] = value
                 while len(self._entries) > self.max_entries:
                     self._entries.popitem(last=False)
