@@ -478,43 +478,54 @@ def _perturbed_vectors(group: _Group) -> list[tuple[float, dict]]:
 
 
 def _pair_lines(ga: _Group, gb: _Group, radial: float, out_of_range: bool, radial_rel: float) -> list[LineRate]:
+    """E1 lines between the measured levels of two configurations, one array computation per J pair."""
     rows: list[LineRate] = []
     perturbed_a, perturbed_b = _perturbed_vectors(ga), _perturbed_vectors(gb)
-    for ia, lva in enumerate(ga.levels):
-        tja, ca = ga.fit.assignment[ia]
-        for ib, lvb in enumerate(gb.levels):
-            tjb, cb = gb.fit.assignment[ib]
-            if abs(tja - tjb) > 2 or tja + tjb == 0 or lva.energy_cm1 == lvb.energy_cm1:
+    tj_a = np.array([tj for tj, _ in ga.fit.assignment])
+    tj_b = np.array([tj for tj, _ in gb.fit.assignment])
+    col_a = np.array([c for _, c in ga.fit.assignment])
+    col_b = np.array([c for _, c in gb.fit.assignment])
+    e_a = np.array([lv.energy_cm1 for lv in ga.levels])
+    e_b = np.array([lv.energy_cm1 for lv in gb.levels])
+    for tja in np.unique(tj_a).tolist():
+        for tjb in np.unique(tj_b).tolist():
+            if abs(tja - tjb) > 2 or tja + tjb == 0:
                 continue
             kernel = _amplitude_kernel(ga, gb, tja, tjb)
             if kernel is None:
                 continue
-            va = ga.fit.eigen[tja][1][:, ca]
-            vb = gb.fit.eigen[tjb][1][:, cb]
-            amp = float(va @ kernel @ vb)
-            if abs(amp) < 1e-12:
-                continue
-            var = 0.0
+            ia, ib = np.flatnonzero(tj_a == tja), np.flatnonzero(tj_b == tjb)
+            va = ga.fit.eigen[tja][1][:, col_a[ia]]
+            vb = gb.fit.eigen[tjb][1][:, col_b[ib]]
+            amp = va.T @ kernel @ vb                                   # (levels of a, levels of b)
+            var = np.zeros_like(amp)
             for _, vectors in perturbed_a:
-                var += (float(vectors[tja][:, ca] @ kernel @ vb) - amp) ** 2
+                var += (vectors[tja][:, col_a[ia]].T @ kernel @ vb - amp) ** 2
             for _, vectors in perturbed_b:
-                var += (float(va @ kernel @ vectors[tjb][:, cb]) - amp) ** 2
-            fit_rel = min(2.0 * math.sqrt(var) / abs(amp), 10.0)
-            sub_a, sub_b = ga.model.subspaces[tja], gb.model.subspaces[tjb]
-            kernel_ls = sub_a.ls_vectors.T @ kernel @ sub_b.ls_vectors
-            contributions = np.outer(sub_a.ls_vectors.T @ va, sub_b.ls_vectors.T @ vb) * kernel_ls
-            cf = ic.cancellation_factor(contributions.ravel())
-            rel = float(ic.combine_rel_unc([fit_rel], [cf], [out_of_range], [radial_rel])[0])
-            if lva.energy_cm1 > lvb.energy_cm1:
-                upper, lower, g_u, g_l = lva, lvb, tja + 1, tjb + 1
-            else:
-                upper, lower, g_u, g_l = lvb, lva, tjb + 1, tja + 1
-            sigma = upper.energy_cm1 - lower.energy_cm1
+                var += (va.T @ kernel @ vectors[tjb][:, col_b[ib]] - amp) ** 2
+            size = np.maximum(np.abs(amp), 1e-300)
+            fit_rel = np.minimum(2.0 * np.sqrt(var) / size, 10.0)
+            # Cowan's cancellation factor over the LS contributions c_a,p c_b,q <p|C1|q>
+            ls_a, ls_b = ga.model.subspaces[tja].ls_vectors, gb.model.subspaces[tjb].ls_vectors
+            ca, cb = ls_a.T @ va, ls_b.T @ vb
+            gross = np.abs(ca).T @ np.abs(ls_a.T @ kernel @ ls_b) @ np.abs(cb)
+            cf = np.where(gross > 0, (np.abs(amp) / np.maximum(gross, 1e-300)) ** 2, 0.0)
+            rel = ic.combine_rel_unc(fit_rel, cf, np.full(amp.shape, out_of_range), radial_rel)
+            a_upper = e_a[ia][:, None] > e_b[ib][None, :]
+            sigma = np.abs(e_a[ia][:, None] - e_b[ib][None, :])
+            keep = (np.abs(amp) >= 1e-12) & (sigma > 0)
             strength = (amp * radial) ** 2
-            a_value = float(rate_physics.einstein_a(strength, sigma, g_u))
-            f_value = float(rate_physics.oscillator_strength(strength, sigma, g_l))
-            rows.append(LineRate(lower.level_id, upper.level_id, "E1", float(sigma), a_value, rel, f_value,
-                                 float(strength)))
+            g_u = np.where(a_upper, tja + 1, tjb + 1)
+            g_l = np.where(a_upper, tjb + 1, tja + 1)
+            k_a, k_b = np.nonzero(keep)
+            s_kept, sigma_kept = strength[k_a, k_b], sigma[k_a, k_b]
+            a_values = rate_physics.einstein_a(s_kept, sigma_kept, g_u[k_a, k_b])
+            f_values = rate_physics.oscillator_strength(s_kept, sigma_kept, g_l[k_a, k_b])
+            for n, (i, k) in enumerate(zip(k_a.tolist(), k_b.tolist())):
+                id_a, id_b = ga.levels[ia[i]].level_id, gb.levels[ib[k]].level_id
+                upper, lower = (id_a, id_b) if a_upper[i, k] else (id_b, id_a)
+                rows.append(LineRate(lower, upper, "E1", float(sigma_kept[n]), float(a_values[n]),
+                                     float(rel[i, k]), float(f_values[n]), float(s_kept[n])))
     return rows
 
 

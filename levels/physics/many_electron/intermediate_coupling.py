@@ -22,8 +22,8 @@ Atomic Spectra*, Cambridge University Press, 1935, chapters VI-IX):
    approximation (Bates & Damgaard 1949, Phil. Trans. R. Soc. A 242, 101; Seaton 1958,
    MNRAS 118, 504): the Coulomb function decaying at large r for the effective
    quantum number of the electron's binding energy, obtained by inward Numerov
-   integration and cut where it starts to diverge toward the origin (this module's
-   own implementation; the one-valence-electron method keeps its own).
+   integration and cut where it starts to diverge toward the origin (the functions
+   of :mod:`.coulomb_approximation`, shared with the one-valence-electron method).
 
 Uncertainty rule (``a_rel_unc``, relative, of A, f and S alike): the root sum of
 squares of
@@ -69,6 +69,7 @@ from scipy import optimize, special
 
 from levels import units
 from levels.errors import PhysicsInputError
+from levels.physics.many_electron import coulomb_approximation, numerov
 from levels.physics.many_electron.slater_condon import ConfigurationModel
 
 __all__ = [
@@ -90,6 +91,8 @@ RANGE_REL_UNC = 0.5
 #: cancellation term: CANCEL_REL_UNC / CF, capped at CANCEL_CAP
 CANCEL_REL_UNC = 0.05
 CANCEL_CAP = 3.0
+#: step of the square-root grid of the Coulomb functions, a0^(1/2)
+GRID_STEP = 0.01
 #: Rydberg constant (infinite mass), cm-1
 R_CM1 = units.R_INF / 100.0
 #: alpha^2 R, cm-1 (Landé's spin-orbit estimate)
@@ -97,31 +100,6 @@ ALPHA2_R_CM1 = units.ALPHA**2 * R_CM1
 
 
 # ----------------------------------------------------------------- radial functions
-
-@functools.lru_cache(maxsize=512)
-def _coulomb_function(nu: float, l: int, zeta: float, h: float, n_points: int) -> NDArray[np.float64]:
-    """u(r) of the Coulomb approximation on r = h, 2h, ..., normalised; zero inside the divergence."""
-    r = h * np.arange(1, n_points + 1, dtype=np.float64)
-    f = l * (l + 1) / r**2 - 2.0 * zeta / r + zeta**2 / nu**2        # u'' = f u
-    w = 1.0 - h * h * f / 12.0
-    u = np.zeros(n_points)
-    u[-1] = 1e-30
-    u[-2] = 1e-30 * math.exp(h * zeta / nu)
-    for i in range(n_points - 2, 0, -1):
-        u[i - 1] = ((12.0 - 10.0 * w[i]) * u[i] - w[i + 1] * u[i + 1]) / w[i - 1]
-        if abs(u[i - 1]) > 1e150:
-            u[i - 1:] /= 1e150
-    magnitude = np.abs(u)
-    rising = np.diff(magnitude) > 0          # |u| rises outward from the first minimum on
-    first = int(np.argmax(rising)) if rising.any() else 0
-    u[:first] = 0.0
-    norm = math.sqrt(h * float(np.sum(u * u)))
-    if not math.isfinite(norm) or norm == 0.0:
-        raise PhysicsInputError(f"Coulomb function of nu = {nu:.4g}, l = {l} vanished or overflowed")
-    u /= norm
-    tail = np.flatnonzero(np.abs(u) > 1e-3 * np.abs(u).max())[-1]
-    return u * (1.0 if u[tail] > 0 else -1.0)
-
 
 def coulomb_dipole_integral(nu_a: float, l_a: int, nu_b: float, l_b: int, zeta: float = 1.0) -> float:
     """Radial dipole integral <nu_a l_a|r|nu_b l_b> of the Coulomb approximation, Bohr radii.
@@ -152,14 +130,16 @@ def coulomb_dipole_integral(nu_a: float, l_a: int, nu_b: float, l_b: int, zeta: 
     """
     if not (nu_a > 0 and nu_b > 0 and math.isfinite(nu_a) and math.isfinite(nu_b)):
         raise PhysicsInputError("effective quantum numbers must be positive")
-    nu_max, nu_min = max(nu_a, nu_b), min(nu_a, nu_b)
-    r_max = (2.0 * nu_max**2 + 40.0 * nu_max) / zeta
-    h = min(0.01, 0.004 * nu_min**2 / zeta)
-    n_points = int(math.ceil(r_max / h))
-    ua = _coulomb_function(round(nu_a, 10), l_a, zeta, h, n_points)
-    ub = _coulomb_function(round(nu_b, 10), l_b, zeta, h, n_points)
-    r = h * np.arange(1, n_points + 1, dtype=np.float64)
-    return float(h * np.sum(ua * r * ub))
+    return float(_coulomb_dipole_cached(round(float(nu_a), 10), int(l_a), round(float(nu_b), 10), int(l_b),
+                                        float(zeta)))
+
+
+@functools.lru_cache(maxsize=1024)
+def _coulomb_dipole_cached(nu_a: float, l_a: int, nu_b: float, l_b: int, zeta: float) -> float:
+    r_max = float(numerov.outer_radius(max(nu_a, nu_b), min(l_a, l_b), zeta))
+    x = numerov.square_root_grid(1.05 * r_max, GRID_STEP)
+    chi = coulomb_approximation.coulomb_radial_functions(x, [nu_a, nu_b], [l_a, l_b], zeta)
+    return float(numerov.radial_integrals(chi[:, :1], chi[:, 1:], x, x**2)[0, 0])
 
 
 def _hydrogenic_p(n: int, l: int, z_eff: float, r: NDArray[np.float64]) -> NDArray[np.float64]:
