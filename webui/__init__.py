@@ -116,13 +116,14 @@ def create_app(config: Mapping | None = None) -> Flask:
         catalog.init()
     app.extensions["levels"] = {"catalog": catalog}
 
-    from webui import api, browse, edit, security, templating, workbench
+    from webui import analysis, api, browse, edit, security, templating, workbench
 
     security.init_app(app)
     templating.init_app(app)
     app.register_blueprint(browse.bp)
     app.register_blueprint(edit.bp)
     app.register_blueprint(workbench.bp)
+    app.register_blueprint(analysis.bp)
     app.register_blueprint(api.bp)
     security.csrf.exempt(api.bp)
     _register_cli(app)

@@ -14,7 +14,7 @@ def test_one_catalog_per_app_and_no_debug(app, store_url):
     catalog = app.extensions["levels"]["catalog"]
     assert catalog.url == store_url
     assert app.debug is False and app.config["DEBUG"] is False
-    assert set(app.blueprints) == {"browse", "workbench", "edit", "api"}
+    assert set(app.blueprints) == {"browse", "workbench", "edit", "api", "analysis"}
 
 
 @pytest.fixture
