@@ -374,7 +374,7 @@ def _lines(groups: list[_Group], ionization_cm1: float, zeta_ion: float, result:
 
     lines: list[LineRate] = []
     incomplete: set[int] = set()
-    refused: list[str] = []
+    refused: dict[str, list[str]] = {}
     for a_index, ga in enumerate(groups):
         for gb in groups[a_index + 1:]:
             if ga.config.parity == gb.config.parity:
@@ -388,13 +388,12 @@ def _lines(groups: list[_Group], ionization_cm1: float, zeta_ion: float, result:
                 nu_b = _nu(gb, enter, ionization_cm1, zeta_ion)
                 if not (_has_orbit(nu_a, leave[1]) and _has_orbit(nu_b, enter[1])):
                     raise PhysicsInputError(
-                        f"a Coulomb orbit without a classically allowed region (nu = {nu_a:.2f} for l = {leave[1]}, "
-                        f"{nu_b:.2f} for l = {enter[1]}; nu^2 must exceed l(l+1)): a core electron jumps, outside "
-                        "the Coulomb approximation")
+                        "a core electron jumps (an effective quantum number without a classically allowed Coulomb "
+                        "orbit, nu^2 <= l(l+1)), outside the Coulomb approximation")
                 radial = ic.coulomb_dipole_integral(nu_a, leave[1], nu_b, enter[1], zeta_ion)
                 radial_rel = _radial_sensitivity(ga, gb, leave, enter, radial, ionization_cm1, zeta_ion)
             except PhysicsInputError as exc:
-                refused.append(f"{ga.key} - {gb.key} ({exc})")
+                refused.setdefault(str(exc), []).append(f"{ga.key} - {gb.key}")
                 incomplete.update(_possible_uppers(ga, gb))
                 continue
             out_of_range = not gb.model.parameters or not ga.model.parameters
@@ -404,9 +403,10 @@ def _lines(groups: list[_Group], ionization_cm1: float, zeta_ion: float, result:
                     f"Coulomb approximation (nu = {nu_a:.2f}, {nu_b:.2f}); their uncertainty includes "
                     f"{ic.RANGE_REL_UNC}")
             lines.extend(_pair_lines(ga, gb, radial, out_of_range, radial_rel))
-    if refused:
-        result.warnings.append("coupled: no lines between " + "; ".join(refused)
-                               + "; lifetimes of the levels that decay that way are not given")
+    for reason, pairs in refused.items():
+        result.warnings.append(f"coupled: no lines between {', '.join(pairs)}: {reason}; lifetimes of the levels "
+                               "that decay that way are not given")
+    result.parameters["lifetime_incomplete_level_ids"] = sorted(incomplete)
     result.lines.extend(lines)
     _lifetimes(lines, result, incomplete)
     treated = {lv.level_id for g in groups for lv in g.levels}

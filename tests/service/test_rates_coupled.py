@@ -95,6 +95,7 @@ def test_lifetimes_left_out_where_a_decay_channel_is_outside_the_method():
         LevelInput(6, "3p 3", "2p5.3p", "", 6, 1, 149657.039)]     # Ne I levels: Kaufman & Minnhagen 1972 (from memory)
     result = coupled_rates(rows, ionization_cm1=173929.75, spectrum="Ne I")
     assert set(result.lifetimes) == {6}
+    assert result.parameters["lifetime_incomplete_level_ids"] == [3, 5]
     assert any("lifetimes of the levels that decay that way are not given" in w for w in result.warnings)
 
 
