@@ -2,7 +2,7 @@
 
 import pytest
 
-from levels.errors import NotFoundError, NotationError
+from levels.errors import NotationError, NotFoundError
 from levels.isotopes import default_isotope, isotope, nuclear_mass_u
 from levels.units import M_E_U
 

@@ -56,7 +56,8 @@ def main(argv: list[str] | None = None) -> int:
         entry["benchmark"] = qualified
         entry["wall_s"] = time.perf_counter() - t0
         results.append(entry)
-        target = "" if result.target is None else (f">= {result.target:g} " + ("met" if entry["meets_target"] else "NOT met"))
+        target = ("" if result.target is None
+                  else f">= {result.target:g} " + ("met" if entry["meets_target"] else "NOT met"))
         print(f"{result.name:55s} {_fmt(result.figure, result.unit):>16s} {_fmt(result.baseline, result.unit):>16s} "
               f"{result.ratio:10.3g}  {target}")
         for key, value in result.details.items():

@@ -10,6 +10,7 @@ from __future__ import annotations
 import numpy as np
 
 from levels.physics.dirac import level_energies_cm1
+
 from tests.bench.harness import BenchResult, best_time
 
 _FE56_NUCLEUS_U = 55.92068  # Fe-56 nucleus, about (only sets the recoil scale here)

@@ -14,6 +14,7 @@ import time
 import numpy as np
 
 from levels.physics.ritz import optimize_levels
+
 from tests.bench.harness import BenchResult, best_time
 
 N_LEVELS = 3000

@@ -14,6 +14,7 @@ import numpy as np
 from scipy.special import voigt_profile
 
 from levels.physics.spectrum import make_grid, synthetic_spectrum, voigt_fwhm_nm
+
 from tests.bench.harness import BenchResult, best_time
 
 N_LINES = 100_000

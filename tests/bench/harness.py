@@ -9,8 +9,8 @@ No benchmark asserts an absolute time.
 from __future__ import annotations
 
 import time
+from collections.abc import Callable
 from dataclasses import asdict, dataclass, field
-from typing import Callable
 
 
 @dataclass

@@ -118,7 +118,8 @@ def test_charge_radius_rejects_bad_nuclei(z, a):
 
 
 @pytest.mark.parametrize("z", [1, 2, 26, 92])
-@pytest.mark.parametrize(("n", "l", "two_j"), [(1, 0, 1), (2, 0, 1), (2, 1, 1), (2, 1, 3), (3, 2, 3), (3, 2, 5), (7, 4, 9)])
+@pytest.mark.parametrize(("n", "l", "two_j"),
+                         [(1, 0, 1), (2, 0, 1), (2, 1, 1), (2, 1, 3), (3, 2, 3), (3, 2, 5), (7, 4, 9)])
 def test_dirac_point_energy_matches_sympy_E_nl_dirac(z, n, l, two_j):
     # sympy.physics.hydrogen.E_nl_dirac(n, l, spin_up, Z, c): binding energy in
     # hartree, rest energy excluded, c the speed of light in atomic units; spin_up
@@ -168,7 +169,8 @@ def test_corrections_off_gives_point_dirac_energy_in_hz():
     c = sympy.Float(1.0 / ALPHA, 40)
     ref_hartree = float(E_nl_dirac(2, 1, spin_up=False, Z=6, c=c))
     ours = float(level_energies_hz(6, 2, 1, 1, nuclear_mass_u=12.0, corrections=Corrections.none()))
-    assert ours == pytest.approx(ref_hartree * 2 * sc.physical_constants["Rydberg constant times c in Hz"][0], rel=1e-12)
+    rydberg_hz = sc.physical_constants["Rydberg constant times c in Hz"][0]
+    assert ours == pytest.approx(ref_hartree * 2 * rydberg_hz, rel=1e-12)
 
 
 # ------------------------------------------------------------------------------------
@@ -369,7 +371,8 @@ def _sphere_eigenvalue(x: float, radius: float, kappa: int, bracket: tuple[float
 
 
 @pytest.mark.slow
-@pytest.mark.parametrize(("z", "n", "l", "two_j", "rel"), [(92, 1, 0, 1, 0.005), (92, 2, 1, 1, 0.03), (50, 2, 0, 1, 0.005)])
+@pytest.mark.parametrize(("z", "n", "l", "two_j", "rel"),
+                         [(92, 1, 0, 1, 0.005), (92, 2, 1, 1, 0.03), (50, 2, 0, 1, 0.005)])
 def test_finite_size_against_numerical_dirac_solution(z, n, l, two_j, rel):
     # Independent check (no published number): the eigenvalue of the Dirac equation
     # with a uniformly charged sphere, minus the point-nucleus eigenvalue, against
@@ -481,7 +484,8 @@ def test_uehling_expansion_matches_all_order_uehling_at_z1():
     x = 26 * ALPHA
     scale = ALPHA / math.pi * x**4
     wk26 = (19 / 45 - math.pi**2 / 27) * x**2 + (1 / 16 - 31 * math.pi**2 / 2880) * math.pi * x**3
-    ours26 = float(c26["vacuum_polarization"] + c26["vacuum_polarization_higher_order"]) / MEC2_HZ - scale * (wk26 + muon)
+    ours26 = (float(c26["vacuum_polarization"] + c26["vacuum_polarization_higher_order"]) / MEC2_HZ
+              - scale * (wk26 + muon))
     assert abs(ours26 - _uehling_1s_all_orders(26)) < 0.618724 * x**2 * scale
 
 

@@ -147,7 +147,8 @@ def test_hydrogen_fraction_ionized_at_10000_K():
 
 
 def test_hydrogen_half_ionized_near_9600_K_at_pe_20_pa():
-    # Carroll & Ostlie, An Introduction to Modern Astrophysics, 2nd ed. (2007), sec. 8.1 and its figure of the H ionization fraction
+    # Carroll & Ostlie, An Introduction to Modern Astrophysics, 2nd ed. (2007), sec. 8.1 and its figure of the
+    # H ionization fraction
     # (from memory): pure hydrogen with electron pressure Pe = 20 N m-2 is half ionized at
     # T ~ 9600 K; quoted to 2 significant figures, so within 50 K.
     def log_ratio(t):
@@ -278,7 +279,8 @@ def test_line_center_optical_depth_against_gaussian_written_in_sigma():
     dnu = sc.c * dlam / lam**2
     s_nu = dnu / (2 * math.sqrt(2 * math.log(2)))
     # integral over the line of the absorption coefficient recovers sigma_int f n_l (quadrature)
-    integral = quad(lambda v: math.exp(-0.5 * (v / s_nu) ** 2) / (s_nu * math.sqrt(2 * math.pi)), -10 * s_nu, 10 * s_nu)[0]
+    integral = quad(lambda v: math.exp(-0.5 * (v / s_nu) ** 2) / (s_nu * math.sqrt(2 * math.pi)),
+                    -10 * s_nu, 10 * s_nu)[0]
     assert integral == pytest.approx(1.0, rel=1e-10)
     expected = sigma_int * f * n_l * length / (s_nu * math.sqrt(2 * math.pi))
     assert float(pl.line_center_optical_depth(n_l, f, lam, dlam, length)) == pytest.approx(expected, rel=1e-12)
@@ -309,7 +311,8 @@ def test_escape_factor_slab_against_definition(tau0):
 def test_escape_factor_monochromatic_and_limits():
     # single frequency: P(T) = (1/T) int_0^1 int_0^1 (1/2)[exp(-T z/mu) + exp(-T(1-z)/mu)] dmu dz
     for t in (1e-3, 0.5, 5.0):
-        inner = lambda z: quad(lambda mu: 0.5 * (math.exp(-t * z / mu) + math.exp(-t * (1 - z) / mu)), 0, 1)[0]  # noqa: E731
+        inner = lambda z, t=t: quad(lambda mu: 0.5 * (math.exp(-t * z / mu) + math.exp(-t * (1 - z) / mu)),  # noqa: E731
+                                    0, 1)[0]
         expected = quad(inner, 0, 1, limit=200)[0]
         assert float(pl.escape_factor(t, kind="slab-monochromatic")) == pytest.approx(expected, rel=1e-7)
     assert pl.escape_factor([0.0])[0] == pytest.approx(1.0, abs=1e-12)

@@ -8,7 +8,7 @@ import subprocess
 import sys
 import warnings
 from fractions import Fraction
-from functools import lru_cache
+from functools import cache
 
 import mpmath
 import numpy as np
@@ -35,7 +35,7 @@ r = sp.Symbol("r", positive=True)
 # ----------------------------------------------------------------------------
 
 
-@lru_cache(maxsize=None)
+@cache
 def sympy_exact(n: int, l: int, n2: int, l2: int, Z: int = 1) -> float:
     """Exact int_0^oo R_nl R_n2l2 r^3 dr of sympy.physics.hydrogen.R_nl.
 

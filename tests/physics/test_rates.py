@@ -285,7 +285,8 @@ def test_sum_over_j_equals_nl_line_strength_and_rate():
         sigma = 1234.5
         A_nl = float(einstein_a(S_nl, sigma, 2 * (2 * l_u + 1)))
         for a in j_u:
-            A_j = sum(float(einstein_a(line_strength_fs(n_u, l_u, a, n_l, l_l, b, z=3, mass_ratio=0.9999), sigma, a + 1)) for b in j_l)
+            A_j = sum(float(einstein_a(line_strength_fs(n_u, l_u, a, n_l, l_l, b, z=3, mass_ratio=0.9999), sigma,
+                                       a + 1)) for b in j_l)
             assert A_j == pytest.approx(A_nl, rel=1e-13)
 
 
@@ -306,7 +307,8 @@ def test_driver_nl_complete_set():
     S = line_strength_nl(n[out["upper"]], l[out["upper"]], n[out["lower"]], l[out["lower"]], z=2, mass_ratio=0.99986)
     np.testing.assert_allclose(out["S"], S, rtol=1e-12)
     np.testing.assert_array_equal(out["g_upper"], 2 * (2 * l[out["upper"]] + 1))
-    np.testing.assert_allclose(out["a_per_s"], A_COEFFICIENT * out["wavenumber_cm1"] ** 3 * S / out["g_upper"], rtol=1e-13)
+    np.testing.assert_allclose(out["a_per_s"], A_COEFFICIENT * out["wavenumber_cm1"] ** 3 * S / out["g_upper"],
+                               rtol=1e-13)
     np.testing.assert_allclose(out["f_abs"], F_COEFFICIENT * out["wavenumber_cm1"] * S / out["g_lower"], rtol=1e-13)
     pairs = set(zip(out["upper"].tolist(), out["lower"].tolist()))
     assert len(pairs) == out["upper"].size

@@ -57,7 +57,8 @@ def test_bohr_series_recovers_ionization_energy(z, mass_u):
     rm = r_m(mass_u)
     n = np.arange(6, 31)
     energy, ionization = _bohr_levels(n, z, rm)
-    fit = fit_series_limit([(n, energy, np.full(n.size, 1e-4))], rydberg_cm1=rydberg_constant_cm1(mass_u), core_charge=z)
+    fit = fit_series_limit([(n, energy, np.full(n.size, 1e-4))], rydberg_cm1=rydberg_constant_cm1(mass_u),
+                           core_charge=z)
     assert abs(fit.limit_cm1 - ionization) / ionization < 1e-6
     assert abs(fit.quantum_defects[0][0]) < 1e-6
     assert fit.warnings == []

@@ -64,7 +64,8 @@ def test_voigt_fwhm_against_scipy_profile():
         fg, fl = 1.0, ratio
         s, g = fg / FWHM_PER_SIGMA, fl / 2
         half = voigt_profile(0.0, s, g) / 2
-        exact = 2 * brentq(lambda x: voigt_profile(x, s, g) - half, 0, 10 * (fg + fl), xtol=1e-14)
+        exact = 2 * brentq(lambda x, s=s, g=g, half=half: voigt_profile(x, s, g) - half, 0, 10 * (fg + fl),
+                           xtol=1e-14)
         worst = max(worst, abs(float(sp.voigt_fwhm_nm(fg, fl)) / exact - 1))
     assert worst < 2.4e-4
 
@@ -98,7 +99,7 @@ def test_window_fraction_against_quadrature():
         fv = float(sp.voigt_fwhm_nm(fg, fl))
         w = k * fv
         s, g = fg / FWHM_PER_SIGMA, fl / 2
-        tail = quad(lambda x: voigt_profile(x, s, g), w, np.inf, epsabs=0, epsrel=1e-12, limit=400)[0]
+        tail = quad(lambda x, s=s, g=g: voigt_profile(x, s, g), w, np.inf, epsabs=0, epsrel=1e-12, limit=400)[0]
         assert float(sp.window_power_fraction(w, fg, fl)) == pytest.approx(1 - 2 * tail, abs=1e-11)
 
 
