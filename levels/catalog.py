@@ -802,7 +802,7 @@ def _rebuild_derived_lines(session: Session, spectra: Iterable[Spectrum], actor:
 
 
 #: lines computed, converted and inserted per block by the derived-line rebuild
-DERIVED_BLOCK = 50_000
+DERIVED_BLOCK = 20_000
 #: default most derived lines one species may imply (``levels import --max-derived-lines``,
 #: or the environment variable ``LEVELS_MAX_DERIVED_LINES``); about 2.5 GB of SQLite store
 #: (~250 bytes per stored line with its indexes) and several minutes of writing at the limit
@@ -837,9 +837,10 @@ def _store_derived_lines(session: Session, species: Species, actor: str, *, max_
     Memory is bounded by design: levels come as numpy columns (:func:`queries.level_columns`),
     pairs are generated, converted and inserted in blocks of :data:`DERIVED_BLOCK` lines
     (:func:`levels.physics.combination.iter_line_blocks`, one driver executemany per block),
-    so the peak is one block (~10 MB with the driver's tuples) plus the level columns
-    (~40 bytes per level) and the stored pair keys (8 bytes per stored line), whatever the
-    number of lines.
+    so the peak is one block (about 0.8 kB per line while the driver's tuples exist, ~16 MB
+    for 20,000 lines) plus the level columns (~40 bytes per level), one row of pair indices
+    (16 bytes per level) and the stored pair keys (8 bytes per stored line), whatever the
+    number of lines. ``tests/bench/bench_memory.py`` measures it.
 
     Raises
     ------

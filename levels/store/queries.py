@@ -416,7 +416,7 @@ def levels_by_precedence(session: Session, species: Species, datasets: Sequence[
 
 
 def level_columns(session: Session, species_id: int, dataset_ids: Sequence[int], *,
-                  resolved_only: bool = True, batch: int = 100_000) -> dict[str, np.ndarray]:
+                  resolved_only: bool = True, batch: int = 20_000) -> dict[str, np.ndarray]:
     """The species' levels chosen by precedence, as numpy columns (no ORM objects, for 10^6 levels).
 
     Same choice as :func:`levels_by_precedence` (for each state, configuration + term + 2J,
