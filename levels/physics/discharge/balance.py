@@ -56,7 +56,7 @@ from levels.physics.discharge import excitation, hydrogen_rates, ionization, rec
 from levels.physics.discharge.common import (C2_CM_K, as_nonnegative, as_positive, check_density,
                                              check_temperature)
 
-__all__ = ["CRSpecies", "RateSet", "CRResult", "rate_coefficients", "rate_matrix", "solve_steady_state",
+__all__ = ["CRSpecies", "RateSet", "CRResult", "rate_coefficients", "rate_matrix", "scaled_system", "shell_oscillator_strengths", "solve_steady_state",
            "solve_with_trapping", "saha_boltzmann_log"]
 
 #: stop the radiation-trapping iteration when no escape factor changes by more than this (relative)
@@ -212,19 +212,26 @@ def saha_boltzmann_log(sp_: CRSpecies, te_k: float, ne_m3: float) -> NDArray[np.
     return out
 
 
-def _shell_f(sp_: CRSpecies) -> dict[tuple[int, int], float]:
-    """Absorption f of each hydrogen shell pair, from the fine-structure lines (g-weighted)."""
+def shell_oscillator_strengths(sp_: CRSpecies) -> NDArray[np.float64]:
+    """Absorption f of each pair of hydrogen shells (p < q) from the sublevel lines: F[p, q] = sum g_i f_ij / g_p.
+
+    Examples
+    --------
+    >>> s = CRSpecies([0.0, 82258.9, 82259.3], [2, 2, 4], 109678.8, 1, 1, [0, 0], [1, 2], [2e8, 2e8],
+    ...               [0.139, 0.277], shell=[1, 2, 2], hydrogen=True)
+    >>> round(float(shell_oscillator_strengths(s)[1, 2]), 3)
+    0.416
+    """
     shell = sp_.shell
-    g_shell = np.bincount(shell, weights=sp_.g)
+    top = int(shell.max()) + 1
+    g_shell = np.bincount(shell, weights=sp_.g, minlength=top)
     p = shell[sp_.lower]
     q = shell[sp_.upper]
-    keep = (p != q) & (sp_.f_abs > 0)
-    sums: dict[tuple[int, int], float] = {}
-    num = sp_.g[sp_.lower[keep]] * sp_.f_abs[keep]
-    for a, b, v in zip(p[keep].tolist(), q[keep].tolist(), num.tolist()):
-        key = (min(a, b), max(a, b))
-        sums[key] = sums.get(key, 0.0) + v
-    return {k: v / g_shell[k[0]] for k, v in sums.items()}
+    keep = (p < q) & (sp_.f_abs > 0)
+    f = np.zeros((top, top))
+    np.add.at(f, (p[keep], q[keep]), sp_.g[sp_.lower[keep]] * sp_.f_abs[keep])
+    with np.errstate(divide="ignore", invalid="ignore"):
+        return np.where(g_shell[:, None] > 0, f / np.where(g_shell > 0, g_shell, 1.0)[:, None], 0.0)
 
 
 def rate_coefficients(sp_: CRSpecies, te_k: float, *,
@@ -261,19 +268,40 @@ def rate_coefficients(sp_: CRSpecies, te_k: float, *,
     e = sp_.energy_cm1
     is_ion = sp_.core_charge > 1
     keys, rates_, source = [], [], []
-    # 1. hydrogen: every pair of levels in different shells, shell rate shared by the upper sublevels' weights
+    # 1. hydrogen: the shell-to-shell rate of Vriens & Smeets shared among sublevel pairs so that
+    #    sum_(i in p, j in q) g_i K_ij = g_p K_pq:
+    #    - from the ground and the metastable levels to every sublevel j of shell q, in proportion to g_j
+    #      (statistical sharing; these few rows stay sparse);
+    #    - between excited levels only over the pairs with an E1 line, in proportion to g_i f_ij (keeps the
+    #      matrix as sparse as the line list: thousands of levels solve in about a second)
     if sp_.hydrogen:
         shell = sp_.shell
-        fs = _shell_f(sp_)
+        f_shell = shell_oscillator_strengths(sp_)
         g_shell = np.bincount(shell, weights=sp_.g)
-        li, ui = np.nonzero(shell[:, None] < shell[None, :])
+        special = sp_.metastable()
+        special[0] = True
+        li, ui = np.nonzero(special[:, None] & (shell[:, None] < shell[None, :]))
         if li.size:
+            # each special level i of shell p gets K_pq (its shell's rate) shared among q's sublevels by g_j
             p, q = shell[li], shell[ui]
-            f = np.array([fs.get((a, b), 0.0) for a, b in zip(p.tolist(), q.tolist())]) if li.size < 2_000_000 \
-                else np.zeros(li.size)
-            k = hydrogen_rates.vriens_smeets_excitation(p, q, f, te) * sp_.g[ui] / g_shell[q]
+            k_pq = hydrogen_rates.vriens_smeets_excitation(p, q, f_shell[p, q], te)
             keys.append(li * n + ui)
-            rates_.append(k)
+            rates_.append(k_pq * sp_.g[ui] / g_shell[q])
+            source.append(np.zeros(li.size, dtype=np.int8))
+        pl_, pu_ = shell[sp_.lower], shell[sp_.upper]
+        cross = (pl_ < pu_) & (sp_.f_abs > 0) & ~special[sp_.lower]
+        if np.any(cross):
+            li, ui = sp_.lower[cross], sp_.upper[cross]
+            p, q = pl_[cross], pu_[cross]
+            f_pq = f_shell[p, q]
+            k_pq = hydrogen_rates.vriens_smeets_excitation(p, q, f_pq, te)
+            # dipole share of the non-special sublevels of shell p: sum over them of g_i f_ij
+            g_f = np.zeros(f_shell.shape)
+            np.add.at(g_f, (p, q), sp_.g[li] * sp_.f_abs[cross])
+            g_nonspecial = np.bincount(shell[~special], weights=sp_.g[~special], minlength=g_shell.size)
+            share = sp_.f_abs[cross] / np.where(g_f[p, q] > 0, g_f[p, q], 1.0)
+            keys.append(li * n + ui)
+            rates_.append(k_pq * g_nonspecial[p] * share)
             source.append(np.zeros(li.size, dtype=np.int8))
     # 2. pairs with an oscillator strength: van Regemorter
     with_f = sp_.f_abs > 0
@@ -385,8 +413,20 @@ def rate_matrix(sp_: CRSpecies, rates: RateSet, ne_m3: float, *, escape: ArrayLi
     return sp.csr_matrix((vals, (rows, cols)), shape=(size, size))
 
 
-def _scaled_system(matrix: sp.csr_matrix, log_scale: NDArray[np.float64]):
-    """Column-scale by the Saha-Boltzmann values, put n_0 = 1 in row 0, equilibrate rows."""
+def scaled_system(matrix: sp.csr_matrix, log_scale: NDArray[np.float64]):
+    """The linear system actually solved: (A, b, scale) with n = scale * solve(A, b).
+
+    Columns of the rate matrix are scaled by the Saha-Boltzmann values (``exp(log_scale)``,
+    clipped to e^+-700), row 0 is replaced by n_0 = 1, and every row is divided by its
+    largest magnitude. ``A`` is returned in CSC form for the sparse LU.
+
+    Examples
+    --------
+    >>> s = CRSpecies([0.0, 82259.0], [2, 8], 109678.8, 1, 1, [0], [1], [4.7e8], [0.42])
+    >>> a, b, scale = scaled_system(rate_matrix(s, rate_coefficients(s, 1e4), 1e20), saha_boltzmann_log(s, 1e4, 1e20))
+    >>> a.shape, float(scale[0])
+    ((3, 3), 1.0)
+    """
     scale = np.exp(np.clip(log_scale, -700.0, 700.0))
     a = (matrix @ sp.diags(scale)).tolil()
     a[0, :] = 0.0
@@ -442,7 +482,7 @@ def solve_steady_state(sp_: CRSpecies, te_k: float, ne_m3: float, *, escape: Arr
     rs = rates if rates is not None else rate_coefficients(sp_, te, forbidden_omega=forbidden_omega)
     m = rate_matrix(sp_, rs, ne, escape=escape, loss_rate_per_s=loss_rate_per_s)
     log_sb = saha_boltzmann_log(sp_, te, ne)
-    a, rhs, scale = _scaled_system(m, log_sb)
+    a, rhs, scale = scaled_system(m, log_sb)
     with np.errstate(all="ignore"):
         d = spsolve(a, rhs)
     if not np.all(np.isfinite(d)):
