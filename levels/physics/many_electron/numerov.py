@@ -45,6 +45,10 @@ square-root grid, citation from memory).
 
 from __future__ import annotations
 
+import os
+from collections.abc import Callable
+from typing import Any
+
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
@@ -65,6 +69,62 @@ __all__ = [
 _SEED = 1e-30
 #: columns are rescaled when a value grows beyond this
 _RESCALE_AT = 1e150
+
+
+def _load_jit() -> Callable[[Callable[..., Any]], Callable[..., Any]] | None:
+    """``numba.njit(cache=True)`` when numba imports and ``LEVELS_NO_JIT`` is not set, else None."""
+    if os.environ.get("LEVELS_NO_JIT", "").strip() not in ("", "0"):
+        return None
+    try:
+        import numba
+    except ImportError:  # pragma: no cover - numba is a declared dependency
+        return None
+    return numba.njit(cache=True, nogil=True)
+
+
+_JIT = _load_jit()
+#: True when the recurrences run compiled (numba, one column at a time); False: numpy over columns.
+COMPILED = _JIT is not None
+
+
+def _maybe_jit(func: Callable[..., Any]) -> Callable[..., Any]:
+    return _JIT(func) if _JIT is not None else func
+
+
+@_maybe_jit
+def _inward_columns(f_t, start, seed, limit):  # pragma: no cover - compiled
+    """Inward recurrence per column; ``f_t`` is (M, G) contiguous; returns chi as (M, G)."""
+    columns, size = f_t.shape
+    chi = np.zeros((columns, size))
+    for c in range(columns):
+        s = start[c]
+        chi[c, s] = seed
+        for i in range(s, 0, -1):
+            nxt = chi[c, i + 1] if i + 1 < size else 0.0
+            f_next = f_t[c, i + 1] if i + 1 < size else 1.0
+            value = ((12.0 - 10.0 * f_t[c, i]) * chi[c, i] - f_next * nxt) / f_t[c, i - 1]
+            chi[c, i - 1] = value
+            if abs(value) > limit:
+                for k in range(i - 1, s + 1):
+                    chi[c, k] /= limit
+    return chi
+
+
+@_maybe_jit
+def _outward_columns(f_t, first, last, limit):  # pragma: no cover - compiled
+    """Outward recurrence per column from chi[0] = first[c], chi[1] = 1 up to index ``last``."""
+    columns, size = f_t.shape
+    chi = np.zeros((columns, size))
+    for c in range(columns):
+        chi[c, 0] = first[c]
+        chi[c, 1] = 1.0
+        for i in range(1, last):
+            value = ((12.0 - 10.0 * f_t[c, i]) * chi[c, i] - f_t[c, i - 1] * chi[c, i - 1]) / f_t[c, i + 1]
+            chi[c, i + 1] = value
+            if abs(value) > limit:
+                for k in range(0, i + 2):
+                    chi[c, k] /= limit
+    return chi
 
 
 def square_root_grid(r_max: float, step: float = 0.01) -> NDArray[np.float64]:
@@ -195,6 +255,8 @@ def integrate_inward(x: NDArray[np.float64], g: NDArray[np.float64], start: Arra
     start_ = np.broadcast_to(np.asarray(start, dtype=np.int64), (columns,))
     if np.any(start_ < 1) or np.any(start_ > size - 1):
         raise PhysicsInputError("inward start index outside the grid")
+    if COMPILED:
+        return _inward_columns(np.ascontiguousarray(f.T), np.ascontiguousarray(start_), _SEED, _RESCALE_AT).T
     chi = np.zeros((size, columns))
     seeds: dict[int, NDArray[np.int64]] = {}
     for index in np.unique(start_):
@@ -245,11 +307,16 @@ def integrate_outward(x: NDArray[np.float64], g: NDArray[np.float64], l: ArrayLi
     size, columns = f.shape
     last = size - 1 if stop is None else int(stop)
     p = 2.0 * np.atleast_1d(np.asarray(l, dtype=np.float64)) + 1.5
-    chi = np.zeros((size, columns))
     # chi = x^p (1 + c x^2) near the origin, c from the constant part of g (the Coulomb singularity)
     big_a = p * (p - 1.0)
     c = (g[0] - big_a / x[0] ** 2) / (4.0 * p + 2.0)
-    chi[0] = (x[0] / x[1]) ** p * (1.0 + c * x[0] ** 2) / (1.0 + c * x[1] ** 2)
+    first = (x[0] / x[1]) ** p * (1.0 + c * x[0] ** 2) / (1.0 + c * x[1] ** 2)
+    if COMPILED:
+        first = np.ascontiguousarray(np.broadcast_to(first, (columns,)), dtype=np.float64)
+        with np.errstate(over="ignore", invalid="ignore"):
+            return _outward_columns(np.ascontiguousarray(f.T), first, last, _RESCALE_AT).T
+    chi = np.zeros((size, columns))
+    chi[0] = first
     chi[1] = 1.0
     with np.errstate(over="ignore", invalid="ignore"):
         for i in range(1, last):
@@ -356,4 +423,5 @@ def radial_integrals(chi_a: NDArray[np.float64], chi_b: NDArray[np.float64], x: 
     1.5
     """
     h = float(x[1] - x[0])
-    return (chi_a * (2.0 * h * x * x * weight)[:, None]).T @ chi_b
+    # einsum without BLAS: one thread, so a busy machine does not turn a small product into thread contention
+    return np.einsum("ga,gb->ab", chi_a * (2.0 * h * x * x * weight)[:, None], chi_b, optimize=False)
