@@ -197,3 +197,10 @@ def test_noble_gas_fit_quality_and_resonance_lines_left_out(neon):
     zeta = configs["2p5.3s"]["parameters"]["zeta_core"]["value_cm1"]
     assert 1.5 * zeta == pytest.approx(780.0, rel=0.05)
     assert any("core electron jumps" in w for w in result.warnings)
+
+
+def test_argon_core_spin_orbit_from_the_4s_fit(argon):
+    # Ar II 3p5 2P3/2 - 2P1/2 is 1431.6 cm-1 (from memory); the 4s fit's core spin-orbit gives 3/2 zeta
+    _, _, result = argon
+    zeta = result.parameters["configurations"]["3p5.4s"]["parameters"]["zeta_core"]["value_cm1"]
+    assert 1.5 * zeta == pytest.approx(1431.6, rel=0.05)
