@@ -51,6 +51,7 @@ print("# Sample 'ne-glow-3': a neon glow-discharge tube of the fictional Brightw
 print("# the project's own open-core-plus-one-electron model with invented parameters and invented noise")
 print("# (seed_data/demo/generate_ne_glow.py); jK (Racah) labels, parent term in the configuration.")
 print("# Caution: glow-discharge tubes run at high voltage; follow local electrical codes and licensed practice.")
+print('# Series limit for rates: levels limit "Ne I" --series "2p5(2P°3/2)ns 2[3/2]°2"')
 print("spectrum,configuration,term,j,energy_cm1,unc_cm1")
 for value, config, term, j, unc in sorted(rows, key=lambda r: r[0]):
     print(f"Ne I,{config},{term},{j},{value:.3f},{'' if unc is None else f'{unc:.3f}'}")
