@@ -204,3 +204,26 @@ def test_demo_computes_rates_of_its_invented_samples(catalog, tmp_path, monkeypa
     again = demo.build_demo(catalog, n_max=2)   # a second run refreshes, nothing doubles
     assert any("already in the store" in line for line in again)
     assert len([n for n in (d["name"] for d in catalog.dataset_rows()) if n.startswith("rates ")]) == 2
+
+
+def test_web_api_and_diagram_use_the_computed_rates(sodium, store_url, tmp_path):
+    from webui import create_app
+
+    rates_service.compute_rates(sodium, "Na I")
+    app = create_app({"LEVELS_DB": store_url, "SECRET_KEY": "test-secret", "LEVELS_API_TOKEN": "test-token",
+                      "TESTING": True, "LEVELS_UPLOAD_DIR": str(tmp_path / "up"),
+                      "LEVELS_INSTANCE_PATH": str(tmp_path / "instance")})
+    try:
+        client = app.test_client()
+        lines = client.get("/api/v1/species/Na_I/lines?from_nm=589&to_nm=590&medium=vacuum")
+        assert lines.status_code == 200
+        rows = lines.get_json()["rows"]
+        d2 = [r for r in rows if r["upper"] == "3p 2P°3/2" and r["lower"] == "3s 2S1/2"]
+        assert d2 and d2[0]["a_per_s"] == pytest.approx(1 / 16.254e-9, rel=0.03)
+        levels = client.get("/api/v1/species/Na_I/levels").get_json()["rows"]
+        p3 = [r for r in levels if r["label"] == "3p 2P°3/2"]
+        assert p3[0]["lifetime_s"] == pytest.approx(16.254e-9, rel=0.03)
+        figure = client.get("/species/Na_I/diagram.json")
+        assert figure.status_code == 200 and "3p 2P°3/2" in figure.get_data(as_text=True)
+    finally:
+        app.extensions["levels"]["catalog"].close()

@@ -332,3 +332,21 @@ def test_uncertainties_are_numeric_and_follow_the_rule():
     ca = computed("Na I", "coulomb")
     assert ca.lifetime_rel_unc[i] > res.lifetime_rel_unc[i]
     assert math.isnan(res.lifetime_s[keys.index("3s")])
+
+
+def test_numpy_fallback_of_the_recurrences_gives_the_compiled_result(monkeypatch):
+    # LEVELS_NO_JIT=1 (or no numba) runs the numpy loops over columns; both paths must agree
+    x = numerov.square_root_grid(400.0, 0.04)
+    nu = np.array([1.6274, 2.6432, 3.1337, 4.9870])
+    ls = np.array([0, 0, 1, 2])
+    v = model_potential.model_potential(x[:, None] ** 2, 11, 1.0, np.full(4, 2.5), np.zeros(4), 0.9448, 1.0)
+    g = numerov.numerov_coefficient(x, v, -0.5 / nu**2, ls)
+    start = np.minimum(np.searchsorted(x**2, numerov.outer_radius(nu, ls)), len(x) - 1)
+    results = []
+    for compiled in (True, False):
+        monkeypatch.setattr(numerov, "COMPILED", compiled and numerov.COMPILED)
+        inward = numerov.normalise(numerov.cut_divergence(numerov.integrate_inward(x, g, start), x), x)
+        outward = numerov.integrate_outward(x, g, ls, stop=200)[:200]
+        results.append((inward, outward / outward[150]))
+    assert np.allclose(results[0][0], results[1][0], rtol=0, atol=1e-10)
+    assert np.allclose(results[0][1], results[1][1], rtol=1e-10, atol=1e-12)
