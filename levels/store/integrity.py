@@ -182,6 +182,7 @@ def _run_checks(engine: Engine, report: StoreReport) -> None:
                 report.checks.append(_invariants(conn, report.problems))
 
         _step(report, "invariant", invariants)
+        _step(report, "computed-dataset role", lambda: report.problems.extend(_role_problems(engine)))
 
 
 def _count(engine: Engine, report: StoreReport, name: str) -> None:
@@ -384,3 +385,10 @@ def _is_json_object(value) -> bool:
         return isinstance(json.loads(value), dict)
     except (TypeError, ValueError):
         return False
+
+
+def _role_problems(engine: Engine) -> list[str]:
+    from levels.store.integrity_roles import role_problems
+
+    with engine.connect() as conn:
+        return role_problems(conn)

@@ -155,3 +155,20 @@ def test_migrated_store_passes_check_and_rebuilds_by_role(store_url):
         assert report.ok, report.problems
     finally:
         catalog.close()
+
+
+def test_check_reports_role_problems(catalog, tmp_path):
+    from levels import maintenance
+
+    path = tmp_path / "na.csv"
+    path.write_text("spectrum,configuration,term,j,energy_cm1\nNa I,3s,2S,1/2,0\nNa I,3p,2P°,1/2,17000\n"
+                    "Li I,2s,2S,1/2,0\n", encoding="utf-8")  # INVENTED levels
+    catalog.import_file(path, dataset="mixed")
+    assert maintenance.check(catalog).ok
+    with catalog.engine.begin() as conn:  # behind the service's back, as an old tool or a hand edit might
+        conn.execute(text("UPDATE datasets SET name = 'rates Na I A=23' WHERE name = 'mixed'"))
+        li = conn.execute(text("SELECT id FROM species WHERE z = 3")).scalar()
+        conn.execute(text("UPDATE datasets SET owner_species_id = :li WHERE role = 'derived-lines'"), {"li": li})
+    problems = maintenance.check(catalog).problems
+    assert any("'rates Na I A=23'" in p and "reserved name" in p for p in problems), problems
+    assert any("role derived-lines" in p and "not of its owner species" in p for p in problems), problems
