@@ -266,7 +266,8 @@ def _fit_group(group: _Group, z: int | None, charge: int, ionization_cm1: float,
                                  [(0, 0)], ic.energies(model, [energies[0]]), (0,), np.zeros((1, 1)))
         group.e_avg = float(energies[0])
         return {"parameters": {"E0": {"value_cm1": float(energies[0]), "unc_cm1": 0.0, "fixed": False}},
-                "rms_cm1": 0.0, "dof": 0, "n_levels": 1, "levels": [], "label_conflicts": []}
+                "average_energy_cm1": float(energies[0]), "rms_cm1": 0.0, "dof": 0, "n_levels": 1, "levels": [],
+                "label_conflicts": []}
     start = ic.central_field_start(model, z if z is not None else 1, charge, _binding(group, ionization_cm1),
                                    float(np.mean(energies)))
     if z is None:   # no atomic number: spin-orbit starting values from the spread of the levels
@@ -299,7 +300,8 @@ def _fit_group(group: _Group, z: int | None, charge: int, ionization_cm1: float,
         result.warnings.append(f"coupled: {text}")
     params = {name: {"value_cm1": float(v), "unc_cm1": float(u), "fixed": name in fit.fixed}
               for name, v, u in zip(fit.names, fit.values, fit.errors)}
-    return {"parameters": params, "rms_cm1": fit.rms_cm1, "dof": fit.dof, "n_levels": len(group.levels),
+    return {"parameters": params, "average_energy_cm1": group.e_avg, "rms_cm1": fit.rms_cm1, "dof": fit.dof,
+            "n_levels": len(group.levels),
             "levels": level_rows, "label_conflicts": conflicts}
 
 

@@ -1,5 +1,7 @@
 """The coupled rate method as a unit of work: grouping, skipping, labels and bad input."""
 
+import json
+
 import pytest
 
 from levels.service.rates_common import LevelInput, MethodResult
@@ -35,6 +37,9 @@ def test_result_shape_and_method_name():
     params = result.parameters["configurations"]["6s.6p"]["parameters"]
     assert set(params) == {"E0", "G1", "zeta_outer"}
     assert all(p["unc_cm1"] > 0 for p in params.values())
+    json.dumps(result.parameters)                 # stored in the dataset's options: plain JSON
+    assert result.parameters["configurations"]["6s.6p"]["average_energy_cm1"] == pytest.approx(
+        sum((2 * j + 1) * e for _, _, j, _, e in HG[1:]) / 12, abs=150)
 
 
 def test_untreatable_configurations_are_skipped_with_a_reason():
