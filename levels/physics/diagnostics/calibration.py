@@ -17,7 +17,8 @@ pair of strong peaks and every pair of strong lines define a linear map
 rough one (from the given wavelength range) are scored by how many peaks land
 within a tolerance of a line, and the best map seeds an iteration that raises
 the polynomial degree step by step, re-matching every peak each time (the
-voting idea of the Hough transform, here on pairs). While the map is still
+voting idea of the Hough transform, here on pairs; each match votes with the
+square root of the product of the relative peak and line strengths). While the map is still
 rough, peaks and lines closer than half the matching tolerance are treated
 as one (weighted centroids), so close pairs such as the H/D isotope pairs
 cannot be crossed; the tolerance shrinks with the fit's residuals.
@@ -199,7 +200,8 @@ def _nearest(sorted_values: NDArray, query: NDArray) -> tuple[NDArray, NDArray]:
 
 def linear_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayLike, line_strength: ArrayLike, *,
                 rough_dispersion: float, tolerance_nm: float, dispersion_range: tuple[float, float] = (0.7, 1.4),
-                n_peaks: int = 15, n_lines: int = 25) -> tuple[float, float, int]:
+                n_peaks: int = 15, n_lines: int = 25, rough_ends: tuple | None = None,
+                ends_tolerance: float = 0.06) -> tuple[float, float, int]:
     """Best linear map lambda = a + b p by voting over peak pairs and line pairs.
 
     Parameters
@@ -216,6 +218,9 @@ def linear_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayL
         Accepted factor range of b / rough_dispersion.
     n_peaks, n_lines : int
         How many of the strongest peaks and lines vote.
+    rough_ends : ((p0, lambda0), (p1, lambda1)), optional
+        The rough wavelengths of two axis values (the ends of the frame); maps that put
+        either end further than ``ends_tolerance`` of the rough span away are not considered.
 
     Returns
     -------
@@ -241,8 +246,14 @@ def linear_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayL
     if pp.size < 2 or ll.size < 2:
         raise PhysicsInputError(f"matching needs at least 2 peaks and 2 candidate lines (found {pp.size} peaks, "
                                 f"{ll.size} lines)")
-    top_p = pp[np.argsort(-ps)[:n_peaks]]
-    top_l = ll[np.argsort(-ls)[:n_lines]]
+    pick_p = np.argsort(-ps)[:n_peaks]
+    pick_l = np.argsort(-ls)[:n_lines]
+    top_p, top_l = pp[pick_p], ll[pick_l]
+    # each match votes with sqrt(relative peak strength x relative line strength): strong peaks should
+    # land on strong lines
+    weight_p = np.sqrt(np.clip(ps[pick_p] / max(ps[pick_p].max(), 1e-300), 0, None))
+    line_order = np.argsort(top_l)
+    weight_l = np.sqrt(np.clip(ls[pick_l] / max(ls[pick_l].max(), 1e-300), 0, None))[line_order]
     i, j = np.triu_indices(top_p.size, 1)
     k, m = np.triu_indices(top_l.size, 1)
     p1, p2 = top_p[i][:, None], top_p[j][:, None]
@@ -256,27 +267,136 @@ def linear_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayL
     b = np.concatenate([both[0][1], both[1][1]])
     ratio = b / rough_dispersion
     ok = (ratio >= dispersion_range[0]) & (ratio <= dispersion_range[1])
+    if rough_ends is not None:
+        (q0, l0), (q1, l1) = rough_ends
+        room = ends_tolerance * abs(l1 - l0)
+        ok &= (np.abs(a + b * q0 - l0) <= room) & (np.abs(a + b * q1 - l1) <= room)
     a, b = a[ok], b[ok]
     if a.size == 0:
         raise PhysicsInputError("no pair of peaks and lines gives a dispersion near the expected one; "
                                 "check the wavelength range given for the axis")
-    lines_sorted = np.sort(ll)
-    best = (0, np.inf, 0.0, 0.0)
-    chunk = max(1, 2_000_000 // max(pp.size, 1))
+    # votes are counted among the strong peaks and lines only: a crowd of weak lines (a series
+    # converging on its limit) would otherwise let any map match something
+    lines_sorted = np.sort(top_l)
+    best = (0, -1.0, 0.0, 0.0)
+    chunk = max(1, 2_000_000 // max(top_p.size, 1))
     for s0 in range(0, a.size, chunk):
         aa, bb = a[s0:s0 + chunk, None], b[s0:s0 + chunk, None]
-        mapped = aa + bb * pp[None, :]
-        _, dist = _nearest(lines_sorted, mapped.ravel())
-        dist = dist.reshape(mapped.shape)
+        mapped = aa + bb * top_p[None, :]
+        near, dist = _nearest(lines_sorted, mapped.ravel())
+        near, dist = near.reshape(mapped.shape), dist.reshape(mapped.shape)
         hit = dist <= tolerance_nm
-        count = hit.sum(axis=1)
-        cost = np.where(hit, dist, 0.0).sum(axis=1)
-        top = np.lexsort((cost, -count))[0]
-        if (count[top], -cost[top]) > (best[0], -best[1]):
-            best = (int(count[top]), float(cost[top]), float(aa[top, 0]), float(bb[top, 0]))
+        # one vote per line and map: a line reached by several peaks counts once (its best vote)
+        rows = np.broadcast_to(np.arange(mapped.shape[0])[:, None], mapped.shape)[hit]
+        keys = rows * lines_sorted.size + near[hit]
+        w = (weight_p[None, :] * weight_l[near])[hit]
+        order = np.lexsort((-w, keys))
+        keys, w, rows = keys[order], w[order], rows[order]
+        first = np.ones(keys.size, dtype=bool)
+        first[1:] = keys[1:] != keys[:-1]
+        votes = np.bincount(rows[first], weights=w[first], minlength=mapped.shape[0])
+        count = np.bincount(rows[first], minlength=mapped.shape[0])
+        top = int(np.argmax(votes))
+        if votes[top] > best[1] or best[0] == 0:
+            best = (int(count[top]), float(votes[top]), float(aa[top, 0]), float(bb[top, 0]))
     if best[0] < 2:
         raise PhysicsInputError("no linear map matches two or more peaks to lines within the tolerance")
     return best[2], best[3], best[0]
+
+
+def quadratic_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayLike, line_strength: ArrayLike, *,
+                   rough_ends: tuple, tolerance_nm: float, dispersion_range: tuple[float, float] = (0.6, 1.6),
+                   ends_tolerance: float = 0.06, n_peaks: int = 12, n_lines: int = 20) -> tuple[NDArray, int]:
+    """Best quadratic map by voting over triples of strong peaks and triples of strong lines.
+
+    Each ordered triple of peaks and triple of lines fixes a parabola lambda(p); parabolas whose
+    slope stays within ``dispersion_range`` of the rough dispersion and whose ends lie within
+    ``ends_tolerance`` of the rough span of the rough end wavelengths are scored: every strong line
+    reached (within ``tolerance_nm``) by a mapped strong peak adds sqrt(relative peak strength x
+    relative line strength), once per line. A parabola takes in the curvature of a grating
+    dispersion, which a straight line through two peaks cannot.
+
+    Returns
+    -------
+    (coefficients, matches)
+        Ascending coefficients (c0, c1, c2) of the best parabola and how many lines it reached.
+
+    Raises
+    ------
+    PhysicsInputError
+        Fewer than 3 peaks or lines, or no acceptable parabola.
+
+    Examples
+    --------
+    >>> pix = np.array([300.0, 900.0, 2100.0, 5400.0])
+    >>> lines = np.append(evaluate([398.0, 0.04, -1e-6], pix), 700.0)     # and one line off the frame
+    >>> coef, n = quadratic_seed(pix, np.ones(4), lines, np.ones(5), rough_ends=((0, 400), (6000, 600)),
+    ...                          tolerance_nm=0.5)
+    >>> np.round(coef, 7).tolist(), n
+    ([398.0, 0.04, -1e-06], 4)
+    """
+    pp = np.asarray(peak_pixel, dtype=float)
+    ps = np.asarray(peak_strength, dtype=float)
+    ll = np.asarray(line_nm, dtype=float)
+    ls = np.asarray(line_strength, dtype=float)
+    if pp.size < 3 or ll.size < 3:
+        raise PhysicsInputError(f"a curved first guess needs at least 3 peaks and 3 lines (found {pp.size}, {ll.size})")
+    (q0, l0), (q1, l1) = rough_ends
+    rough = (l1 - l0) / (q1 - q0)
+    pick_p = np.sort(np.argsort(-ps)[:n_peaks])
+    pick_l = np.argsort(-ls)[:n_lines]
+    top_p = pp[pick_p][np.argsort(pp[pick_p])]
+    wp = np.sqrt(np.clip(ps[pick_p][np.argsort(pp[pick_p])] / ps[pick_p].max(), 0, None))
+    order_l = np.argsort(ll[pick_l])
+    top_l = ll[pick_l][order_l]
+    wl = np.sqrt(np.clip(ls[pick_l][order_l] / max(ls[pick_l].max(), 1e-300), 0, None))
+    trip_p = np.array([(a, b, c) for a in range(top_p.size) for b in range(a + 1, top_p.size)
+                       for c in range(b + 1, top_p.size)])
+    trip_l = np.array([(a, b, c) for a in range(top_l.size) for b in range(a + 1, top_l.size)
+                       for c in range(b + 1, top_l.size)])
+    if rough < 0:
+        trip_l = trip_l[:, ::-1]
+    x = top_p[trip_p]                      # (P, 3)
+    best = (-1.0, None, 0)
+    chunk = max(1, 400_000 // max(x.shape[0], 1))
+    for s0 in range(0, trip_l.shape[0], chunk):
+        y = top_l[trip_l[s0:s0 + chunk]]   # (L, 3)
+        x0, x1, x2 = (x[:, None, n] for n in range(3))
+        y0, y1, y2 = (y[None, :, n] for n in range(3))
+        d01 = (y1 - y0) / (x1 - x0)
+        d12 = (y2 - y1) / (x2 - x1)
+        c2 = (d12 - d01) / (x2 - x0)
+        c1 = d01 - c2 * (x0 + x1)
+        c0 = y0 - c1 * x0 - c2 * x0 * x0
+        ok = np.ones(c0.shape, dtype=bool)
+        for q in (q0, q1):
+            slope = (c1 + 2 * c2 * q) / rough
+            ok &= (slope >= dispersion_range[0]) & (slope <= dispersion_range[1])
+        room = ends_tolerance * abs(l1 - l0)
+        ok &= (np.abs(c0 + c1 * q0 + c2 * q0 * q0 - l0) <= room) & (np.abs(c0 + c1 * q1 + c2 * q1 * q1 - l1) <= room)
+        if not ok.any():
+            continue
+        c0, c1, c2 = c0[ok], c1[ok], c2[ok]
+        mapped = c0[:, None] + c1[:, None] * top_p[None, :] + c2[:, None] * top_p[None, :] ** 2
+        near, dist = _nearest(top_l, mapped.ravel())
+        near, dist = near.reshape(mapped.shape), dist.reshape(mapped.shape)
+        hit = dist <= tolerance_nm
+        rows = np.broadcast_to(np.arange(mapped.shape[0])[:, None], mapped.shape)[hit]
+        keys = rows * top_l.size + near[hit]
+        w = (wp[None, :] * wl[near])[hit]
+        order = np.lexsort((-w, keys))
+        keys, w, rows = keys[order], w[order], rows[order]
+        first = np.ones(keys.size, dtype=bool)
+        first[1:] = keys[1:] != keys[:-1]
+        votes = np.bincount(rows[first], weights=w[first], minlength=mapped.shape[0])
+        count = np.bincount(rows[first], minlength=mapped.shape[0])
+        top = int(np.argmax(votes))
+        if votes[top] > best[0]:
+            best = (float(votes[top]), np.array([c0[top], c1[top], c2[top]]), int(count[top]))
+    if best[1] is None or best[2] < 3:
+        raise PhysicsInputError("no smooth map puts three or more strong peaks on strong lines; check the species, "
+                                "the medium and the rough wavelength range")
+    return best[1], best[2]
 
 
 def match_to_lines(peak_pixel: ArrayLike, coefficients: ArrayLike, line_nm: ArrayLike, tolerance_nm: float
@@ -373,7 +493,8 @@ def _settle(pp, ps, ll, ls, coef, tol, degree, clip, floor):
     """Phase A of :func:`calibrate`: fixed tolerance and merging scale, degree raised step by step."""
     previous = -1
     spread = None
-    for deg in list(range(1, degree + 1)) + [degree] * 10:
+    start = min(max(len(coef) - 1, 1), degree)
+    for deg in list(range(start, degree + 1)) + [degree] * 10:
         step, pi = _stage(pp, ps, ll, ls, coef, tol, deg, clip, max(floor, tol / 4.0), spread=spread)
         coef = step.coefficients
         if step.degree == degree:
@@ -402,7 +523,8 @@ def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: Array
         A first guess of the dispersion (for a rough wavelength axis: ``[0, 1]``).
     rough_range_nm : (float, float), optional
         Wavelengths of the first and last sample of the axis, roughly (needed without
-        ``rough_coefficients``); with ``axis_range`` it gives the rough dispersion.
+        ``rough_coefficients``); with ``axis_range`` it gives the rough dispersion, and
+        the first map must put both ends within 6 % of this span of them.
     axis_range : (float, float), optional
         First and last value of the raw axis.
     tolerance_nm : float, optional
@@ -450,8 +572,12 @@ def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: Array
             raise PhysicsInputError("a pixel axis needs the rough wavelength range of its first and last sample")
         disp = (rough_range_nm[1] - rough_range_nm[0]) / (axis_range[1] - axis_range[0])
         tol = tolerance_nm or max(3.0 * width_px, 2.0) * abs(disp) * 3.0
-        a, b, _ = linear_seed(pp, ps, ll, ls, rough_dispersion=disp, tolerance_nm=tol)
-        coef = np.array([a, b])
+        ends = ((axis_range[0], rough_range_nm[0]), (axis_range[1], rough_range_nm[1]))
+        if degree >= 2 and pp.size >= 3:
+            coef, _ = quadratic_seed(pp, ps, ll, ls, rough_ends=ends, tolerance_nm=tol)
+        else:
+            a, b, _ = linear_seed(pp, ps, ll, ls, rough_dispersion=disp, tolerance_nm=tol, rough_ends=ends)
+            coef = np.array([a, b])
     # coarse to fine: while the map is rough, peaks and lines closer than half the tolerance are
     # taken as one (area- or strength-weighted); the tolerance shrinks as the fit improves
     base_tol = 0.5 * width_px * abs(disp)
