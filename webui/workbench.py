@@ -13,7 +13,11 @@ Routes (blueprint ``workbench``):
 
 The physics is :meth:`levels.catalog.Catalog.emission`; this module only parses the
 form, keeps a short-lived cache of results (the page and its figure request ask for
-the same computation) and arranges results for the page.
+the same computation) and arranges results for the page. The model asked for
+(``model``: LTE or collisional-radiative) gives the metrics, lines and downloads;
+the other model is computed for the same conditions and shown beside it (spectra
+side by side, departure coefficients against level energy, metrics), with the
+LTE validity line of either.
 """
 
 from __future__ import annotations
@@ -29,6 +33,7 @@ from levels.catalog import EMISSION_COLUMNS, LINE_UNITS, LineQuery
 from levels.errors import NotFoundError, PhysicsInputError, UnitError
 from levels.io.tables import format_table
 from levels.physics.colour import BANDS_NM, srgb_swatch
+from levels.figures import model_comparison_figure
 from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 
 from webui import params, security, services
@@ -48,8 +53,17 @@ CACHE_ENTRIES = 8
 FIELDS = {
     "te": ("1eV", "K"), "ne": ("1e19m-3", "m-3"), "tgas": ("600K", "K"),
     "from": ("380nm", "nm"), "to": ("780nm", "nm"), "fwhm": ("0.05nm", "nm"), "path": ("", "m"),
+    "loss": ("0", "s-1"), "pressure": ("", "Pa"),
 }
 MEDIA = ("air", "vacuum")
+MODELS = ("lte", "cr")
+MODEL_NAMES = {"lte": "LTE (Boltzmann-Saha at Te)", "cr": "collisional-radiative"}
+BROADENINGS = ("thermal", "pressure")
+#: foreign gases of the van der Waals estimate (levels.physics.discharge.neutral_broadening.PERTURBERS)
+PERTURBERS = ("", "He", "Ne", "Ar", "Kr", "Xe", "H2", "N2", "Hg")
+#: levels listed in the departure table
+LISTED_LEVELS = 15
+_RATE = re.compile(r"\s*([-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?)\s*(s-1|/s|s\^-1)?\s*")
 _BARE_NUMBER = re.compile(r"\s*[-+]?(\d+\.?\d*|\.\d+)([eE][-+]?\d+)?\s*")
 EMISSION_UNITS = {**LINE_UNITS, "rel_intensity": "1", "photon_share": "1"}
 _BAND_NAMES = {"share_uv_c": "UV-C", "share_uv_b": "UV-B", "share_uv_a": "UV-A", "share_visible": "visible",
@@ -73,11 +87,20 @@ class EmissionRequest:
     medium: str = "air"
     fwhm_nm: float = 0.0
     path_m: float | None = None
+    model: str = "lte"
+    loss_per_s: float = 0.0
+    broadening: str = "thermal"
+    perturber: str | None = None
+    pressure_pa: float | None = None
     errors: dict = field(default_factory=dict)
 
     def key(self) -> tuple:
         return (self.species, self.te_k, self.ne_m3, self.tgas_k, self.from_nm, self.to_nm, self.medium,
-                self.fwhm_nm, self.path_m)
+                self.fwhm_nm, self.path_m, self.model, self.loss_per_s, self.broadening, self.perturber,
+                self.pressure_pa)
+
+    def other_model(self) -> str:
+        return "cr" if self.model == "lte" else "lte"
 
     def args(self) -> dict:
         """The request as query-string parameters (permalinks and download links)."""
@@ -89,7 +112,9 @@ class EmissionRequest:
         t = self.texts
         return (f"emission {self.species}; te {t['te']}; ne {t['ne']}; tgas {t['tgas']}; window "
                 f"{t['from'] or '-'}..{t['to'] or '-'} {self.medium}; instrument FWHM {t['fwhm'] or '0'}; "
-                f"path length {t['path'] or 'none (optically thin)'}")
+                f"path length {t['path'] or 'none (optically thin)'}; model {self.model}; metastable loss "
+                f"{t['loss'] or '0'} s-1; broadening {self.broadening}"
+                + (f" ({self.perturber} at {t['pressure']})" if self.perturber else ""))
 
 
 def _with_unit(text: str, unit: str) -> str:
@@ -100,9 +125,10 @@ def parse_request(args) -> EmissionRequest:
     """Read the form from a query string; problems go to ``errors`` (field -> message), never raise."""
     errors: dict[str, str] = {}
     texts: dict[str, str] = {}
-    for name in ("species", *FIELDS, "medium"):
+    choices = {"medium": "air", "model": "lte", "broadening": "thermal", "perturber": ""}
+    for name in ("species", *FIELDS, *choices):
         try:
-            default = FIELDS[name][0] if name in FIELDS else ("air" if name == "medium" else "")
+            default = FIELDS[name][0] if name in FIELDS else choices.get(name, "")
             value = params.text_param(args, name) if name in args else default
         except params.BadParameter as exc:
             errors[name] = exc.message
@@ -110,7 +136,8 @@ def parse_request(args) -> EmissionRequest:
         texts[name] = value
     values: dict[str, object] = {}
     readers = {"te": temperature_k, "ne": density_m3, "tgas": temperature_k, "from": wavelength_nm,
-               "to": wavelength_nm, "fwhm": wavelength_nm, "path": lambda t: parse_quantity(t, "length")}
+               "to": wavelength_nm, "fwhm": wavelength_nm, "path": lambda t: parse_quantity(t, "length"),
+               "loss": _rate, "pressure": lambda t: parse_quantity(t, "pressure")}
     for name, (_default, unit) in FIELDS.items():
         text = texts[name]
         if name in errors:
@@ -118,17 +145,17 @@ def parse_request(args) -> EmissionRequest:
         if text == "":
             if name in ("te", "ne", "tgas"):
                 errors[name] = "is required"
-            values[name] = 0.0 if name == "fwhm" else None
+            values[name] = 0.0 if name in ("fwhm", "loss") else None
             continue
         try:
             values[name] = readers[name](_with_unit(text, unit))
         except (UnitError, ValueError) as exc:
             errors[name] = str(exc)
-    for name in ("te", "ne", "tgas", "path"):
+    for name in ("te", "ne", "tgas", "path", "pressure"):
         value = values.get(name)
         if value is not None and name not in errors and value <= 0:
             errors[name] = "must be positive"
-    for name in ("from", "to", "fwhm"):
+    for name in ("from", "to", "fwhm", "loss"):
         value = values.get(name)
         if value is not None and name not in errors and value < 0:
             errors[name] = "must not be negative"
@@ -137,6 +164,14 @@ def parse_request(args) -> EmissionRequest:
         errors["to"] = f"the window is empty: to ({texts['to']}) must be above from ({texts['from']})"
     if texts["medium"] not in MEDIA:
         errors["medium"] = "must be air or vacuum"
+    if texts["model"] not in MODELS:
+        errors["model"] = "must be lte or cr"
+    if texts["broadening"] not in BROADENINGS:
+        errors["broadening"] = "must be thermal or pressure"
+    if texts["perturber"] not in PERTURBERS:
+        errors["perturber"] = "must be one of " + ", ".join(p for p in PERTURBERS if p)
+    if "pressure" not in errors and "perturber" not in errors and bool(texts["perturber"]) != bool(texts["pressure"]):
+        errors["pressure" if texts["perturber"] else "perturber"] = "a perturber gas and its pressure go together"
     species = texts["species"]
     if not species and "species" not in errors:
         errors["species"] = "choose a species"
@@ -144,7 +179,17 @@ def parse_request(args) -> EmissionRequest:
         return EmissionRequest(texts=texts, species=species, errors=errors)
     return EmissionRequest(texts=texts, species=species, te_k=values["te"], ne_m3=values["ne"],
                            tgas_k=values["tgas"], from_nm=values["from"], to_nm=values["to"],
-                           medium=texts["medium"], fwhm_nm=values["fwhm"] or 0.0, path_m=values["path"])
+                           medium=texts["medium"], fwhm_nm=values["fwhm"] or 0.0, path_m=values["path"],
+                           model=texts["model"], loss_per_s=values["loss"] or 0.0, broadening=texts["broadening"],
+                           perturber=texts["perturber"] or None, pressure_pa=values["pressure"])
+
+
+def _rate(text: str) -> float:
+    """A rate in s-1 ('1e4', '1e4s-1', '1e4/s')."""
+    match = _RATE.fullmatch(text)
+    if not match:
+        raise UnitError(f"expected a rate in s-1 such as 1e4 or 1e4s-1, got {text!r}")
+    return float(match.group(1))
 
 
 def species_with_rates(cat) -> list[services.SpeciesRef]:
@@ -162,8 +207,8 @@ def species_with_rates(cat) -> list[services.SpeciesRef]:
 _CACHE_LOCK = threading.Lock()
 
 
-def compute(req: EmissionRequest):
-    """The Catalog's emission result for a valid request, reused for ``CACHE_S`` seconds.
+def compute(req: EmissionRequest, model: str | None = None):
+    """The Catalog's emission result for a valid request (``model`` overrides its model), reused for ``CACHE_S`` s.
 
     Raises
     ------
@@ -178,7 +223,8 @@ def compute(req: EmissionRequest):
         raise PhysicsInputError(f"lines of {ref.name} (mass number {ref.row['mass_number']}) cannot be reached by "
                                 "name; the workbench works on the default isotope only")
     store = current_app.extensions["levels"]
-    key = (ref.name,) + req.key()[1:]
+    model = model or req.model
+    key = (ref.name,) + req.key()[1:] + (model,)
     now = time.monotonic()
     with _CACHE_LOCK:
         cache = store.setdefault("emission_cache", {})
@@ -187,7 +233,9 @@ def compute(req: EmissionRequest):
             return ref, hit[1]
     result = cat.emission(ref.name, te_k=req.te_k, ne_m3=req.ne_m3, tgas_k=req.tgas_k, from_nm=req.from_nm,
                           to_nm=req.to_nm, medium=req.medium, instrument_fwhm_nm=req.fwhm_nm,
-                          path_length_m=req.path_m, grid_points=GRID_POINTS)
+                          path_length_m=req.path_m, grid_points=GRID_POINTS, model=model,
+                          loss_rate_per_s=req.loss_per_s, broadening=req.broadening, perturber=req.perturber,
+                          pressure_pa=req.pressure_pa)
     with _CACHE_LOCK:
         cache[key] = (now, result)
         for old in sorted(cache, key=lambda k: cache[k][0])[:-CACHE_ENTRIES]:
@@ -202,9 +250,31 @@ def _failure(req: EmissionRequest, exc: Exception) -> dict:
         return {"species": text}
     if "window" in text:
         return {"from": text}
-    if "Einstein A" in text or "lines of" in text:
+    if ("Einstein A" in text or "lines of" in text or "oscillator strength" in text or "ionization energy" in text
+            or "rates of its" in text):
         return {"species": text}
+    if "loss rate" in text:
+        return {"loss": text}
+    if "length" in text or "depth" in text:
+        return {"path": text}
+    if "pressure" in text or "perturber" in text:
+        return {"pressure": text}
     return {"conditions": text}
+
+
+def compare(req: EmissionRequest, result) -> tuple[object | None, str | None]:
+    """The other model's result for the same conditions, or None and why it could not be computed."""
+    try:
+        _ref, other = compute(req, req.other_model())
+    except (NotFoundError, PhysicsInputError) as exc:
+        return None, f"{MODEL_NAMES[req.other_model()]} model not available: {exc}"
+    return other, None
+
+
+def departures(result) -> list[dict]:
+    """The lowest levels with their populations per ground-level population and departure coefficients."""
+    rows = [p for p in result.populations if p.get("departure") is not None]
+    return rows[:LISTED_LEVELS]
 
 
 def swatch(metrics: dict) -> str | None:
@@ -249,12 +319,15 @@ def page():
     asked = "species" in request.args
     req = parse_request(request.args)
     errors = dict(req.errors) if asked else {}
-    ref = result = None
+    ref = result = other = None
+    other_note = None
     if asked and not errors:
         try:
             ref, result = compute(req)
         except (NotFoundError, PhysicsInputError) as exc:
             errors = _failure(req, exc)
+        else:
+            other, other_note = compare(req, result)
     security.allow_plot_styles()
     return render_template(
         "emission.html", req=req, choices=choices, errors=errors, asked=asked, ref=ref, result=result,
@@ -263,6 +336,9 @@ def page():
                  else None),
         other_warnings=[w for w in (result.warnings if result else []) if not w.startswith("CAUTION")],
         media=MEDIA, band_text=BAND_TEXT, used=used_datasets(result) if result else [], downloads=download_links(req) if result else {},
+        models=MODELS, model_names=MODEL_NAMES, broadenings=BROADENINGS, perturbers=PERTURBERS,
+        other=other, other_note=other_note, levels_rows=departures(result) if result else [],
+        other_levels={p["label"]: p for p in other.populations} if other is not None else {},
     ), 400 if errors else 200
 
 
@@ -283,10 +359,26 @@ def figure_json():
     except (NotFoundError, PhysicsInputError) as exc:
         return _json_error(_failure(req, exc))
     metrics = {k: clean(v) for k, v in result.metrics.items()}
+    other, other_note = compare(req, result)
+    primary = emission_figure(result.grid_nm, result.spectrum, result.lines, medium=req.medium,
+                              title=_title(ref, result))
+    second = (emission_figure(other.grid_nm, other.spectrum, other.lines, medium=req.medium, title=_title(ref, other))
+              if other is not None else None)
+    populations = {req.model: result.populations}
+    if other is not None:
+        populations[req.other_model()] = other.populations
     return json_response({
         "spectrum": ref.name, "medium": req.medium, "request": req.args(),
-        "figure": emission_figure(result.grid_nm, result.spectrum, result.lines, medium=req.medium,
-                                  title=_title(ref, result)),
+        "model": req.model, "validity": {k: clean(v) for k, v in result.validity.items()},
+        "populations": [{k: clean(v) for k, v in p.items()} for p in result.populations],
+        "comparison": {
+            req.model: {"metrics": metrics, "validity": {k: clean(v) for k, v in result.validity.items()}},
+            req.other_model(): ({"metrics": {k: clean(v) for k, v in other.metrics.items()},
+                                 "validity": {k: clean(v) for k, v in other.validity.items()}}
+                                if other is not None else {"error": other_note}),
+        },
+        "figure": model_comparison_figure(primary, req.model, second, req.other_model(), populations,
+                                          medium=req.medium, other_note=other_note),
         "metrics": metrics, "swatch": swatch(result.metrics),
         "warnings": result.warnings, "caution": bool(result.warnings and result.warnings[0].startswith("CAUTION")),
         "conditions": {k: clean(v) for k, v in result.conditions.items()},

@@ -28,6 +28,13 @@ NO_RATES_CSV = ("spectrum,configuration,term,j,energy_cm1\n"
                 "Na I,2p6.3s,2S,1/2,0\n"
                 "Na I,2p6.3p,2P°,1/2,16956.17\n"
                 "Na I,2p6.3p,2P°,3/2,16973.37\n").encode()
+#: INVENTED two-level K I sample (numbers made up for the test): an Einstein A but no f value and no
+#: ionization energy, so the collisional-radiative model cannot run for it
+K_LEVELS_CSV = ("spectrum,configuration,term,j,energy_cm1\n"
+                "K I,4s,2S,1/2,0\n"
+                "K I,4p,2P°,3/2,13000.0\n").encode()
+K_LINES_CSV = ("spectrum,lower,upper,wavelength_nm,medium,unc_nm,a_per_s\n"
+               "K I,4s 2S1/2,4p 2P°3/2,769.2307692,vacuum,0.001,3.0e7\n").encode()
 VISIBLE = {"species": "H I", "te": "1eV", "ne": "1e19m-3", "tgas": "600K", "from": "380nm", "to": "780nm",
            "medium": "air", "fwhm": "0.05nm"}
 VUV = {"species": "H I", "te": "1.5eV", "ne": "1e19m-3", "tgas": "600K", "from": "90nm", "to": "130nm",
@@ -43,6 +50,8 @@ def bench(tmp_path_factory):
     fill_store(cat)
     cat.compute_hydrogenic("H I", n_max=8)
     cat.import_file("na.csv", content=NO_RATES_CSV, source="na.csv", dataset="na levels only")
+    cat.import_file("k.csv", content=K_LEVELS_CSV, source="k.csv", dataset="invented k levels")
+    cat.import_file("k-lines.csv", content=K_LINES_CSV, source="k-lines.csv", dataset="invented k lines")
     application = create_app(make_config(url, folder))
     yield {"app": application, "catalog": cat}
     application.extensions["levels"]["catalog"].close()
@@ -233,3 +242,78 @@ def test_text_from_the_request_and_the_store_is_escaped(web, bench):
     sticks = next(t for t in body["figure"]["data"] if t["meta"] == "lines")
     hovers = [h for h in sticks["hovertext"] if h]
     assert hovers and all("<script" not in h for h in hovers)
+
+
+# ----------------------------------------------------------------- the two population models
+
+CR = {**VISIBLE, "ne": "1e17m-3", "model": "cr", "loss": "1e3"}
+
+
+def test_cr_page_shows_validity_both_models_and_departures(web, bench):
+    page = web.get("/emission", query_string=CR)
+    assert page.status_code == 200, page.get_data(as_text=True)[:2000]
+    text = page.get_data(as_text=True)
+    cr = expected(bench["catalog"], ne_m3=1e17, model="cr", loss_rate_per_s=1e3)
+    lte = expected(bench["catalog"], ne_m3=1e17)
+    assert 'id="emission-validity"' in text and html.escape(cr.validity["text"]) in text
+    assert "does NOT hold" in cr.validity["text"]
+    compare = text.split('id="emission-compare"')[1].split("</table>")[0]
+    assert "collisional-radiative (asked for)" in compare
+    for res in (cr, lte):
+        assert f"{res.metrics['cie_x']:.4f}, {res.metrics['cie_y']:.4f}" in compare
+    table = text.split('id="emission-departures"')[1].split("</table>")[0]
+    assert html.escape(cr.populations[1]["label"]) in table
+    assert html.escape(cr.conditions["model"]) in text
+
+
+def test_figure_json_puts_lte_left_cr_right_and_departures_below(web, bench):
+    body = web.get("/emission.json", query_string=CR).get_json()
+    assert body["model"] == "cr"
+    assert set(body["validity"]) >= {"lte_min_ne_m3", "lte_holds"}
+    assert set(body["comparison"]) == {"lte", "cr"} and "metrics" in body["comparison"]["lte"]
+    data = body["figure"]["data"]
+    primary = next(t for t in data if t.get("meta") == "spectrum")
+    other = next(t for t in data if t.get("meta") == "spectrum-lte")
+    assert primary["xaxis"] == "x2" and other["xaxis"] == "x"          # LTE on the left, CR on the right
+    cr = expected(bench["catalog"], ne_m3=1e17, model="cr", loss_rate_per_s=1e3)
+    assert max(primary["y"]) == pytest.approx(float(cr.spectrum.max()), rel=1e-12)
+    dep = next(t for t in data if t.get("meta") == "departure-cr")
+    assert dep["xaxis"] == "x3" and body["figure"]["layout"]["yaxis3"]["type"] == "log"
+    by_label = {p["label"]: p for p in cr.populations}
+    assert dep["y"][1] == pytest.approx(by_label[html.unescape(dep["text"][1])]["departure"], rel=1e-12)
+    lte_dep = next(t for t in data if t.get("meta") == "departure-lte")
+    assert set(lte_dep["y"]) == {1.0}
+
+
+def test_a_species_the_cr_model_cannot_treat_still_shows_lte_and_says_why(web):
+    query = {**VISIBLE, "species": "K I", "from": "", "to": ""}
+    page = web.get("/emission", query_string=query)
+    assert page.status_code == 200, page.get_data(as_text=True)[-3000:]
+    text = page.get_data(as_text=True)
+    compare = text.split('id="emission-compare"')[1].split("</table>")[0]
+    assert "not available" in compare and "collisional-radiative model not available" in compare
+    assert "ionization energy" in compare
+    body = web.get("/emission.json", query_string=query).get_json()
+    assert "ionization energy" in body["comparison"]["cr"]["error"]
+    assert not any(t.get("meta") == "spectrum-cr" for t in body["figure"]["data"])
+    cr_only = web.get("/emission.json", query_string={**query, "model": "cr"})
+    assert cr_only.status_code == 400 and cr_only.get_json()["error"]["field"] == "species"
+
+
+@pytest.mark.parametrize("change, field_name", [
+    ({"model": "nlte"}, "model"),
+    ({"loss": "fast"}, "loss"),
+    ({"loss": "-5"}, "loss"),
+    ({"perturber": "Ar"}, "pressure"),
+    ({"perturber": "Unobtainium", "pressure": "1bar"}, "perturber"),
+    ({"pressure": "1bar"}, "perturber"),
+    ({"pressure": "-1bar", "perturber": "Ar"}, "pressure"),
+    ({"path": "1e7m"}, "path"),
+    ({"broadening": "magic"}, "broadening"),
+])
+def test_bad_model_input_is_a_400_naming_the_field(web, change, field_name):
+    query = {**CR, **change}
+    page = web.get("/emission", query_string=query)
+    assert page.status_code == 400
+    assert f"<b>{field_name}</b>" in page.get_data(as_text=True)
+    assert web.get("/emission.json", query_string=query).get_json()["error"]["field"] == field_name
