@@ -21,7 +21,7 @@ from collections.abc import Callable, Iterator
 from pathlib import Path
 from typing import TypeVar
 
-from sqlalchemy import Engine, create_engine, event, func, inspect, select, text
+from sqlalchemy import Engine, create_engine, event, inspect, select, text
 from sqlalchemy.engine import make_url
 from sqlalchemy.exc import ArgumentError, DatabaseError, IntegrityError, OperationalError
 from sqlalchemy.orm import Session, sessionmaker
@@ -351,9 +351,10 @@ def store_revision(engine: Engine) -> tuple[int, int, int, int]:
     """
     from levels.store.schema import AuditEntry, Dataset
 
-    query = select(
-        select(func.count(AuditEntry.id)).scalar_subquery(), select(func.max(AuditEntry.id)).scalar_subquery(),
-        select(func.count(Dataset.id)).scalar_subquery(), select(func.max(Dataset.id)).scalar_subquery())
-    with read_session(engine) as session:
-        row = session.execute(query).one()
+    audit, datasets = AuditEntry.__tablename__, Dataset.__tablename__
+    # one plain statement on a pooled connection: no session or ORM set-up, a fraction of a millisecond
+    sql = (f"SELECT (SELECT count(*) FROM {audit}), (SELECT max(id) FROM {audit}), "
+           f"(SELECT count(*) FROM {datasets}), (SELECT max(id) FROM {datasets})")
+    with engine.connect() as connection:
+        row = connection.exec_driver_sql(sql).one()
     return tuple(int(v or 0) for v in row)  # type: ignore[return-value]
