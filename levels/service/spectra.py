@@ -5,7 +5,9 @@ Units of work on one store (the store is only read; nothing is written until
 
 * :func:`find_peaks` - read a spectrum file, fit its peaks, map a pixel axis
   through a calibration, report rows ``peak_nm, peak_unc_nm, medium, fwhm_nm,
-  area, area_unc, snr`` (+ ``fwhm_unc_nm``);
+  area, area_unc, snr`` (+ ``fwhm_unc_nm``); ``area`` is intensity x nm for a
+  wavelength axis and summed counts (intensity x pixel) for a pixel frame, which
+  already integrate the line over wavelength;
 * :func:`calibrate_lamp` - match the peaks of a reference lamp to the stored
   lines of its species and fit the dispersion polynomial;
 * :func:`diagnose` - identify the peaks of a peaks file, Boltzmann (or
@@ -163,11 +165,15 @@ def find_peaks(path=None, *, content: bytes | None = None, source: str | None = 
             centre = _convert_medium(centre, stated, out_medium, air_formula)
             x_nm = _convert_medium(x_nm, stated, out_medium, air_formula)
         warnings.append(f"wavelengths converted from {stated} to {out_medium} ({air.formula_description(air_formula)})")
+    # a pixel frame holds counts per pixel: a line's summed counts already integrate it over wavelength
+    # (each pixel collects d(lambda)/dp of the spectrum), so areas stay in counts; a wavelength axis
+    # holds intensity per nm and its areas are intensity x nm
+    area_scale = np.ones_like(scale) if data.axis == "pixel" else scale
     rows = []
     for i in range(len(fit)):
         rows.append({"peak_nm": float(centre[i]), "peak_unc_nm": float(fit.centre_unc[i] * scale[i]),
-                     "medium": out_medium, "fwhm_nm": float(fit.fwhm[i] * scale[i]), "area": float(fit.area[i] * scale[i]),
-                     "area_unc": float(fit.area_unc[i] * scale[i]), "snr": float(fit.snr[i]),
+                     "medium": out_medium, "fwhm_nm": float(fit.fwhm[i] * scale[i]), "area": float(fit.area[i] * area_scale[i]),
+                     "area_unc": float(fit.area_unc[i] * area_scale[i]), "snr": float(fit.snr[i]),
                      "fwhm_unc_nm": float(fit.fwhm_unc[i] * scale[i]),
                      "gauss_fwhm_nm": float(fit.gauss_fwhm[i] * scale[i]),
                      "lorentz_fwhm_nm": float(fit.lorentz_fwhm[i] * scale[i]), "centre_axis": float(fit.centre[i])})

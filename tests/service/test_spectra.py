@@ -201,3 +201,22 @@ def test_command_line(hstore, tmp_path):
     out = runner.invoke(main, db + ["calibrate", str(spec), "--species", "H I", "--degree", "2", "--format", "json"])
     assert out.exit_code == 0, out.output
     assert "CAUTION" in out.stderr
+
+
+def test_invented_demo_frames_end_to_end(hstore):
+    # seed_data/demo/generate_spectra.py: the invented arc has Te 12000 K, ne 2e22 m-3, Tgas 3000 K, and the
+    # invented spectrometer the dispersion [395.0, 0.0225, -2.0e-7, 4.0e-12]
+    from pathlib import Path
+
+    demo = Path(__file__).resolve().parents[2] / "seed_data" / "demo"
+    cal = service.calibrate_lamp(hstore, demo / "frame-hd-lamp.csv", species=["H I", "D I"], from_nm=395.0,
+                                 to_nm=665.0)
+    assert cal.report["rms_pixel"] < 0.2 and len(cal.report["lines_used"]) == 10
+    assert np.allclose(cal.report["coefficients"], [395.0, 0.0225, -2.0e-7, 4.0e-12], rtol=1e-3)
+    arc = service.find_peaks(demo / "frame-h-arc.csv", calibration_content=json.dumps(cal.report).encode(),
+                             profile="voigt")
+    result = service.diagnose(hstore, ["H I"], content=_csv(arc.rows, service.PEAK_COLUMNS), source="arc.csv",
+                              instrument_fwhm_nm=0.06, tgas_k=3000.0)
+    assert result.report["te_k"] == pytest.approx(12000.0, rel=0.03)
+    assert result.report["ne_m3"] == pytest.approx(2e22, rel=0.10)
+    assert result.report["validity"]["lte_holds"] is False      # McWhirter asks ~1.9e23 m-3 for H I
