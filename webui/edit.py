@@ -266,6 +266,8 @@ def add_level():
         return _desk(400, level_errors={"target": str(exc)}, level_values=values)
     except PhysicsInputError as exc:
         return _desk(400, level_errors={"target": str(exc)}, level_values=values)
+    except InputFileError as exc:  # a new dataset's name of a reserved form (ReservedNameError)
+        return _desk(400, level_errors={"new_dataset": exc.first.message}, level_values=values)
     except AlreadyExistsError:
         field = "new_dataset" if target == NEW_DATASET else "label"
         message = (f"a dataset named {new_name!r} already exists" if target == NEW_DATASET else
