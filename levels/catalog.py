@@ -528,6 +528,7 @@ class Catalog:
         if kind_of_file == "lines":
             line_records = level_io.validate_lines(
                 _checked_columns(table, level_io.LINE_FILE_COLUMNS, level_io.LINE_FILE_REQUIRED), source=name)
+            del table
             return self.import_line_records(line_records, source=name, sample=sample, dataset=dataset, kind=kind,
                                             citation=citation, description=description,
                                             sample_conditions=sample_conditions, allow_off_ritz=allow_off_ritz,
@@ -535,6 +536,7 @@ class Catalog:
         records = level_io.validate_levels(
             _checked_columns(table, level_io.LEVEL_COLUMNS, level_io.LEVEL_REQUIRED),
             source=name, default_dataset=dataset)
+        del table  # the raw rows (about half a kilobyte per level) are not needed for the write
         return self.import_level_records(records, source=name, sample=sample, kind=kind, citation=citation,
                                          description=description, sample_conditions=sample_conditions,
                                          max_derived_lines=max_derived_lines)
