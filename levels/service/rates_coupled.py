@@ -206,7 +206,7 @@ def _group_levels(levels: list[LevelInput], result: MethodResult) -> dict[tuple,
         shells = open_shells(_subshells(bare))
         # one group per configuration however it is written ('2p5.3p', '1s2.2s2.2p5.3p'): keyed by its
         # open subshells, or by the closed subshells for a closed-shell configuration
-        identity = shells.shells or tuple(sorted(_subshells(bare)))
+        identity = tuple(sorted(shells.shells)) or tuple(sorted(_subshells(bare)))
         if identity not in groups:
             groups[identity] = _Group(format_configuration(bare), bare, configuration_model(shells), [], [], [])
         group = groups[identity]

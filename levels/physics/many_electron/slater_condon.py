@@ -59,7 +59,7 @@ _MIX = 0.3713
 
 @dataclass(frozen=True)
 class OpenShells:
-    """Open subshells of a configuration: ``((n, l, occupancy), ...)`` sorted by (n, l)."""
+    """Open subshells of a configuration: ``((n, l, occupancy), ...)`` in written order (the core first)."""
 
     shells: tuple[tuple[int, int, int], ...]
     #: every subshell written in the configuration (closed ones too), sorted by (n, l)
@@ -71,14 +71,19 @@ class OpenShells:
 
 
 def open_shells(subshells: tuple[tuple[int, int, int], ...]) -> OpenShells:
-    """The open subshells (neither empty nor full) of ``(n, l, occupancy)`` triples, sorted by (n, l).
+    """The open subshells (neither empty nor full) of ``(n, l, occupancy)`` triples, in written order.
+
+    The first open subshell written is the core (``5p5.4f``: the 5p hole is the core,
+    4f the outer electron, although 4f has the lower n).
 
     Examples
     --------
     >>> open_shells(((1, 0, 2), (2, 0, 2), (2, 1, 5), (3, 1, 1))).shells
     ((2, 1, 5), (3, 1, 1))
+    >>> open_shells(((5, 1, 5), (4, 3, 1))).shells
+    ((5, 1, 5), (4, 3, 1))
     """
-    return OpenShells(tuple(sorted((n, l, k) for n, l, k in subshells if 0 < k < 4 * l + 2)),
+    return OpenShells(tuple((n, l, k) for n, l, k in subshells if 0 < k < 4 * l + 2),
                       tuple(sorted(subshells)))
 
 
@@ -457,6 +462,11 @@ def transition_amplitudes(upper: ConfigurationModel, lower: ConfigurationModel, 
     return amplitudes / three_j
 
 
+def _filling_order(nl: tuple[int, int]) -> tuple[int, int]:
+    """Madelung filling order of a subshell: (n + l, n)."""
+    return (nl[0] + nl[1], nl[0])
+
+
 def _jump(upper: OpenShells, lower: OpenShells) -> tuple | None:
     """The E1 jump between two configurations, or None.
 
@@ -464,7 +474,9 @@ def _jump(upper: OpenShells, lower: OpenShells) -> tuple | None:
     leaves subshell ``leave`` of the upper configuration and enters ``enter`` of the lower
     one; ``union`` lists the subshells open in either, the occupancies are per union
     subshell. A subshell not written in a configuration is taken as full when it lies
-    below every subshell written there (an inner closed shell left out), else as empty.
+    below every subshell written there both in (n, l) and in the Madelung filling order
+    (n + l, then n): an inner closed shell left out (``1s``, ``2s`` of ``2p5.3s``); else as
+    empty (``4f`` of ``5p5.5d``, ``4s`` of ``3d9.4p``).
     """
     union = tuple(sorted(set(upper.nl) | set(lower.nl)))
 
@@ -472,7 +484,8 @@ def _jump(upper: OpenShells, lower: OpenShells) -> tuple | None:
         written = {(n, l): k for n, l, k in (config.written or config.shells)}
         if nl in written:
             return written[nl]
-        return 4 * nl[1] + 2 if all(nl < other for other in written) else 0
+        inner = all(nl < other and _filling_order(nl) < _filling_order(other) for other in written)
+        return 4 * nl[1] + 2 if inner else 0
 
     ku = tuple(occupancy(upper, nl) for nl in union)
     kl = tuple(occupancy(lower, nl) for nl in union)
@@ -497,7 +510,7 @@ def _dipole_dets(upper: OpenShells, lower: OpenShells, jump: tuple, two_j_upper:
     sh, ml, ms = _orbitals(tuple((i, nl[1]) for i, nl in enumerate(union)))
     ls = [nl[1] for nl in union]
 
-    def expanded(shells: OpenShells, occupancy: tuple[int, ...]) -> list[tuple[int, ...]]:
+    def expanded(shells: OpenShells, occupancy: tuple[int, ...]) -> tuple[list[tuple[int, ...]], NDArray]:
         own = configuration_model(shells)
         own_nl = shells.nl
         own_sh, _, _ = _orbitals(tuple((i, nl[1]) for i, nl in enumerate(own_nl)))
@@ -507,11 +520,19 @@ def _dipole_dets(upper: OpenShells, lower: OpenShells, jump: tuple, two_j_upper:
             mapping[own_sh == i] = np.flatnonzero(sh == nl_index[nl])
         full = [o for i, nl in enumerate(union) if nl not in own_nl and occupancy[i] == 4 * nl[1] + 2
                 for o in np.flatnonzero(sh == nl_index[nl]).tolist()]
-        return [tuple(sorted([int(mapping[o]) for o in det] + full)) for det in own.dets]
+        out, signs = [], []
+        for det in own.dets:
+            mapped = [int(mapping[o]) for o in det]
+            # the determinant's creation operators in the union's order: the sign of that permutation
+            # (full subshells hold an even number of electrons and never change it)
+            inversions = sum(1 for a in range(len(mapped)) for b in range(a + 1, len(mapped)) if mapped[a] > mapped[b])
+            out.append(tuple(sorted(mapped + full)))
+            signs.append(-1.0 if inversions % 2 else 1.0)
+        return out, np.array(signs)
 
     # the upper state holds the electron in `leave`; C^1 acts as a+_leave a_enter on the lower state
-    dets_u = expanded(upper, occ_upper)
-    dets_l = expanded(lower, occ_lower)
+    dets_u, signs_u = expanded(upper, occ_upper)
+    dets_l, signs_l = expanded(lower, occ_lower)
     index_u = {d: i for i, d in enumerate(dets_u)}
     q = (two_j_upper - two_j_lower) // 2
     out = np.zeros((len(dets_u), len(dets_l)))
@@ -532,4 +553,4 @@ def _dipole_dets(upper: OpenShells, lower: OpenShells, jump: tuple, two_j_upper:
                 i = index_u.get(new)
                 if i is not None:
                     out[i, j] += sign * ck_coefficient(l_leave, int(ml[p]), 1, l_enter, int(ml[r]))
-    return out
+    return out * signs_u[:, None] * signs_l[None, :]

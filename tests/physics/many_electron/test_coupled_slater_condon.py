@@ -112,6 +112,8 @@ def test_state_counts_and_labels():
     (((6, 0, 1), (6, 2, 1)), ((6, 0, 1), (6, 1, 1)), 0, 2, 1),
     (((3, 1, 5), (3, 2, 1)), ((3, 1, 5), (4, 1, 1)), 1, 2, 1),
     (((5, 2, 9), (6, 1, 1)), ((5, 2, 9), (6, 0, 1)), 2, 1, 0),
+    (((5, 1, 5), (4, 3, 1)), ((5, 1, 5), (5, 2, 1)), 1, 3, 2),      # core written first, outer 4f below it in n
+    (((5, 2, 1), (6, 0, 1)), ((6, 1, 1), (6, 0, 1)), 0, 2, 1),      # the spectator 6s written second
 ])
 def test_pure_ls_limit_reproduces_ls_line_strengths_and_sum_rule(upper, lower, l_core, l_a, l_b):
     # with the spin-orbit parameters zero the eigenvectors are LS states: every line strength must equal
