@@ -504,7 +504,7 @@ def _jump(upper: OpenShells, lower: OpenShells) -> tuple | None:
 @functools.lru_cache(maxsize=256)
 def _dipole_dets(upper: OpenShells, lower: OpenShells, jump: tuple, two_j_upper: int,
                  two_j_lower: int) -> NDArray[np.float64]:
-    """<I_upper|C^1_q a+_enter a_leave... |J_lower> over determinants, q = M_upper - M_lower."""
+    """<I_upper|C^1_q|J_lower> over determinants (the one-electron jump enter -> leave), q = M_upper - M_lower."""
     leave, enter, union, occ_upper, occ_lower = jump
     nl_index = {nl: i for i, nl in enumerate(union)}
     sh, ml, ms = _orbitals(tuple((i, nl[1]) for i, nl in enumerate(union)))
