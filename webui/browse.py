@@ -264,8 +264,10 @@ def diagram_json(spectrum: str):
             listed = [{k: ln[k] for k in LISTED_KEYS} for ln in rows[:LISTED_LINES]]
         else:
             stored, index, total = services.diagram_lines(ref, flt, max_lines)
-            if stored is None:
-                arrays, listed = LineArrays.from_rows([]), []
+            if stored is None:  # lines not kept in memory (a very large species): ask the store
+                rows, total = services.strongest_lines(cat, ref, flt, max_lines)
+                arrays = LineArrays.from_rows(rows)
+                listed = [{k: ln[k] for k in LISTED_KEYS} for ln in rows[:LISTED_LINES]]
             else:
                 arrays = LineArrays.from_columns(stored.columns, index)
                 listed = stored.rows(index[:LISTED_LINES], LISTED_KEYS)

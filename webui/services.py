@@ -288,13 +288,26 @@ def line_name(ref: SpeciesRef | None) -> str | None:
     return None if ref is None else ref.name
 
 
+#: species with more stored lines than this are read page by page from the store, not kept in memory
+MAX_KEPT_LINES = 250_000
+
+
+def keeps_lines(ref: SpeciesRef) -> bool:
+    """Whether the species' stored lines are kept in memory (``LEVELS_MAX_KEPT_LINES``, default
+    :data:`MAX_KEPT_LINES`; a one-electron ion to n = 1000 has millions of lines and is not)."""
+    limit = current_app.config.get("LEVELS_MAX_KEPT_LINES", MAX_KEPT_LINES)
+    return int(ref.row.get("lines") or 0) <= int(limit)
+
+
 def line_window(ref: SpeciesRef, flt: LineFilter, limit: int | None = None, offset: int = 0,
                 order: str | None = None) -> tuple[list[dict], int]:
     """Lines of one species under the filter, in the filter's order (or ``order``), ``limit`` from ``offset``,
     and how many match in all: the rows ``Catalog.line_rows`` gives, from the species' line columns kept
-    per store revision (no query, no count per request)."""
+    per store revision (no query, no count per request; a species too large to keep is queried)."""
     if not ref.lines_reachable:
         return [], 0
+    if not keeps_lines(ref):
+        return catalog().line_rows(flt.query(line_name(ref), limit=limit, offset=offset, order=order))
     lines = read_cache().species_lines(ref.spectrum, revision())
     keep = lines.mask(from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium, multipoles=flt.multipoles,
                       min_a=flt.min_a)
@@ -335,8 +348,9 @@ def species_levels(ref: SpeciesRef) -> list[dict]:
 def diagram_lines(ref: SpeciesRef, flt: LineFilter, limit: int) -> tuple[SpeciesLines | None, np.ndarray, int]:
     """The stored lines a diagram draws: the species' line columns (kept per store revision), the indices
     of the ``limit`` strongest under the filter (largest A first, as ``strongest_lines`` orders them), and
-    how many match in all."""
-    if not ref.lines_reachable:
+    how many match in all. None for the columns when the species' lines are not kept (too many, or not
+    reachable by name): then ask :func:`strongest_lines`."""
+    if not ref.lines_reachable or not keeps_lines(ref):
         return None, np.empty(0, dtype=np.int64), 0
     lines = read_cache().species_lines(ref.spectrum, revision())
     keep = lines.mask(from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium, multipoles=flt.multipoles,

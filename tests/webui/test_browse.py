@@ -388,3 +388,24 @@ def test_kept_line_pages_are_the_catalogs_rows(shared, filters):
             want, want_total = cat.line_rows(flt.query("Li I", limit=limit, offset=offset))
             assert total == want_total > 0
             assert got == want
+
+
+def test_a_species_too_large_to_keep_is_served_from_the_store(shared):
+    """Above LEVELS_MAX_KEPT_LINES the diagram and the line pages query the store, with the same answers."""
+    from webui import services
+
+    app = shared["app"]
+    client = app.test_client()
+    query = {"max_lines": 30, "medium": "air", "min_a": "1e4"}
+    kept = client.get("/species/Li_I/diagram.json", query_string=query).get_json()
+    kept_page = client.get("/species/Li_I", query_string={"lper": 25}).get_data(as_text=True)
+    app.config["LEVELS_MAX_KEPT_LINES"] = 1
+    try:
+        with app.test_request_context("/"):
+            assert not services.keeps_lines(services.resolve_species(services.catalog(), "Li_I"))
+        queried = client.get("/species/Li_I/diagram.json", query_string=query).get_json()
+        queried_page = client.get("/species/Li_I", query_string={"lper": 25}).get_data(as_text=True)
+    finally:
+        del app.config["LEVELS_MAX_KEPT_LINES"]
+    assert queried == kept and queried["lines_shown"] == 30
+    assert queried_page == kept_page
