@@ -7,6 +7,7 @@ is a measurement of a real sample, lamp or instrument.
 from __future__ import annotations
 
 import json
+import re
 from pathlib import Path
 
 from levels.catalog import Catalog
@@ -80,13 +81,25 @@ def _demo_rates(catalog: Catalog) -> list[str]:
         except AlreadyExistsError:
             spectra = _species_of(catalog, name)
             out.append(f"the invented sample {path.name} is already in the store")
+        for spectrum, patterns in _limit_hints(path).items():
+            # the sample's header names the series whose limit its rates need
+            if spectrum in spectra:
+                try:
+                    fit = catalog.fit_limit(spectrum, patterns)
+                    out.append(f"fitted the {spectrum} series limit: {fit['limit_cm1']:.3f} ± "
+                               f"{fit['limit_unc_cm1']:.3f} cm-1")
+                except LevelsError as exc:
+                    out.append(f"no series limit for the invented {spectrum} levels: {exc}")
         for spectrum in spectra:
             try:
                 other = compute_rates(catalog, spectrum)
                 out.append(f"computed rates of the invented {spectrum} levels: {len(other.lines)} lines, "
-                           f"{len(other.skipped)} levels skipped ({other.method})")
+                           f"skipped {len(other.skipped)} ({other.method})")
             except LevelsError as exc:
                 out.append(f"no rates for the invented {spectrum} levels: {exc}")
+            if spectrum.startswith("Hg"):
+                out.append("CAUTION: mercury is toxic and mercury discharges emit UV-C; handle lamps and spills as "
+                           "your local codes and licensed practice require")
     return out
 
 
@@ -101,3 +114,19 @@ def _species_of(catalog: Catalog, dataset: str) -> list[str]:
         if dataset in row["datasets"].split("; "):
             species.append(row["spectrum"])
     return species
+
+
+_LIMIT_HINT = re.compile(r'^#.*levels limit "([^"]+)"((?:\s+--series\s+"[^"]+")+)')
+
+
+def _limit_hints(path: Path) -> dict[str, list[str]]:
+    """``levels limit "X" --series "P" ...`` hints in a sample's leading comment lines: spectrum -> patterns."""
+    hints: dict[str, list[str]] = {}
+    with path.open(encoding="utf-8") as handle:
+        for line in handle:
+            if not line.startswith("#"):
+                break
+            match = _LIMIT_HINT.match(line.strip())
+            if match:
+                hints.setdefault(match.group(1), []).extend(re.findall(r'--series\s+"([^"]+)"', match.group(2)))
+    return hints

@@ -355,6 +355,10 @@ def compute_rates(catalog, spectrum: str | Spectrum, *, method: str = "auto",
     if method in ("auto", "single"):
         results.append(single_rates(single_levels if method == "auto" else inputs, z=z, charge=charge,
                                     ionization_cm1=ionization, rydberg_cm1=rydberg))
+    if method == "auto":
+        # say why the one-electron method passed these on, beside what the coupled method says
+        results.append(MethodResult(method="", skipped=[
+            (lv.level_id, f"one-electron method: {classify_single(lv, electrons)[1]}") for lv in other_levels]))
     if method == "coupled" or (method == "auto" and other_levels):
         group = inputs if method == "coupled" else other_levels
         if coupled is None:
@@ -374,14 +378,19 @@ def compute_rates(catalog, spectrum: str | Spectrum, *, method: str = "auto",
     parameters: dict = {}
     methods = []
     for res in results:
-        methods.append(res.method)
-        parameters[res.method] = res.parameters
+        if res.method:
+            methods.append(res.method)
+            parameters[res.method] = res.parameters
         warnings.extend(res.warnings)
         for line in res.lines:
             lines.setdefault((line.lower_id, line.upper_id, line.multipole), line)
             treated.update((line.lower_id, line.upper_id))
         for level_id, reason in res.skipped:
-            skipped.setdefault(level_id, reason)
+            if level_id in skipped and reason not in skipped[level_id]:
+                label = res.method.split(" ")[0] if res.method else ""
+                skipped[level_id] = f"{skipped[level_id]}; {label + ' method: ' if label else ''}{reason}"
+            else:
+                skipped.setdefault(level_id, reason)
     skipped = {k: v for k, v in skipped.items() if k not in treated}
     if not lines:
         detail = "; ".join(f"{by_id[k].label}: {v}" for k, v in list(skipped.items())[:5])
