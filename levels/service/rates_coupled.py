@@ -35,6 +35,7 @@ from levels.notation import (
     parse_spectrum,
 )
 from levels.physics import rates as rate_physics
+from levels.physics.lande import lande_g_ls
 from levels.physics.many_electron import intermediate_coupling as ic
 from levels.physics.many_electron.slater_condon import (
     ConfigurationModel,
@@ -322,10 +323,15 @@ def _compositions(group: _Group) -> tuple[list[dict], list[str]]:
         ls_w = (sub.ls_vectors.T @ vecs) ** 2            # (basis state, eigenvector)
         jk_w = (sub.jk_vectors.T @ vecs) ** 2
         ls_names = [f"{two_s + 1}{'SPDFGHIKLMNOQ'[L]}" for two_s, L in sub.ls_labels]
+        # Landé g in intermediate coupling: the LS values weighted by the LS composition (L + g_s S is
+        # diagonal in the LS basis of one J; Condon & Shortley 1935, ch. XVI, from memory)
+        g_ls = lande_g_ls(np.array([t for t, _ in sub.ls_labels]), np.array([L for _, L in sub.ls_labels]),
+                          np.full(len(sub.ls_labels), tj)) if tj > 0 else np.zeros(len(sub.ls_labels))
+        g_value = float(ls_w[:, column] @ g_ls) if tj > 0 else None
         jk_names = [f"({parent_mult}{'SPDFGHIK'[parent_l]}{format_j(jc)}) 2[{format_j(k)}]" for jc, k in sub.jk_labels]
         rows.append({"level_id": lv.level_id, "label": lv.label, "j": format_j(tj), "energy_cm1": lv.energy_cm1,
                      "fitted_cm1": float(vals[column]), "ls": _percent_text(ls_w[:, column], ls_names),
-                     "jk": _percent_text(jk_w[:, column], jk_names)})
+                     "jk": _percent_text(jk_w[:, column], jk_names), "lande_g": g_value})
         index, weights, shown = None, None, None
         if isinstance(term, Term):
             key = (term.multiplicity - 1, term.L)

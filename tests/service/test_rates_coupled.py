@@ -172,3 +172,17 @@ def test_lifetime_uncertainty_is_the_weighted_line_figure():
     tau, rel = result.lifetimes[5]
     assert tau == pytest.approx(1 / line.a_per_s)
     assert rel == pytest.approx(line.a_rel_unc)
+
+
+def test_lande_g_in_intermediate_coupling_keeps_the_g_sum():
+    # Pauli's g-sum rule: the sum of g over the levels of one J of a configuration does not depend on the
+    # coupling (Condon & Shortley 1935, ch. XVI, from memory); LS values from levels.physics.lande
+    from levels.physics.lande import lande_g_ls
+
+    result = coupled_rates(_rows(HG), ionization_cm1=IP, spectrum="Hg I")
+    rows = {row["level_id"]: row for row in result.parameters["configurations"]["6s.6p"]["levels"]}
+    g_3p1, g_1p1 = rows[3]["lande_g"], rows[5]["lande_g"]
+    ls_sum = float(lande_g_ls(2, 1, 2)) + float(lande_g_ls(0, 1, 2))
+    assert g_3p1 + g_1p1 == pytest.approx(ls_sum, rel=1e-12)
+    assert float(lande_g_ls(0, 1, 2)) < g_1p1 < g_3p1 < float(lande_g_ls(2, 1, 2))
+    assert rows[2]["lande_g"] is None                      # J = 0
