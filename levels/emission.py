@@ -38,6 +38,7 @@ from levels.isotopes import isotope
 from levels.physics import colour, plasma
 from levels.physics import spectrum as spectra
 from levels.physics.discharge import balance as cr
+from levels.physics.discharge import escape as discharge_escape
 from levels.physics.discharge import excitation as cr_excitation
 from levels.physics.discharge import neutral_broadening, slab_transfer, stark, validity
 from levels.units import CM1_J, H, C
@@ -239,16 +240,20 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
         if model == "cr":
             escape = np.array([escape_by_key.get((r["lower_id"], r["upper_id"]), 1.0) for r in with_rates])
         else:
-            ground_e = float(np.min(energy))
-            resonance = np.array([r["lower_cm1"] == ground_e for r in with_rates])
-            tau = plasma.line_center_optical_depth(n_lower, f_abs, vacuum * 1e-9, doppler * 1e-9, path_length_m)
-            escape = np.where(resonance, plasma.escape_factor(tau), 1.0)
+            # the same escape factors as the CR balance uses, on the LTE populations (every line with an f value)
+            g_l = np.array([r["g_lower"] for r in with_rates], dtype=float)
+            g_u = np.array([r["g_upper"] for r in with_rates], dtype=float)
+            tau = plasma.line_center_optical_depth(n_lower, f_abs, vacuum * 1e-9, doppler * 1e-9, path_length_m,
+                                                   g_lower=g_l, g_upper=g_u, upper_population_m3=n_upper)
+            escape = np.ones_like(tau)
+            todo = tau > 1e-6
+            if np.any(todo):
+                escape[todo] = discharge_escape.mean_escape_factor(np.maximum(tau[todo], 0.0), geometry, "doppler")
         emissivity = thin_emissivity * escape
         thick = int((escape < 0.5).sum())
         if thick:
             warnings.append(f"{thick} lines are optically thick over {path_length_m:g} m (escape factor below 0.5); "
-                            "their emission is reduced by the escape factor of the "
-                            + ("plasma" if model == "cr" else "uniform slab (resonance lines only)"))
+                            f"their emission is reduced by the mean escape factor of the uniform {geometry}")
     shown_nm = np.array([r["air_nm"] if (medium == "air" and r["air_nm"] is not None) else r["vacuum_nm"]
                          for r in with_rates])
     lo, hi = window
@@ -294,8 +299,7 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
     description = ("LTE Boltzmann populations at te, two-stage Saha balance" if model == "lte" else
                    "collisional-radiative steady state at te, ne (" + cr_note + ")")
     description += ("; optically thin" if path_length_m is None else
-                    f"; escape factors over a {geometry} of depth {path_length_m:g} m"
-                    + (" (resonance lines)" if model == "lte" else "") + "; " + spectrum_note)
+                    f"; escape factors over a {geometry} of depth {path_length_m:g} m; " + spectrum_note)
     if pressure_note:
         description += "; " + pressure_note
     conditions = {

@@ -69,7 +69,10 @@ def test_optically_thick_resonance_lines(hydrogen):
     balmer_thin = sum(r["emissivity_w_m3_sr"] for r in thin.lines if r["lower"].startswith("2"))
     balmer_thick = sum(r["emissivity_w_m3_sr"] for r in thick.lines if r["lower"].startswith("2"))
     assert lyman_thick < 0.5 * lyman_thin
-    assert balmer_thick == pytest.approx(balmer_thin, rel=1e-12)
+    # every line with an f value gets its escape factor; n = 2 holds ~1e-4 of the 6e19 m-3 atoms left neutral,
+    # so the Balmer lines stay nearly thin (H-alpha centre optical depth well below 1): reduced, but little
+    assert balmer_thick < balmer_thin
+    assert balmer_thick == pytest.approx(balmer_thin, rel=0.02)
     assert any("optically thick" in w for w in thick.warnings)
 
 
