@@ -200,7 +200,7 @@ def where(obj: Context) -> None:
         try:
             require_existing_store(obj)
         except LevelsError:
-            click.echo("schema: no store file there yet (run 'levels init' to create it)")
+            click.echo("schema: not initialised (no store file there yet; 'levels init' creates it)")
             return
     try:
         revision = database.current_revision(obj.catalog.engine)
@@ -588,12 +588,13 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, candid
 @click.option("--element-density", metavar="DENSITY", help="Density of the element, all charge states (default: ne).")
 @click.option("--cutoff", "cutoff_method", type=click.Choice(["debye", "inglis-teller", "none"]), default="debye",
               show_default=True, help="Partition-function cutoff.")
-@click.option("--top", type=int, default=15, show_default=True, help="Lines printed in the table.")
+@click.option("--top", type=click.IntRange(min=0), default=15, show_default=True, help="Lines printed in the table.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json", "csv", "ecsv"]), default="table", show_default=True)
 @click.option("--output", type=click.Path(dir_okay=False), help="Write the line list (csv/ecsv/json) to this file.")
 @click.option("--plot", type=click.Path(dir_okay=False), help="Write an interactive spectrum (HTML) to this file.")
 @click.option("--spectrum", "spectrum_file", type=click.Path(dir_okay=False), help="Write the sampled spectrum (CSV).")
-@click.option("--points", type=int, default=20001, show_default=True, help="Points of the sampled spectrum.")
+@click.option("--points", type=click.IntRange(2, 10_000_001), default=20001, show_default=True,
+              help="Points of the sampled spectrum.")
 @click.pass_obj
 @reports_errors
 def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: str, from_: str | None, to: str | None,
@@ -621,9 +622,14 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
     from levels.catalog import EMISSION_COLUMNS, LINE_HEADINGS, LINE_UNITS
     from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 
+    require_existing_store(obj)
+    output_path(output)
+    output_path(plot, "--plot")
+    output_path(spectrum_file, "--spectrum")
+    from_nm, to_nm = _window(from_, to)
     result = obj.catalog.emission(
         spectrum, te_k=temperature_k(te), ne_m3=density_m3(ne), tgas_k=temperature_k(tgas),
-        from_nm=_wavelength_option(from_, "--from"), to_nm=_wavelength_option(to, "--to"), medium=medium,
+        from_nm=from_nm, to_nm=to_nm, medium=medium,
         instrument_fwhm_nm=wavelength_nm(instrument_fwhm) if instrument_fwhm.strip() not in ("0", "0nm") else 0.0,
         path_length_m=parse_quantity(path_length, "length") if path_length else None,
         element_density_m3=density_m3(element_density) if element_density else None, cutoff_method=cutoff_method,
@@ -646,6 +652,7 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
         units = dict(LINE_UNITS)
         text = format_table(result.lines, EMISSION_COLUMNS, "csv" if fmt == "table" else fmt, provenance, units=units)
         if output:
+            output_path(output)
             write_atomic(output, text)
             click.echo(f"wrote {len(result.lines)} lines to {output}", err=True)
         else:
@@ -681,10 +688,12 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
 
         title = (f"{spectrum} at Te {result.conditions['te_k']:.0f} K, ne {result.conditions['ne_m3']:.2g} m⁻³, "
                  f"{model.upper()} populations")
+        output_path(plot, "--plot")
         write_html(spectrum_figure(result.grid_nm, result.spectrum, result.lines, medium=medium, title=title), plot, title)
         click.echo(f"wrote the interactive spectrum to {plot}", err=True)
     if spectrum_file:
         rows = [{"wavelength_nm": float(x), "spectral_radiance": float(y)} for x, y in zip(result.grid_nm, result.spectrum)]
+        output_path(spectrum_file, "--spectrum")
         write_atomic(spectrum_file, format_table(rows, ("wavelength_nm", "spectral_radiance"), "csv",
                                                  {**provenance, "units": "spectral_radiance in W m-3 sr-1 nm-1; "
                                                                          f"wavelength in {medium}"}))

@@ -129,6 +129,7 @@ import hashlib
 import json
 import os
 import re
+import stat
 
 from levels import maintenance
 from levels.catalog import Catalog
@@ -228,7 +229,14 @@ def test_bad_command_line_is_refused(seeded, tmp_path, name, expected):
     if sqlite:
         places["store_file"] = seeded.url[len("sqlite:///"):]
         (scratch / "link-to-store").symlink_to(places["store_file"])
-    (scratch / "link-to-null").symlink_to("/dev/null")
+    # a private null device: if the code under test wrongly replaced a device, only this copy would go
+    places["null_device"] = str(scratch / "null")
+    try:
+        os.mknod(places["null_device"], 0o666 | stat.S_IFCHR, os.makedev(1, 3))
+    except PermissionError:
+        if any("null" in a for a in args):
+            pytest.skip("creating a device node needs privileges")
+    (scratch / "link-to-null").symlink_to(places["null_device"])
     os.mkfifo(places["fifo"])
     (scratch / "peaks.csv").write_text("peak_nm,medium\n670.79,air\n", encoding="utf-8")
     (scratch / "levels.csv").write_text("spectrum,configuration,term,j,energy_cm1\nLi I,1s2.5s,2S,1/2,39015.0\n",
@@ -242,7 +250,7 @@ def test_bad_command_line_is_refused(seeded, tmp_path, name, expected):
     result = CliRunner().invoke(main, args)
     assert result.exit_code != 0 and "Traceback" not in result.output, result.output
     shown = _error_line(result.output)
-    for key in ("store_file", "fifo", "peaks", "levels_file", "tmp"):
+    for key in ("store_file", "fifo", "peaks", "levels_file", "null_device", "tmp"):
         if key in places and shown:
             shown = shown.replace(places[key], "{" + key + "}")
     assert shown == expected, result.output
@@ -250,6 +258,8 @@ def test_bad_command_line_is_refused(seeded, tmp_path, name, expected):
     if sqlite:
         assert Path(places["store_file"]).read_bytes() == store_bytes
     assert sorted(os.listdir(scratch)) == listing  # no half-written output, no folder created
+    if "null_device" in places:
+        assert stat.S_ISCHR(os.lstat(places["null_device"]).st_mode)  # the device node is still a device
 
 
 @pytest.fixture

@@ -135,7 +135,8 @@ for name, recipe in STORE.items():
 
 # ----------------------------------------------------------------- command line
 # placeholders: {db} store URL, {store_file} SQLite file (SQLite only), {tmp} a scratch folder, {peaks} a good
-# peaks file, {fifo} a named pipe, {levels_file} a good levels file
+# peaks file, {fifo} a named pipe, {levels_file} a good levels file, {null_device} a private null device node
+# ({tmp}/null, made with mknod: a test of broken code must never replace the system's /dev/null)
 CLI = {
     "max_store_gb_nan": ["hydrogenic", "H I", "--max-store-gb", "nan"],
     "max_store_gb_inf": ["hydrogenic", "H I", "--max-store-gb", "inf"],
@@ -147,7 +148,7 @@ CLI = {
     "output_links_to_the_store": ["show", "Li I", "--format", "csv", "--output", "{tmp}/link-to-store"],
     "plot_is_the_store": ["emission", "Li I", "--te", "1eV", "--ne", "1e18m-3", "--plot", "{store_file}"],
     "export_store_onto_the_store": ["export-store", "{store_file}"],
-    "output_is_dev_null": ["lines", "Li I", "--format", "csv", "--output", "/dev/null"],
+    "output_is_a_null_device": ["lines", "Li I", "--format", "csv", "--output", "{null_device}"],
     "output_links_to_a_device": ["species", "--format", "json", "--output", "{tmp}/link-to-null"],
     "output_is_a_directory": ["show", "Li I", "--format", "csv", "--output", "{tmp}"],
     "from_negative": ["lines", "Li I", "--from", "-5nm"],
