@@ -36,12 +36,20 @@ def _data_block(text: str) -> str:
 
 
 def _signer() -> URLSafeTimedSerializer:
-    return URLSafeTimedSerializer(current_app.secret_key, salt="levels-analysis-lines-v1")
+    return URLSafeTimedSerializer(current_app.secret_key or "", salt="levels-analysis-lines-v1")
 
 
 def _form_defaults() -> dict:
-    return {"species": "H I", "profile": "gauss", "min_snr": "5", "medium": "", "instrument": "0nm", "tgas": "300K",
-            "tolerance": "0.01nm", "sample": ""}
+    return {
+        "species": "H I",
+        "profile": "gauss",
+        "min_snr": "5",
+        "medium": "",
+        "instrument": "0nm",
+        "tgas": "300K",
+        "tolerance": "0.01nm",
+        "sample": "",
+    }
 
 
 def _page(status: int = 200, **context):
@@ -102,17 +110,30 @@ def analyse():
     cal = request.files.get("calibration")
     cal_content = cal.read() if cal is not None and cal.filename else None
     try:
-        peaks = service.find_peaks(content=content, source=name, medium=values["medium"] or None,
-                                   calibration_content=cal_content, min_snr=min_snr, profile=values["profile"])
+        peaks = service.find_peaks(
+            content=content,
+            source=name,
+            medium=values["medium"] or None,
+            calibration_content=cal_content,
+            min_snr=min_snr,
+            profile=values["profile"],
+        )
     except InputFileError as exc:
-        return _page(400, values=values, errors={"spectrum": "the file was not accepted"},
-                     problems=[str(p) for p in exc.problems[:50]])
+        return _page(
+            400,
+            values=values,
+            errors={"spectrum": "the file was not accepted"},
+            problems=[str(p) for p in exc.problems[:50]],
+        )
     except LevelsError as exc:
         return _page(400, values=values, errors={"spectrum": str(exc)})
     axis = "wavelength [nm]" if peaks.data.axis == "wavelength_nm" else "pixel"
     title = f"{name}: {len(peaks.rows)} peaks ({values['profile']})"
-    fit_figure = _data_block(figure_json(peak_fit_figure(peaks.data.x, peaks.data.intensity, peaks.model(), peaks.rows,
-                                             axis_title=axis, title=title)))
+    fit_figure = _data_block(
+        figure_json(
+            peak_fit_figure(peaks.data.x, peaks.data.intensity, peaks.model(), peaks.rows, axis_title=axis, title=title)
+        )
+    )
     context = {"values": values, "peaks": peaks, "fit_figure": fit_figure, "source": name}
     species = [s.strip() for s in values["species"].split(",") if s.strip()]
     if species and peaks.rows:
@@ -124,15 +145,22 @@ def analyse():
         writer.writeheader()
         writer.writerows(peaks.rows)
         try:
-            result = service.diagnose(services.catalog(), species, content=buffer.getvalue().encode(),
-                                      source=f"peaks of {name}", tolerance_nm=tolerance or 0.01,
-                                      instrument_fwhm_nm=instrument or 0.0, tgas_k=tgas)
+            result = service.diagnose(
+                services.catalog(),
+                species,
+                content=buffer.getvalue().encode(),
+                source=f"peaks of {name}",
+                tolerance_nm=tolerance or 0.01,
+                instrument_fwhm_nm=instrument or 0.0,
+                tgas_k=tgas,
+            )
         except LevelsError as exc:
             context["diagnose_error"] = str(exc)
         else:
             context["report"] = result.report
-            context["boltzmann_figure"] = _data_block(figure_json(boltzmann_figure(result.report,
-                                                                                   title="Boltzmann plot")))
+            context["boltzmann_figure"] = _data_block(
+                figure_json(boltzmann_figure(result.report, title="Boltzmann plot"))
+            )
             context["measured_lines"] = result.measured_lines
             if result.measured_lines:
                 context["lines_token"] = _signer().dumps({"source": name, "lines": result.measured_lines})
@@ -158,10 +186,11 @@ def commit():
     if not sample or len(sample) > 200:
         return _page(400, errors={"commit": "name the sample the lines belong to (up to 200 characters)"})
     try:
-        report = service.commit_lines(services.catalog(), payload["lines"], sample=sample,
-                                      source=payload["source"])
+        report = service.commit_lines(services.catalog(), payload["lines"], sample=sample, source=payload["source"])
     except InputFileError as exc:
-        return _page(400, errors={"commit": "the lines were not accepted"}, problems=[str(p) for p in exc.problems[:50]])
+        return _page(
+            400, errors={"commit": "the lines were not accepted"}, problems=[str(p) for p in exc.problems[:50]]
+        )
     except LevelsError as exc:
         return _page(400, errors={"commit": str(exc)})
     return _page(committed={"dataset": report.dataset, "lines": report.lines, "sample": sample})

@@ -48,7 +48,7 @@ def frame(centres_nm, powers, lorentz_nm, scale, floor, tgas_k, mass_u):
     gauss_px = np.hypot(INSTRUMENT_FWHM_PX, shapes.doppler_fwhm_nm(centres_nm, tgas_k, mass_u) / slope)
     y = shapes.synthetic_spectrum(p, centre_px, powers, gauss_px, lorentz_px)
     y = y / y.max() * scale + floor
-    unc = np.sqrt(y)                     # invented shot noise, in counts
+    unc = np.sqrt(y)  # invented shot noise, in counts
     return p, np.round(y + rng.normal(0, 1, y.size) * unc, 1), np.round(unc, 2)
 
 
@@ -61,18 +61,35 @@ def write(name: str, header: str, p, y, unc) -> None:
 # --- the lamp: H and D, 1.1 eV, narrow lines (Doppler at 700 K is below the instrument width)
 h_nm, h_pow, _ = balmer(pc["proton mass in u"][0], 12765.0)
 d_nm, d_pow, _ = balmer(pc["deuteron mass in u"][0], 12765.0)
-p, y, unc = frame(np.concatenate([h_nm, d_nm]), np.concatenate([h_pow, d_pow]), 0.0, 40000.0, 200.0, 700.0,
-                  np.concatenate([np.full(h_nm.size, 1.008), np.full(d_nm.size, 2.014)]))
-write("frame-hd-lamp.csv",
-      "# INVENTED DEMO DATA - not a measurement. Pixel frame of the invented HD-2 lamp (lamp-hd-calibration.json)\n"
-      "# on the fictional Kestrel SP-300 spectrometer; made by seed_data/demo/generate_spectra.py.\n", p, y, unc)
+p, y, unc = frame(
+    np.concatenate([h_nm, d_nm]),
+    np.concatenate([h_pow, d_pow]),
+    0.0,
+    40000.0,
+    200.0,
+    700.0,
+    np.concatenate([np.full(h_nm.size, 1.008), np.full(d_nm.size, 2.014)]),
+)
+write(
+    "frame-hd-lamp.csv",
+    "# INVENTED DEMO DATA - not a measurement. Pixel frame of the invented HD-2 lamp (lamp-hd-calibration.json)\n"
+    "# on the fictional Kestrel SP-300 spectrometer; made by seed_data/demo/generate_spectra.py.\n",
+    p,
+    y,
+    unc,
+)
 
 # --- the arc: hydrogen at Te 12,000 K, ne 2e22 m-3 and a gas temperature of 3,000 K (all invented)
 NE = 2e22
 a_nm, a_pow, n_up = balmer(pc["proton mass in u"][0], 12000.0)
 width = np.where(n_up == 3, stark.stark_fwhm_nm("H-alpha", NE), stark.stark_fwhm_nm("H-beta", NE))
 p, y, unc = frame(a_nm, a_pow, width, 30000.0, 150.0, 3000.0, 1.008)
-write("frame-h-arc.csv",
-      "# INVENTED DEMO DATA - not a measurement. Pixel frame of the invented hydrogen arc 'arc-5' (Te 12000 K,\n"
-      "# ne 2e22 m-3, Tgas 3000 K, invented) on the fictional Kestrel SP-300; made by seed_data/demo/generate_spectra.py.\n",
-      p, y, unc)
+write(
+    "frame-h-arc.csv",
+    "# INVENTED DEMO DATA - not a measurement. Pixel frame of the invented hydrogen arc 'arc-5' (Te 12000 K,\n"
+    "# ne 2e22 m-3, Tgas 3000 K, invented) on the fictional Kestrel SP-300;\n"
+    "# made by seed_data/demo/generate_spectra.py.\n",
+    p,
+    y,
+    unc,
+)

@@ -18,6 +18,7 @@ from scipy.optimize import curve_fit
 
 from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import peaks
+
 from tests.bench.harness import BenchResult, best_time
 
 N_PEAKS = 1_000
@@ -32,7 +33,7 @@ def _spectrum(rng: np.random.Generator):
     slots = np.linspace(grid[0] + 200 * step, grid[-1] - 200 * step, N_PEAKS)
     centre = slots + rng.uniform(-20, 20, N_PEAKS) * step
     pairs = np.arange(0, N_PEAKS, 10)
-    centre[pairs + 1] = centre[pairs] + 9 * step          # blended with its neighbour
+    centre[pairs + 1] = centre[pairs] + 9 * step  # blended with its neighbour
     fwhm = 6 * step
     power = rng.uniform(0.5, 2.0, N_PEAKS) * fwhm
     y = shapes.synthetic_spectrum(grid, centre, power, fwhm, 0.0)

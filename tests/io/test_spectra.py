@@ -16,10 +16,12 @@ def _problems(content: bytes, source: str = "lamp.csv") -> list[str]:
 
 
 def test_csv_with_comments_medium_and_uncertainties():
-    text = b"# invented test spectrum\n# medium: vacuum\nwavelength_nm,intensity,intensity_unc\n" \
-           b"500.0,1,0.1\n\n# a comment between rows\n500.1,3nm,0.1\n500.2,2,0.1\n"
+    text = (
+        b"# invented test spectrum\n# medium: vacuum\nwavelength_nm,intensity,intensity_unc\n"
+        b"500.0,1,0.1\n\n# a comment between rows\n500.1,3nm,0.1\n500.2,2,0.1\n"
+    )
     with pytest.raises(InputFileError):
-        spectra.read_spectrum(text, source="a.csv")        # '3nm' in the intensity column: a unit where none belongs
+        spectra.read_spectrum(text, source="a.csv")  # '3nm' in the intensity column: a unit where none belongs
     data = spectra.read_spectrum(text.replace(b"3nm", b"3"), source="a.csv")
     assert data.axis == "wavelength_nm" and data.medium == "vacuum"
     assert data.intensity_unc.tolist() == [0.1, 0.1, 0.1]
@@ -31,21 +33,27 @@ def test_tsv_pixel_axis_decreasing_is_reversed():
     assert data.axis == "pixel" and data.x.tolist() == [1.0, 2.0, 3.0] and data.intensity.tolist() == [10, 20, 30]
 
 
-@pytest.mark.parametrize("content,expected", [
-    (b"", "lamp.csv: the file is empty"),
-    (b"# only a comment\n", "lamp.csv: no header line"),
-    (b"wavelength_nm,intensity\n", "lamp.csv:1: the header is not followed by any data row"),
-    (b"wavelength_nm,intensity\n500,1\n502,2\n501,3\n", "lamp.csv:4: wavelength_nm: the axis is not monotonic"),
-    (b"wavelength_nm,intensity\n500,1\n501,NaN\n502,3\n", "lamp.csv:3: intensity: 'NaN' is not a finite number"),
-    (b"wavelength_nm,intensity\n500,1\n501,2\n501,3\n", "lamp.csv:4: wavelength_nm: duplicate sample"),
-    (b"wavelength_nm,pixel,intensity\n500,1,1\n", "lamp.csv:1: pixel: mixed units"),
-    (b"wavelength_nm,intensity\n500,1\n5011A,2\n502,3\n", "lamp.csv:3: wavelength_nm: mixed units: '5011A'"),
-    (b"wavelength,intensity\n500,1\n", "lamp.csv:1: wavelength: unknown column (say the unit"),
-    (b"wavelength_nm,intensity\n500,1\n501\n", "lamp.csv:3: expected 2 fields"),
-    (b"wavelength_nm,intensity,intensity_unc\n500,1,0\n501,1,1\n502,1,1\n", "lamp.csv:2: intensity_unc: uncertainty must be > 0"),
-    (b"pixel,intensity\n1,2\n2,x\n", "lamp.csv:3: intensity: 'x' is not a number"),
-    (b"# medium: water\npixel,intensity\n1,2\n", "lamp.csv:1: medium: 'water' is not a medium"),
-])
+@pytest.mark.parametrize(
+    "content,expected",
+    [
+        (b"", "lamp.csv: the file is empty"),
+        (b"# only a comment\n", "lamp.csv: no header line"),
+        (b"wavelength_nm,intensity\n", "lamp.csv:1: the header is not followed by any data row"),
+        (b"wavelength_nm,intensity\n500,1\n502,2\n501,3\n", "lamp.csv:4: wavelength_nm: the axis is not monotonic"),
+        (b"wavelength_nm,intensity\n500,1\n501,NaN\n502,3\n", "lamp.csv:3: intensity: 'NaN' is not a finite number"),
+        (b"wavelength_nm,intensity\n500,1\n501,2\n501,3\n", "lamp.csv:4: wavelength_nm: duplicate sample"),
+        (b"wavelength_nm,pixel,intensity\n500,1,1\n", "lamp.csv:1: pixel: mixed units"),
+        (b"wavelength_nm,intensity\n500,1\n5011A,2\n502,3\n", "lamp.csv:3: wavelength_nm: mixed units: '5011A'"),
+        (b"wavelength,intensity\n500,1\n", "lamp.csv:1: wavelength: unknown column (say the unit"),
+        (b"wavelength_nm,intensity\n500,1\n501\n", "lamp.csv:3: expected 2 fields"),
+        (
+            b"wavelength_nm,intensity,intensity_unc\n500,1,0\n501,1,1\n502,1,1\n",
+            "lamp.csv:2: intensity_unc: uncertainty must be > 0",
+        ),
+        (b"pixel,intensity\n1,2\n2,x\n", "lamp.csv:3: intensity: 'x' is not a number"),
+        (b"# medium: water\npixel,intensity\n1,2\n", "lamp.csv:1: medium: 'water' is not a medium"),
+    ],
+)
 def test_bad_spectra_name_file_line_and_field(content, expected):
     problems = _problems(content)
     assert any(p.startswith(expected) for p in problems), problems
@@ -72,8 +80,10 @@ def test_fits_bad_values_name_the_sample(tmp_path):
     with pytest.raises(InputFileError, match=r"bad.fits: intensity: sample 2: not a finite number"):
         spectra.read_spectrum(path)
     table = tmp_path / "table.fits"
-    cols = [fits.Column(name="pixel", format="D", array=np.array([1.0, 2.0, 2.0])),
-            fits.Column(name="intensity", format="D", array=np.array([1.0, 2.0, 3.0]))]
+    cols = [
+        fits.Column(name="pixel", format="D", array=np.array([1.0, 2.0, 2.0])),
+        fits.Column(name="intensity", format="D", array=np.array([1.0, 2.0, 3.0])),
+    ]
     fits.HDUList([fits.PrimaryHDU(), fits.BinTableHDU.from_columns(cols)]).writeto(table)
     with pytest.raises(InputFileError, match=r"table HDU 1 row 3: duplicate sample"):
         spectra.read_spectrum(table)

@@ -21,7 +21,7 @@ from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import calibration, stark
 from levels.service import spectra as service
 
-TRUE = np.array([375.0, 0.02, 1e-7, -2e-12])   # invented spectrograph: nm at pixel p
+TRUE = np.array([375.0, 0.02, 1e-7, -2e-12])  # invented spectrograph: nm at pixel p
 N_PIX = 16384
 
 
@@ -46,7 +46,9 @@ def _csv(rows, columns) -> bytes:
 
 
 def _spectrum_file(x, y, unc=None, axis="wavelength_nm", medium="air") -> bytes:
-    head = f"# invented test spectrum\n# medium: {medium}\n{axis},intensity" + (",intensity_unc" if unc is not None else "")
+    head = f"# invented test spectrum\n# medium: {medium}\n{axis},intensity" + (
+        ",intensity_unc" if unc is not None else ""
+    )
     lines = [head]
     for i in range(len(x)):
         lines.append(f"{float(x[i])!r},{float(y[i])!r}" + (f",{float(unc[i])!r}" if unc is not None else ""))
@@ -60,8 +62,17 @@ def _noisy(y, seed, rel=0.01):
 
 def test_te_from_an_emission_spectrum_within_3_percent(hstore):
     te = 15000.0
-    res = hstore.emission("H I", te_k=te, ne_m3=1e21, tgas_k=1000.0, from_nm=380.0, to_nm=670.0, medium="air",
-                          instrument_fwhm_nm=0.03, grid_points=58001)
+    res = hstore.emission(
+        "H I",
+        te_k=te,
+        ne_m3=1e21,
+        tgas_k=1000.0,
+        from_nm=380.0,
+        to_nm=670.0,
+        medium="air",
+        instrument_fwhm_nm=0.03,
+        grid_points=58001,
+    )
     y, unc = _noisy(res.spectrum, 7)
     peaks = service.find_peaks(content=_spectrum_file(res.grid_nm, y, unc), source="syn.csv")
     assert len(peaks.rows) >= 6 and peaks.medium == "air"
@@ -69,15 +80,16 @@ def test_te_from_an_emission_spectrum_within_3_percent(hstore):
     # the CSV is a peaks file for identify (the design's contract)
     ident = hstore.identify_peaks(["H I"], None, tolerance_nm=0.01, content=peaks_csv, source="p.csv")
     assert {r["note"] for r in ident} <= {"", "ambiguous"}
-    result = service.diagnose(hstore, ["H I"], content=peaks_csv, source="p.csv", instrument_fwhm_nm=0.03,
-                              tgas_k=1000.0)
+    result = service.diagnose(
+        hstore, ["H I"], content=peaks_csv, source="p.csv", instrument_fwhm_nm=0.03, tgas_k=1000.0
+    )
     report = result.report
     assert report["te_k"] == pytest.approx(te, rel=0.03)
     assert abs(report["te_k"] - te) < 4 * report["te_unc_k"]
     assert len(report["boltzmann"]) >= 6
     for point in report["boltzmann"]:
         assert set(point) >= {"lower", "upper", "upper_cm1", "ln_y"}
-    assert report["validity"]["lte_min_ne_m3"] > 1e22      # the 10.2 eV resonance gap of H I
+    assert report["validity"]["lte_min_ne_m3"] > 1e22  # the 10.2 eV resonance gap of H I
     assert report["ne_m3"] is None and any("Stark" in w for w in report["warnings"])
 
 
@@ -85,8 +97,9 @@ def test_te_from_an_emission_spectrum_within_3_percent(hstore):
 def test_ne_from_a_balmer_line_within_10_percent(hstore, ne0, line_window):
     # line powers from the project's emission code; each line drawn with the Stark width of ne0 (Lorentzian),
     # the Doppler width at 2000 K and a 0.04 nm instrument (Gaussian)
-    res = hstore.emission("H I", te_k=12000.0, ne_m3=ne0, tgas_k=2000.0, from_nm=line_window[0],
-                          to_nm=line_window[1], medium="air")
+    res = hstore.emission(
+        "H I", te_k=12000.0, ne_m3=ne0, tgas_k=2000.0, from_nm=line_window[0], to_nm=line_window[1], medium="air"
+    )
     name = "H-beta" if line_window[0] < 500 else "H-alpha"
     centre = np.array([r["air_nm"] for r in res.lines])
     power = np.array([r["emissivity_w_m3_sr"] for r in res.lines])
@@ -97,13 +110,19 @@ def test_ne_from_a_balmer_line_within_10_percent(hstore, ne0, line_window):
     y, unc = _noisy(y, 3)
     peaks = service.find_peaks(content=_spectrum_file(grid, y, unc), source="balmer.csv", profile="voigt")
     main_peak = max(peaks.rows, key=lambda r: r["area"])
-    result = service.diagnose(hstore, ["H I"], content=_csv([main_peak], service.PEAK_COLUMNS), source="p.csv",
-                              instrument_fwhm_nm=0.04, tgas_k=2000.0)
+    result = service.diagnose(
+        hstore,
+        ["H I"],
+        content=_csv([main_peak], service.PEAK_COLUMNS),
+        source="p.csv",
+        instrument_fwhm_nm=0.04,
+        tgas_k=2000.0,
+    )
     report = result.report
     assert report["ne_m3"] == pytest.approx(ne0, rel=0.10)
     assert name in report["ne_method"]
     assert report["ne_unc_m3"] > 0
-    assert report["validity"]["lte_holds"] is None    # one line: no temperature, so no LTE verdict
+    assert report["validity"]["lte_holds"] is None  # one line: no temperature, so no LTE verdict
 
 
 def _lamp_pixels(hstore, seed):
@@ -123,8 +142,16 @@ def _lamp_pixels(hstore, seed):
 def test_pixel_lamp_spectrum_of_h_and_d_is_calibrated_below_a_fifth_of_a_pixel(hstore, seed):
     p, (y, unc) = _lamp_pixels(hstore, seed)
     lamp = _spectrum_file(p, y, unc, axis="pixel")
-    result = service.calibrate_lamp(hstore, content=lamp, source="lamp.csv", species=["H I", "D I"], degree=3,
-                                    medium="air", from_nm=370.0, to_nm=730.0)
+    result = service.calibrate_lamp(
+        hstore,
+        content=lamp,
+        source="lamp.csv",
+        species=["H I", "D I"],
+        degree=3,
+        medium="air",
+        from_nm=370.0,
+        to_nm=730.0,
+    )
     report = result.report
     assert report["rms_pixel"] < 0.2
     assert {r["spectrum"] for r in report["lines_used"]} == {"H I", "D I"}
@@ -145,7 +172,7 @@ def test_medium_is_explicit_and_converted(hstore):
     vac = service.find_peaks(content=_spectrum_file(x, y, medium="vacuum"), source="v.csv")
     air = service.find_peaks(content=_spectrum_file(x, y, medium="vacuum"), source="v.csv", medium="air")
     assert vac.medium == "vacuum" and air.medium == "air"
-    assert vac.rows[0]["peak_nm"] - air.rows[0]["peak_nm"] == pytest.approx(0.181, abs=0.002)   # n_air - 1 ~ 2.76e-4
+    assert vac.rows[0]["peak_nm"] - air.rows[0]["peak_nm"] == pytest.approx(0.181, abs=0.002)  # n_air - 1 ~ 2.76e-4
     assert any("converted from vacuum to air" in w for w in air.warnings)
     with pytest.raises(PhysicsInputError, match="pixel axis"):
         service.find_peaks(content=b"pixel,intensity\n1,1\n2,2\n3,1\n", source="px.csv")
@@ -154,11 +181,16 @@ def test_medium_is_explicit_and_converted(hstore):
 def test_nothing_is_written_until_commit(catalog):
     catalog.compute_hydrogenic("H I", n_max=3)
     before = len(catalog.dataset_rows())
-    rows, _ = catalog.species_lines(__import__("levels.catalog", fromlist=["LineQuery"]).LineQuery(
-        spectrum="H I", from_nm=121.0, to_nm=122.0, medium="vacuum"))
+    rows, _ = catalog.species_lines(
+        __import__("levels.catalog", fromlist=["LineQuery"]).LineQuery(
+            spectrum="H I", from_nm=121.0, to_nm=122.0, medium="vacuum"
+        )
+    )
     lyman = sorted(r["vacuum_nm"] for r in rows if r["lower"].startswith("1s"))
-    content = _csv([{"peak_nm": lam, "peak_unc_nm": 1e-5, "medium": "vacuum"} for lam in lyman],
-                   ("peak_nm", "peak_unc_nm", "medium"))
+    content = _csv(
+        [{"peak_nm": lam, "peak_unc_nm": 1e-5, "medium": "vacuum"} for lam in lyman],
+        ("peak_nm", "peak_unc_nm", "medium"),
+    )
     result = service.diagnose(catalog, ["H I"], content=content, source="lyman.csv", tolerance_nm=1e-5)
     assert len(result.measured_lines) == 2 and result.report["te_k"] is None
     assert len(catalog.dataset_rows()) == before
@@ -172,23 +204,59 @@ def test_nothing_is_written_until_commit(catalog):
 
 def test_command_line(hstore, tmp_path):
     te = 15000.0
-    res = hstore.emission("H I", te_k=te, ne_m3=1e21, tgas_k=1000.0, from_nm=380.0, to_nm=670.0, medium="air",
-                          instrument_fwhm_nm=0.03, grid_points=58001)
+    res = hstore.emission(
+        "H I",
+        te_k=te,
+        ne_m3=1e21,
+        tgas_k=1000.0,
+        from_nm=380.0,
+        to_nm=670.0,
+        medium="air",
+        instrument_fwhm_nm=0.03,
+        grid_points=58001,
+    )
     y, unc = _noisy(res.spectrum, 11)
     spec = tmp_path / "syn.csv"
     spec.write_bytes(_spectrum_file(res.grid_nm, y, unc))
     runner = CliRunner()
     db = ["--db", hstore.url]
-    out = runner.invoke(main, db + ["peaks", str(spec), "--format", "csv", "--output", str(tmp_path / "p.csv"),
-                                    "--plot", str(tmp_path / "p.html")])
+    out = runner.invoke(
+        main,
+        db
+        + [
+            "peaks",
+            str(spec),
+            "--format",
+            "csv",
+            "--output",
+            str(tmp_path / "p.csv"),
+            "--plot",
+            str(tmp_path / "p.html"),
+        ],
+    )
     assert out.exit_code == 0, out.output
     header = [l for l in (tmp_path / "p.csv").read_text().splitlines() if not l.startswith("#")][0]
     assert header.split(",")[:7] == ["peak_nm", "peak_unc_nm", "medium", "fwhm_nm", "area", "area_unc", "snr"]
     assert "plotly" in (tmp_path / "p.html").read_text()[:200000]
     out = runner.invoke(main, db + ["identify", "H I", str(tmp_path / "p.csv"), "--tolerance", "0.01nm"])
     assert out.exit_code == 0, out.output
-    out = runner.invoke(main, db + ["diagnose", "H I", str(tmp_path / "p.csv"), "--format", "json",
-                                    "--instrument-fwhm", "0.03nm", "--tgas", "1000K", "--plot", str(tmp_path / "b.html")])
+    out = runner.invoke(
+        main,
+        db
+        + [
+            "diagnose",
+            "H I",
+            str(tmp_path / "p.csv"),
+            "--format",
+            "json",
+            "--instrument-fwhm",
+            "0.03nm",
+            "--tgas",
+            "1000K",
+            "--plot",
+            str(tmp_path / "b.html"),
+        ],
+    )
     assert out.exit_code == 0, out.output
     report = json.loads(out.stdout)
     assert set(report) >= {"te_k", "te_unc_k", "ne_m3", "ne_unc_m3", "ne_method", "boltzmann", "validity", "warnings"}
@@ -209,14 +277,20 @@ def test_invented_demo_frames_end_to_end(hstore):
     from pathlib import Path
 
     demo = Path(__file__).resolve().parents[2] / "seed_data" / "demo"
-    cal = service.calibrate_lamp(hstore, demo / "frame-hd-lamp.csv", species=["H I", "D I"], from_nm=395.0,
-                                 to_nm=665.0)
+    cal = service.calibrate_lamp(hstore, demo / "frame-hd-lamp.csv", species=["H I", "D I"], from_nm=395.0, to_nm=665.0)
     assert cal.report["rms_pixel"] < 0.2 and len(cal.report["lines_used"]) == 10
     assert np.allclose(cal.report["coefficients"], [395.0, 0.0225, -2.0e-7, 4.0e-12], rtol=1e-3)
-    arc = service.find_peaks(demo / "frame-h-arc.csv", calibration_content=json.dumps(cal.report).encode(),
-                             profile="voigt")
-    result = service.diagnose(hstore, ["H I"], content=_csv(arc.rows, service.PEAK_COLUMNS), source="arc.csv",
-                              instrument_fwhm_nm=0.06, tgas_k=3000.0)
+    arc = service.find_peaks(
+        demo / "frame-h-arc.csv", calibration_content=json.dumps(cal.report).encode(), profile="voigt"
+    )
+    result = service.diagnose(
+        hstore,
+        ["H I"],
+        content=_csv(arc.rows, service.PEAK_COLUMNS),
+        source="arc.csv",
+        instrument_fwhm_nm=0.06,
+        tgas_k=3000.0,
+    )
     assert result.report["te_k"] == pytest.approx(12000.0, rel=0.03)
     assert result.report["ne_m3"] == pytest.approx(2e22, rel=0.10)
-    assert result.report["validity"]["lte_holds"] is False      # McWhirter asks ~1.9e23 m-3 for H I
+    assert result.report["validity"]["lte_holds"] is False  # McWhirter asks ~1.9e23 m-3 for H I

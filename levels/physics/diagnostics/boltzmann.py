@@ -40,10 +40,17 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from levels.errors import PhysicsInputError
-from levels.units import CM1_J, H, K_B, M_E
+from levels.units import CM1_J, K_B, M_E, H
 
-__all__ = ["BoltzmannFit", "boltzmann_ln_y", "fit_boltzmann", "saha_shift", "saha_boltzmann_points",
-           "fit_saha_boltzmann", "multiplet_deviations"]
+__all__ = [
+    "BoltzmannFit",
+    "boltzmann_ln_y",
+    "fit_boltzmann",
+    "saha_shift",
+    "saha_boltzmann_points",
+    "fit_saha_boltzmann",
+    "multiplet_deviations",
+]
 
 
 @dataclass
@@ -61,8 +68,9 @@ class BoltzmannFit:
     warnings: list[str] = field(default_factory=list)
 
 
-def boltzmann_ln_y(intensity: ArrayLike, wavelength_nm: ArrayLike, g_upper: ArrayLike, a_per_s: ArrayLike
-                   ) -> NDArray[np.float64]:
+def boltzmann_ln_y(
+    intensity: ArrayLike, wavelength_nm: ArrayLike, g_upper: ArrayLike, a_per_s: ArrayLike
+) -> NDArray[np.float64]:
     """``ln(I lambda / (g_u A))`` of each line (I in any unit; lambda in nm; A in s-1).
 
     Raises
@@ -83,8 +91,9 @@ def boltzmann_ln_y(intensity: ArrayLike, wavelength_nm: ArrayLike, g_upper: Arra
     return np.log(i * lam / (g * a))
 
 
-def fit_boltzmann(upper_cm1: ArrayLike, ln_y: ArrayLike, ln_y_unc: ArrayLike | None = None, *, clip: float = 3.0,
-                  max_iter: int = 5) -> BoltzmannFit:
+def fit_boltzmann(
+    upper_cm1: ArrayLike, ln_y: ArrayLike, ln_y_unc: ArrayLike | None = None, *, clip: float = 3.0, max_iter: int = 5
+) -> BoltzmannFit:
     """Weighted straight-line fit of a Boltzmann plot; Te from the slope.
 
     Parameters
@@ -155,7 +164,7 @@ def fit_boltzmann(upper_cm1: ArrayLike, ln_y: ArrayLike, ln_y_unc: ArrayLike | N
             break
         if ln_y_unc is not None:
             norm = np.abs(resid) / s
-        else:   # no given uncertainties: the robust scatter (1.4826 MAD) of the points in use
+        else:  # no given uncertainties: the robust scatter (1.4826 MAD) of the points in use
             mad = 1.4826 * float(np.median(np.abs(resid[use] - np.median(resid[use]))))
             norm = np.abs(resid) / mad if mad > 0 else np.zeros_like(resid)
         new = norm > clip
@@ -169,17 +178,29 @@ def fit_boltzmann(upper_cm1: ArrayLike, ln_y: ArrayLike, ln_y_unc: ArrayLike | N
     slope = float(coef[1])
     slope_unc = math.sqrt(cov[1, 1]) * (scale if ln_y_unc is None or scale > 1 else 1.0)
     if not slope < 0:
-        raise PhysicsInputError(f"the Boltzmann plot rises with upper energy (slope {slope:.3g} per cm-1): "
-                                "no excitation temperature; the populations are not in a Boltzmann balance")
+        raise PhysicsInputError(
+            f"the Boltzmann plot rises with upper energy (slope {slope:.3g} per cm-1): "
+            "no excitation temperature; the populations are not in a Boltzmann balance"
+        )
     te = -CM1_J / (K_B * slope)
     te_unc = te * slope_unc / abs(slope)
     if dof <= 0:
         warnings.append("only two lines: the temperature uncertainty comes from their given uncertainties alone")
     if outlier.any():
-        warnings.append(f"{int(outlier.sum())} line(s) more than {clip:g} standard deviations off the Boltzmann "
-                        "line were left out")
-    return BoltzmannFit(te_k=float(te), te_unc_k=float(te_unc), slope_per_cm1=slope, intercept=float(coef[0]),
-                        residual=resid, outlier=outlier, chi2=chi2, dof=dof, warnings=warnings)
+        warnings.append(
+            f"{int(outlier.sum())} line(s) more than {clip:g} standard deviations off the Boltzmann line were left out"
+        )
+    return BoltzmannFit(
+        te_k=float(te),
+        te_unc_k=float(te_unc),
+        slope_per_cm1=slope,
+        intercept=float(coef[0]),
+        residual=resid,
+        outlier=outlier,
+        chi2=chi2,
+        dof=dof,
+        warnings=warnings,
+    )
 
 
 def saha_shift(te_k: float, ne_m3: float) -> float:
@@ -192,11 +213,19 @@ def saha_shift(te_k: float, ne_m3: float) -> float:
     """
     if not (te_k > 0 and ne_m3 > 0):
         raise PhysicsInputError("te_k and ne_m3 must be > 0")
-    return math.log(2.0 * (2.0 * math.pi * M_E * K_B * te_k) ** 1.5 / (H ** 3 * ne_m3))
+    return math.log(2.0 * (2.0 * math.pi * M_E * K_B * te_k) ** 1.5 / (H**3 * ne_m3))
 
 
-def saha_boltzmann_points(upper_cm1: ArrayLike, ln_y: ArrayLike, ion_stage: ArrayLike, *, ionization_cm1: float,
-                          te_k: float, ne_m3: float, lowering_cm1: float = 0.0) -> tuple[NDArray, NDArray]:
+def saha_boltzmann_points(
+    upper_cm1: ArrayLike,
+    ln_y: ArrayLike,
+    ion_stage: ArrayLike,
+    *,
+    ionization_cm1: float,
+    te_k: float,
+    ne_m3: float,
+    lowering_cm1: float = 0.0,
+) -> tuple[NDArray, NDArray]:
     """Shift the points of the higher stage (``ion_stage == 1``) onto the lower stage's Boltzmann line.
 
     Returns
@@ -220,9 +249,19 @@ def saha_boltzmann_points(upper_cm1: ArrayLike, ln_y: ArrayLike, ion_stage: Arra
     return e, y
 
 
-def fit_saha_boltzmann(upper_cm1: ArrayLike, ln_y: ArrayLike, ion_stage: ArrayLike, *, ionization_cm1: float,
-                       ne_m3: float, ln_y_unc: ArrayLike | None = None, te_start_k: float = 10000.0,
-                       lowering_cm1: float = 0.0, tol: float = 1e-6, max_iter: int = 50) -> BoltzmannFit:
+def fit_saha_boltzmann(
+    upper_cm1: ArrayLike,
+    ln_y: ArrayLike,
+    ion_stage: ArrayLike,
+    *,
+    ionization_cm1: float,
+    ne_m3: float,
+    ln_y_unc: ArrayLike | None = None,
+    te_start_k: float = 10000.0,
+    lowering_cm1: float = 0.0,
+    tol: float = 1e-6,
+    max_iter: int = 50,
+) -> BoltzmannFit:
     """Te from lines of two adjacent ionization stages (iterated: the Saha shift depends on T).
 
     Examples
@@ -236,8 +275,9 @@ def fit_saha_boltzmann(upper_cm1: ArrayLike, ln_y: ArrayLike, ion_stage: ArrayLi
     """
     te = float(te_start_k)
     for _ in range(max_iter):
-        e, y = saha_boltzmann_points(upper_cm1, ln_y, ion_stage, ionization_cm1=ionization_cm1, te_k=te,
-                                     ne_m3=ne_m3, lowering_cm1=lowering_cm1)
+        e, y = saha_boltzmann_points(
+            upper_cm1, ln_y, ion_stage, ionization_cm1=ionization_cm1, te_k=te, ne_m3=ne_m3, lowering_cm1=lowering_cm1
+        )
         fit = fit_boltzmann(e, y, ln_y_unc)
         if abs(fit.te_k - te) <= tol * te:
             return fit
@@ -246,8 +286,15 @@ def fit_saha_boltzmann(upper_cm1: ArrayLike, ln_y: ArrayLike, ion_stage: ArrayLi
     return fit
 
 
-def multiplet_deviations(group: ArrayLike, ln_y: ArrayLike, ln_y_unc: ArrayLike, strength: ArrayLike, *,
-                         threshold: float = 3.0, min_ratio: float = 0.15) -> list[int]:
+def multiplet_deviations(
+    group: ArrayLike,
+    ln_y: ArrayLike,
+    ln_y_unc: ArrayLike,
+    strength: ArrayLike,
+    *,
+    threshold: float = 3.0,
+    min_ratio: float = 0.15,
+) -> list:
     """Groups (multiplets) whose strongest line sits below the group's weaker lines.
 
     Within a multiplet the upper energies are (nearly) equal, so every line should
@@ -257,7 +304,7 @@ def multiplet_deviations(group: ArrayLike, ln_y: ArrayLike, ln_y_unc: ArrayLike,
 
     Returns
     -------
-    list of int
+    list
         The group labels that deviate.
 
     Examples

@@ -35,6 +35,7 @@ References
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass, field
 
 import numpy as np
@@ -42,8 +43,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from levels.errors import PhysicsInputError
 
-__all__ = ["Dispersion", "fit_dispersion", "evaluate", "linear_seed", "match_to_lines", "calibrate",
-           "merge_blends"]
+__all__ = ["Dispersion", "fit_dispersion", "evaluate", "linear_seed", "match_to_lines", "calibrate", "merge_blends"]
 
 
 @dataclass
@@ -79,8 +79,16 @@ def evaluate(coefficients: ArrayLike, pixel: ArrayLike) -> NDArray[np.float64]:
     return np.polynomial.polynomial.polyval(np.asarray(pixel, dtype=float), np.asarray(coefficients, dtype=float))
 
 
-def fit_dispersion(pixel: ArrayLike, line_nm: ArrayLike, degree: int = 3, *, weights: ArrayLike | None = None,
-                   clip: float = 4.0, floor_nm: float = 0.0, max_iter: int = 20) -> Dispersion:
+def fit_dispersion(
+    pixel: ArrayLike,
+    line_nm: ArrayLike,
+    degree: int = 3,
+    *,
+    weights: ArrayLike | None = None,
+    clip: float = 4.0,
+    floor_nm: float = 0.0,
+    max_iter: int = 20,
+) -> Dispersion:
     """Least-squares dispersion polynomial with iterative outlier rejection.
 
     Parameters
@@ -127,8 +135,10 @@ def fit_dispersion(pixel: ArrayLike, line_nm: ArrayLike, degree: int = 3, *, wei
     if not (np.all(np.isfinite(p)) and np.all(np.isfinite(lam))):
         raise PhysicsInputError("pixel and line_nm must be finite")
     if p.size < degree + 2:
-        raise PhysicsInputError(f"a degree-{degree} dispersion needs at least {degree + 2} matched lines, "
-                                f"found {p.size}; lower --degree or add lines")
+        raise PhysicsInputError(
+            f"a degree-{degree} dispersion needs at least {degree + 2} matched lines, "
+            f"found {p.size}; lower --degree or add lines"
+        )
     w = np.ones_like(p) if weights is None else np.asarray(weights, dtype=float)
     used = np.ones(p.size, dtype=bool)
     warnings: list[str] = []
@@ -161,8 +171,17 @@ def fit_dispersion(pixel: ArrayLike, line_nm: ArrayLike, degree: int = 3, *, wei
     rms = float(np.sqrt(np.sum(resid[used] ** 2) / dof))
     slope = np.abs(np.polynomial.polynomial.polyval(p, np.polynomial.polynomial.polyder(coefficients)))
     rms_px = float(np.sqrt(np.sum((resid[used] / slope[used]) ** 2) / dof))
-    return Dispersion(degree=int(degree), coefficients=coefficients, pixel=p, line_nm=lam, residual_nm=resid,
-                      used=used, rms_nm=rms, rms_pixel=rms_px, warnings=warnings)
+    return Dispersion(
+        degree=int(degree),
+        coefficients=np.asarray(coefficients, dtype=float),
+        pixel=p,
+        line_nm=lam,
+        residual_nm=np.asarray(resid, dtype=float),
+        used=used,
+        rms_nm=rms,
+        rms_pixel=rms_px,
+        warnings=warnings,
+    )
 
 
 def merge_blends(line_nm: ArrayLike, strength: ArrayLike, resolution_nm: float) -> tuple[NDArray, NDArray, list]:
@@ -198,10 +217,20 @@ def _nearest(sorted_values: NDArray, query: NDArray) -> tuple[NDArray, NDArray]:
     return pick, np.abs(sorted_values[pick] - query)
 
 
-def linear_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayLike, line_strength: ArrayLike, *,
-                rough_dispersion: float, tolerance_nm: float, dispersion_range: tuple[float, float] = (0.7, 1.4),
-                n_peaks: int = 15, n_lines: int = 25, rough_ends: tuple | None = None,
-                ends_tolerance: float = 0.06) -> tuple[float, float, int]:
+def linear_seed(
+    peak_pixel: ArrayLike,
+    peak_strength: ArrayLike,
+    line_nm: ArrayLike,
+    line_strength: ArrayLike,
+    *,
+    rough_dispersion: float,
+    tolerance_nm: float,
+    dispersion_range: tuple[float, float] = (0.7, 1.4),
+    n_peaks: int = 15,
+    n_lines: int = 25,
+    rough_ends: tuple | None = None,
+    ends_tolerance: float = 0.06,
+) -> tuple[float, float, int]:
     """Best linear map lambda = a + b p by voting over peak pairs and line pairs.
 
     Parameters
@@ -244,8 +273,9 @@ def linear_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayL
     ll = np.asarray(line_nm, dtype=float)
     ls = np.asarray(line_strength, dtype=float)
     if pp.size < 2 or ll.size < 2:
-        raise PhysicsInputError(f"matching needs at least 2 peaks and 2 candidate lines (found {pp.size} peaks, "
-                                f"{ll.size} lines)")
+        raise PhysicsInputError(
+            f"matching needs at least 2 peaks and 2 candidate lines (found {pp.size} peaks, {ll.size} lines)"
+        )
     pick_p = np.argsort(-ps)[:n_peaks]
     pick_l = np.argsort(-ls)[:n_lines]
     top_p, top_l = pp[pick_p], ll[pick_l]
@@ -273,15 +303,17 @@ def linear_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayL
         ok &= (np.abs(a + b * q0 - l0) <= room) & (np.abs(a + b * q1 - l1) <= room)
     a, b = a[ok], b[ok]
     if a.size == 0:
-        raise PhysicsInputError("no pair of peaks and lines gives a dispersion near the expected one; "
-                                "check the wavelength range given for the axis")
+        raise PhysicsInputError(
+            "no pair of peaks and lines gives a dispersion near the expected one; "
+            "check the wavelength range given for the axis"
+        )
     # votes are counted among the strong peaks and lines only: a crowd of weak lines (a series
     # converging on its limit) would otherwise let any map match something
     lines_sorted = np.sort(top_l)
     best = (0, -1.0, 0.0, 0.0)
     chunk = max(1, 2_000_000 // max(top_p.size, 1))
     for s0 in range(0, a.size, chunk):
-        aa, bb = a[s0:s0 + chunk, None], b[s0:s0 + chunk, None]
+        aa, bb = a[s0 : s0 + chunk, None], b[s0 : s0 + chunk, None]
         mapped = aa + bb * top_p[None, :]
         near, dist = _nearest(lines_sorted, mapped.ravel())
         near, dist = near.reshape(mapped.shape), dist.reshape(mapped.shape)
@@ -304,9 +336,19 @@ def linear_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayL
     return best[2], best[3], best[0]
 
 
-def quadratic_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: ArrayLike, line_strength: ArrayLike, *,
-                   rough_ends: tuple, tolerance_nm: float, dispersion_range: tuple[float, float] = (0.6, 1.6),
-                   ends_tolerance: float = 0.06, n_peaks: int = 12, n_lines: int = 20) -> tuple[NDArray, int]:
+def quadratic_seed(
+    peak_pixel: ArrayLike,
+    peak_strength: ArrayLike,
+    line_nm: ArrayLike,
+    line_strength: ArrayLike,
+    *,
+    rough_ends: tuple,
+    tolerance_nm: float,
+    dispersion_range: tuple[float, float] = (0.6, 1.6),
+    ends_tolerance: float = 0.06,
+    n_peaks: int = 12,
+    n_lines: int = 20,
+) -> tuple[NDArray, int]:
     """Best quadratic map by voting over triples of strong peaks and triples of strong lines.
 
     Each ordered triple of peaks and triple of lines fixes a parabola lambda(p); parabolas whose
@@ -350,17 +392,19 @@ def quadratic_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: Arr
     order_l = np.argsort(ll[pick_l])
     top_l = ll[pick_l][order_l]
     wl = np.sqrt(np.clip(ls[pick_l][order_l] / max(ls[pick_l].max(), 1e-300), 0, None))
-    trip_p = np.array([(a, b, c) for a in range(top_p.size) for b in range(a + 1, top_p.size)
-                       for c in range(b + 1, top_p.size)])
-    trip_l = np.array([(a, b, c) for a in range(top_l.size) for b in range(a + 1, top_l.size)
-                       for c in range(b + 1, top_l.size)])
+    trip_p = np.array(
+        [(a, b, c) for a in range(top_p.size) for b in range(a + 1, top_p.size) for c in range(b + 1, top_p.size)]
+    )
+    trip_l = np.array(
+        [(a, b, c) for a in range(top_l.size) for b in range(a + 1, top_l.size) for c in range(b + 1, top_l.size)]
+    )
     if rough < 0:
         trip_l = trip_l[:, ::-1]
-    x = top_p[trip_p]                      # (P, 3)
-    best = (-1.0, None, 0)
+    x = top_p[trip_p]  # (P, 3)
+    best: tuple[float, NDArray[np.float64] | None, int] = (-1.0, None, 0)
     chunk = max(1, 400_000 // max(x.shape[0], 1))
     for s0 in range(0, trip_l.shape[0], chunk):
-        y = top_l[trip_l[s0:s0 + chunk]]   # (L, 3)
+        y = top_l[trip_l[s0 : s0 + chunk]]  # (L, 3)
         x0, x1, x2 = (x[:, None, n] for n in range(3))
         y0, y1, y2 = (y[None, :, n] for n in range(3))
         d01 = (y1 - y0) / (x1 - x0)
@@ -394,13 +438,16 @@ def quadratic_seed(peak_pixel: ArrayLike, peak_strength: ArrayLike, line_nm: Arr
         if votes[top] > best[0]:
             best = (float(votes[top]), np.array([c0[top], c1[top], c2[top]]), int(count[top]))
     if best[1] is None or best[2] < 3:
-        raise PhysicsInputError("no smooth map puts three or more strong peaks on strong lines; check the species, "
-                                "the medium and the rough wavelength range")
+        raise PhysicsInputError(
+            "no smooth map puts three or more strong peaks on strong lines; check the species, "
+            "the medium and the rough wavelength range"
+        )
     return best[1], best[2]
 
 
-def match_to_lines(peak_pixel: ArrayLike, coefficients: ArrayLike, line_nm: ArrayLike, tolerance_nm: float
-                   ) -> tuple[NDArray[np.intp], NDArray[np.intp]]:
+def match_to_lines(
+    peak_pixel: ArrayLike, coefficients: ArrayLike, line_nm: ArrayLike, tolerance_nm: float
+) -> tuple[NDArray[np.intp], NDArray[np.intp]]:
     """One-to-one matches of peaks to lines under a dispersion: nearest line within tolerance.
 
     A line claimed by several peaks goes to the nearest one. ``tolerance_nm`` may be one
@@ -459,12 +506,14 @@ def _stage(pp, ps, ll, ls, coef, tol, degree, clip, floor, scale=None, spread=No
     pi, li = match_to_lines(cp, coef, cl, reach)
     use_deg = min(degree, max(pi.size - 2, 0))
     if use_deg < 1:
-        raise PhysicsInputError(f"only {pi.size} peaks matched lines while refining the calibration "
-                                "(check the species, the medium and the wavelength range)")
+        raise PhysicsInputError(
+            f"only {pi.size} peaks matched lines while refining the calibration "
+            "(check the species, the medium and the wavelength range)"
+        )
     return fit_dispersion(cp[pi], cl[li], use_deg, clip=clip, floor_nm=floor), pi
 
 
-def prediction_sigma(fit: Dispersion) -> callable:
+def prediction_sigma(fit: Dispersion) -> Callable[[ArrayLike], NDArray[np.float64]]:
     """Standard uncertainty (nm) of the fitted polynomial at any pixel, from its covariance.
 
     Far outside the fitted pixels the uncertainty grows as the polynomial extrapolates.
@@ -505,10 +554,20 @@ def _settle(pp, ps, ll, ls, coef, tol, degree, clip, floor):
     return coef, tol
 
 
-def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: ArrayLike, line_nm: ArrayLike,
-              line_strength: ArrayLike, *, degree: int = 3, rough_coefficients: ArrayLike | None = None,
-              rough_range_nm: tuple[float, float] | None = None, axis_range: tuple[float, float] | None = None,
-              tolerance_nm: float | None = None, clip: float = 4.0) -> Dispersion:
+def calibrate(
+    peak_pixel: ArrayLike,
+    peak_strength: ArrayLike,
+    peak_width: ArrayLike,
+    line_nm: ArrayLike,
+    line_strength: ArrayLike,
+    *,
+    degree: int = 3,
+    rough_coefficients: ArrayLike | None = None,
+    rough_range_nm: tuple[float, float] | None = None,
+    axis_range: tuple[float, float] | None = None,
+    tolerance_nm: float | None = None,
+    clip: float = 4.0,
+) -> Dispersion:
     """Match peaks to lines and fit the dispersion, raising the degree step by step.
 
     Parameters
@@ -555,8 +614,10 @@ def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: Array
         # a peak much wider than the instrument's width is an unresolved blend: no place in a calibration
         isolated = pw <= 1.5 * width_px
         if (~isolated).any() and isolated.sum() >= degree + 2:
-            notes.append(f"{int((~isolated).sum())} peak(s) wider than 1.5 times the median width (unresolved "
-                         "blends) were left out of the matching")
+            notes.append(
+                f"{int((~isolated).sum())} peak(s) wider than 1.5 times the median width (unresolved "
+                "blends) were left out of the matching"
+            )
             keep_index = np.flatnonzero(isolated)
             pp, ps, pw = pp[isolated], ps[isolated], pw[isolated]
         else:
@@ -601,8 +662,10 @@ def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: Array
     for _ in range(5):
         pi, li = match_to_lines(pp, coef, ll, tol)
         if pi.size < degree + 2:
-            raise PhysicsInputError(f"only {pi.size} peaks matched lines; a degree-{degree} calibration needs "
-                                    f"{degree + 2} (check the species, the medium and the wavelength range)")
+            raise PhysicsInputError(
+                f"only {pi.size} peaks matched lines; a degree-{degree} calibration needs "
+                f"{degree + 2} (check the species, the medium and the wavelength range)"
+            )
         fit = fit_dispersion(pp[pi], ll[li], degree, clip=clip, floor_nm=floor)
         fit.peak_index, fit.line_index = pi, li
         coef = fit.coefficients
@@ -613,6 +676,8 @@ def calibrate(peak_pixel: ArrayLike, peak_strength: ArrayLike, peak_width: Array
     fit.peak_index = keep_index[fit.peak_index]
     fit.warnings.extend(notes)
     if degree and fit.used.sum() < degree + 4:
-        fit.warnings.append(f"only {int(fit.used.sum())} lines fix a degree-{degree} polynomial; "
-                            "its residuals say little about its accuracy between the lines")
+        fit.warnings.append(
+            f"only {int(fit.used.sum())} lines fix a degree-{degree} polynomial; "
+            "its residuals say little about its accuracy between the lines"
+        )
     return fit

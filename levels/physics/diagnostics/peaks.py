@@ -50,8 +50,18 @@ from scipy.special import voigt_profile
 
 from levels.errors import PhysicsInputError
 
-__all__ = ["PeakFit", "estimate_noise", "estimate_baseline", "detect_peaks", "fit_peaks", "find_and_fit",
-           "gauss_profile", "voigt_fwhm", "model_curve", "PROFILES"]
+__all__ = [
+    "PeakFit",
+    "estimate_noise",
+    "estimate_baseline",
+    "detect_peaks",
+    "fit_peaks",
+    "find_and_fit",
+    "gauss_profile",
+    "voigt_fwhm",
+    "model_curve",
+    "PROFILES",
+]
 
 PROFILES = ("gauss", "voigt")
 #: FWHM of a Gaussian divided by its standard deviation
@@ -83,7 +93,7 @@ class PeakFit:
     group: NDArray[np.int64]
     noise: float
     baseline: NDArray[np.float64] | None = None
-    background: list = field(default_factory=list)   # (lo, hi, a, b, x_mid) per group
+    background: list = field(default_factory=list)  # (lo, hi, a, b, x_mid) per group
     warnings: list[str] = field(default_factory=list)
 
     def __len__(self) -> int:
@@ -191,8 +201,9 @@ def estimate_baseline(y: ArrayLike, window: int, noise: float) -> NDArray[np.flo
     return base
 
 
-def detect_peaks(y: ArrayLike, baseline: ArrayLike, noise: float | ArrayLike, *, min_snr: float = 5.0,
-                 min_width: float = 1.0) -> tuple[NDArray[np.intp], NDArray[np.float64], NDArray[np.float64]]:
+def detect_peaks(
+    y: ArrayLike, baseline: ArrayLike, noise: float | ArrayLike, *, min_snr: float = 5.0, min_width: float = 1.0
+) -> tuple[NDArray[np.intp], NDArray[np.float64], NDArray[np.float64]]:
     """Local maxima higher than ``min_snr`` noise above the baseline.
 
     Parameters
@@ -255,9 +266,9 @@ def _gauss_jacobian(x: NDArray, params: NDArray, n_peaks: int, w: NDArray) -> ND
     u = (x[None, :] - c) / s
     g = np.exp(-0.5 * u * u) / (s * math.sqrt(2.0 * math.pi))
     jac = np.empty((x.size, params.size))
-    jac[:, 0: 3 * n_peaks: 3] = (a * g * u / s).T
-    jac[:, 1: 3 * n_peaks: 3] = g.T
-    jac[:, 2: 3 * n_peaks: 3] = (sf * a * g * (u * u - 1.0) / f).T
+    jac[:, 0 : 3 * n_peaks : 3] = (a * g * u / s).T
+    jac[:, 1 : 3 * n_peaks : 3] = g.T
+    jac[:, 2 : 3 * n_peaks : 3] = (sf * a * g * (u * u - 1.0) / f).T
     jac[:, 3 * n_peaks] = 1.0
     jac[:, 3 * n_peaks + 1] = x - x.mean()
     return jac * w[:, None]
@@ -277,9 +288,18 @@ def _groups(centre: NDArray, half: NDArray) -> list[NDArray[np.intp]]:
     return out
 
 
-def fit_peaks(x: ArrayLike, y: ArrayLike, guess_centre: ArrayLike, guess_fwhm: ArrayLike, guess_height: ArrayLike,
-              *, noise: float | ArrayLike, baseline: ArrayLike | None = None, profile: str = "gauss",
-              window_fwhm: float | None = None) -> PeakFit:
+def fit_peaks(
+    x: ArrayLike,
+    y: ArrayLike,
+    guess_centre: ArrayLike,
+    guess_fwhm: ArrayLike,
+    guess_height: ArrayLike,
+    *,
+    noise: float | ArrayLike,
+    baseline: ArrayLike | None = None,
+    profile: str = "gauss",
+    window_fwhm: float | None = None,
+) -> PeakFit:
     """Fit Gaussian or Voigt profiles to given peaks; overlapping peaks are fitted together.
 
     Parameters
@@ -338,13 +358,31 @@ def fit_peaks(x: ArrayLike, y: ArrayLike, guess_centre: ArrayLike, guess_fwhm: A
     k_win = window_fwhm if window_fwhm is not None else (3.0 if profile == "gauss" else 8.0)
     n = gc.size
     k = 3 if profile == "gauss" else 4
-    out = {name: np.full(n, np.nan) for name in ("centre", "centre_unc", "fwhm", "fwhm_unc", "area", "area_unc",
-                                                 "height", "gf", "lf")}
+    out = {
+        name: np.full(n, np.nan)
+        for name in ("centre", "centre_unc", "fwhm", "fwhm_unc", "area", "area_unc", "height", "gf", "lf")
+    }
     group_of = np.zeros(n, dtype=np.int64)
-    background, warnings = [], []
+    background: list = []
+    warnings: list[str] = []
     if n == 0:
-        return PeakFit(profile, *(np.zeros(0) for _ in range(11)), np.zeros(0, dtype=np.int64), float(np.median(sigma)),
-                       baseline=None if baseline is None else np.asarray(baseline, dtype=float))
+        empty = np.zeros(0)
+        return PeakFit(
+            profile,
+            empty,
+            empty,
+            empty,
+            empty,
+            empty,
+            empty,
+            empty,
+            empty,
+            empty,
+            empty,
+            np.zeros(0, dtype=np.int64),
+            float(np.median(sigma)),
+            baseline=None if baseline is None else np.asarray(baseline, dtype=float),
+        )
     half = k_win * gf
     for g_id, members in enumerate(_groups(gc, half)):
         group_of[members] = g_id
@@ -360,32 +398,33 @@ def fit_peaks(x: ArrayLike, y: ArrayLike, guess_centre: ArrayLike, guess_fwhm: A
         # Voigt fits start twice, Gauss-like and Lorentz-like (the two widths trade off); the lower cost wins
         starts = [(1.0, 0.0)] if profile == "gauss" else [(0.7, 0.3), (0.15, 0.9)]
 
-        def resid(p, xs=xs, ys=ys, ws=ws, xm=xm):
+        def resid(p, xs=xs, ys=ys, ws=ws, xm=xm, m=m):
             return (_profile_values(profile, xs, p[: k * m]) + p[-2] + p[-1] * (xs - xm) - ys) * ws
 
         jac = (lambda p, xs=xs, ws=ws, m=m: _gauss_jacobian(xs, p, m, ws)) if profile == "gauss" else "2-point"
         sol = None
         for g_share, l_share in starts:
-            p0 = []
+            guess: list[float] = []
             for i in members:
-                area0 = gh[i] * gf[i] * (1.0645 if l_share < 0.5 else 1.5708)   # Gaussian / Lorentzian area
-                p0.extend([gc[i], area0, gf[i]] if profile == "gauss" else
-                          [gc[i], area0, g_share * gf[i], l_share * gf[i]])
-            p0 = np.asarray(p0 + [0.0, 0.0])
+                area0 = gh[i] * gf[i] * (1.0645 if l_share < 0.5 else 1.5708)  # Gaussian / Lorentzian area
+                guess.extend(
+                    [gc[i], area0, gf[i]] if profile == "gauss" else [gc[i], area0, g_share * gf[i], l_share * gf[i]]
+                )
+            p0 = np.asarray(guess + [0.0, 0.0])
             try:
                 trial = least_squares(resid, p0, jac=jac, method="lm", x_scale="jac")
-            except (ValueError, np.linalg.LinAlgError) as exc:   # pragma: no cover - defensive
+            except (ValueError, np.linalg.LinAlgError) as exc:  # pragma: no cover - defensive
                 warnings.append(f"peak near {gc[members[0]]:.6g}: fit failed ({exc})")
                 continue
             if sol is None or trial.cost < sol.cost:
                 sol = trial
-        if sol is None:   # pragma: no cover
+        if sol is None:  # pragma: no cover
             continue
         p = sol.x
         J = sol.jac
         try:
             cov = np.linalg.pinv(J.T @ J)
-        except np.linalg.LinAlgError:   # pragma: no cover
+        except np.linalg.LinAlgError:  # pragma: no cover
             cov = np.full((p.size, p.size), np.nan)
         background.append((float(xs[0]), float(xs[-1]), float(p[-2]), float(p[-1]), float(xm)))
         for j, i in enumerate(members):
@@ -404,11 +443,13 @@ def fit_peaks(x: ArrayLike, y: ArrayLike, guess_centre: ArrayLike, guess_fwhm: A
             else:
                 fv = float(voigt_fwhm(fg, fl))
                 denom = math.sqrt(0.2166 * fl * fl + fg * fg) or 1.0
-                grad = np.array([fg / denom, 0.5346 + 0.2166 * fl / denom])   # d fV / d(fg, fl)
-                sub = cov[base + 2: base + 4, base + 2: base + 4]
+                grad = np.array([fg / denom, 0.5346 + 0.2166 * fl / denom])  # d fV / d(fg, fl)
+                sub = cov[base + 2 : base + 4, base + 2 : base + 4]
                 out["fwhm"][i] = fv
                 out["fwhm_unc"][i] = math.sqrt(max(float(grad @ sub @ grad), 0.0))
-                out["height"][i] = a * float(voigt_profile(0.0, fg / FWHM_PER_SIGMA, fl / 2.0)) if fg + fl > 0 else np.nan
+                out["height"][i] = (
+                    a * float(voigt_profile(0.0, fg / FWHM_PER_SIGMA, fl / 2.0)) if fg + fl > 0 else np.nan
+                )
     i_centre = np.clip(np.searchsorted(x, np.nan_to_num(out["centre"], nan=x[0])), 0, x.size - 1)
     snr = out["height"] / sigma[i_centre]
     bad = ~np.isfinite(out["centre"]) | (out["centre"] < x[0]) | (out["centre"] > x[-1]) | ~(out["area"] > 0)
@@ -420,16 +461,35 @@ def fit_peaks(x: ArrayLike, y: ArrayLike, guess_centre: ArrayLike, guess_fwhm: A
     def sel(arr):
         return np.asarray(arr)[keep][order2]
 
-    return PeakFit(profile=profile, centre=sel(out["centre"]), centre_unc=sel(out["centre_unc"]), fwhm=sel(out["fwhm"]),
-                   fwhm_unc=sel(out["fwhm_unc"]), area=sel(out["area"]), area_unc=sel(out["area_unc"]),
-                   height=sel(out["height"]), snr=sel(snr), gauss_fwhm=sel(out["gf"]), lorentz_fwhm=sel(out["lf"]),
-                   group=sel(group_of), noise=float(np.median(sigma)),
-                   baseline=None if baseline is None else np.asarray(baseline, dtype=float),
-                   background=background, warnings=warnings)
+    return PeakFit(
+        profile=profile,
+        centre=sel(out["centre"]),
+        centre_unc=sel(out["centre_unc"]),
+        fwhm=sel(out["fwhm"]),
+        fwhm_unc=sel(out["fwhm_unc"]),
+        area=sel(out["area"]),
+        area_unc=sel(out["area_unc"]),
+        height=sel(out["height"]),
+        snr=sel(snr),
+        gauss_fwhm=sel(out["gf"]),
+        lorentz_fwhm=sel(out["lf"]),
+        group=sel(group_of),
+        noise=float(np.median(sigma)),
+        baseline=None if baseline is None else np.asarray(baseline, dtype=float),
+        background=background,
+        warnings=warnings,
+    )
 
 
-def find_and_fit(x: ArrayLike, y: ArrayLike, *, y_unc: ArrayLike | None = None, profile: str = "gauss",
-                 min_snr: float = 5.0, baseline_window: int | None = None) -> PeakFit:
+def find_and_fit(
+    x: ArrayLike,
+    y: ArrayLike,
+    *,
+    y_unc: ArrayLike | None = None,
+    profile: str = "gauss",
+    min_snr: float = 5.0,
+    baseline_window: int | None = None,
+) -> PeakFit:
     """The whole chain on one spectrum: noise, baseline, detection, fits.
 
     Parameters
@@ -466,14 +526,16 @@ def find_and_fit(x: ArrayLike, y: ArrayLike, *, y_unc: ArrayLike | None = None, 
         raise PhysicsInputError(f"a spectrum needs at least 8 samples to find peaks, got {x.size}")
     noise = np.asarray(y_unc, dtype=float) if y_unc is not None else estimate_noise(y)
     if np.ndim(noise) == 0 and not float(noise) > 0:
-        raise PhysicsInputError("the spectrum has no noise at all (identical neighbouring samples); "
-                                "give intensity_unc to set the uncertainty")
+        raise PhysicsInputError(
+            "the spectrum has no noise at all (identical neighbouring samples); "
+            "give intensity_unc to set the uncertainty"
+        )
     scalar_noise = float(np.median(noise))
     # first pass on a rough baseline to learn the peak widths
     rough = estimate_baseline(y, baseline_window or max(31, x.size // 50), scalar_noise)
     idx, height, width = detect_peaks(y, rough, noise, min_snr=min_snr)
     if baseline_window is None:
-        wide = 15 if profile == "gauss" else 80   # Lorentz wings reach far: a wider median
+        wide = 15 if profile == "gauss" else 80  # Lorentz wings reach far: a wider median
         baseline_window = int(max(31, wide * (np.median(width) if width.size else 3)))
         baseline = estimate_baseline(y, baseline_window, scalar_noise)
         idx, height, width = detect_peaks(y, baseline, noise, min_snr=min_snr)
@@ -512,6 +574,7 @@ def model_curve(x: ArrayLike, fit: PeakFit) -> NDArray[np.float64]:
         if fit.profile == "gauss":
             total[lo:hi] += fit.area[i] * gauss_profile(xs, fit.centre[i], fit.fwhm[i])
         else:
-            total[lo:hi] += fit.area[i] * voigt_profile(xs - fit.centre[i], fit.gauss_fwhm[i] / FWHM_PER_SIGMA,
-                                                        fit.lorentz_fwhm[i] / 2.0)
+            total[lo:hi] += fit.area[i] * voigt_profile(
+                xs - fit.centre[i], fit.gauss_fwhm[i] / FWHM_PER_SIGMA, fit.lorentz_fwhm[i] / 2.0
+            )
     return total

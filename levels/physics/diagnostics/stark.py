@@ -93,8 +93,9 @@ def stark_fwhm_nm(line: str, ne_m3: ArrayLike) -> NDArray[np.float64]:
     return w0 * (ne / 1e23) ** (1.0 / b)
 
 
-def electron_density_m3(line: str, stark_fwhm: ArrayLike, stark_fwhm_unc: ArrayLike = 0.0
-                        ) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+def electron_density_m3(
+    line: str, stark_fwhm: ArrayLike, stark_fwhm_unc: ArrayLike = 0.0
+) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
     """Electron density and its uncertainty from the Stark FWHM of H-alpha or H-beta.
 
     Parameters
@@ -147,7 +148,7 @@ def lorentz_fwhm_from_voigt(voigt_fwhm: ArrayLike, gauss_fwhm: ArrayLike) -> NDA
     """
     fv = np.asarray(voigt_fwhm, dtype=float)
     fg = np.asarray(gauss_fwhm, dtype=float)
-    a = 0.5346 ** 2 - 0.2166
+    a = 0.5346**2 - 0.2166
     disc = (1.0692 * fv) ** 2 - 4.0 * a * (fv * fv - fg * fg)
     root = (1.0692 * fv - np.sqrt(np.maximum(disc, 0.0))) / (2.0 * a)
     return np.where(fg >= fv, 0.0, np.maximum(root, 0.0))

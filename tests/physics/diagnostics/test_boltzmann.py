@@ -47,7 +47,7 @@ def _points_from_fit(fit, model, lines, sel):
     e, ln_y, unc = [], [], []
     for c, area, area_unc in zip(fit.centre, fit.area, fit.area_unc):
         n = n_up[np.argmin(np.abs(lam - c))]
-        comp = n_up == n                                   # the blended nl components of one Balmer line
+        comp = n_up == n  # the blended nl components of one Balmer line
         e.append(np.sum(ga[comp] * e_up[comp]) / ga[comp].sum())
         ln_y.append(float(boltzmann.boltzmann_ln_y(area, c, 1.0, ga[comp].sum())))
         unc.append(area_unc / area)
@@ -77,8 +77,11 @@ def test_noise_free_spectrum_gives_te_exactly():
     assert boltzmann.fit_boltzmann(e, ln_y, unc).te_k == pytest.approx(15000.0, rel=1e-3)
 
 
-@pytest.mark.xfail(strict=True, reason="noise sigma = 1 % of the strongest peak height: only 3-5 Balmer lines "
-                                       "pass S/N 5 and Te scatters by 3-6 % (RMS over 8 seeds about 3.5 %)")
+@pytest.mark.xfail(
+    strict=True,
+    reason="noise sigma = 1 % of the strongest peak height: only 3-5 Balmer lines "
+    "pass S/N 5 and Te scatters by 3-6 % (RMS over 8 seeds about 3.5 %)",
+)
 def test_te_within_3_percent_when_noise_is_1_percent_of_the_strongest_peak():
     errors = []
     for seed in range(8):
@@ -124,8 +127,9 @@ def test_saha_boltzmann_closed_loop_with_the_project_saha_balance():
 
 
 def test_self_absorbed_multiplet_is_flagged():
-    assert boltzmann.multiplet_deviations(["a", "a", "a", "b", "b"], [0.0, 0.01, -0.4, 1.0, 1.01],
-                                          [0.02] * 5, [1.0, 2.0, 6.0, 1.0, 2.0]) == ["a"]
+    assert boltzmann.multiplet_deviations(
+        ["a", "a", "a", "b", "b"], [0.0, 0.01, -0.4, 1.0, 1.01], [0.02] * 5, [1.0, 2.0, 6.0, 1.0, 2.0]
+    ) == ["a"]
 
 
 def test_bad_input():

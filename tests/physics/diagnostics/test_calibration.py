@@ -5,13 +5,13 @@ from __future__ import annotations
 import numpy as np
 import pytest
 
+# nuclear masses in u: proton and deuteron, CODATA (scipy.constants)
+from scipy.constants import physical_constants as pc
+
 from levels.errors import PhysicsInputError
 from levels.physics import hydrogenic
 from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import calibration, peaks
-
-# nuclear masses in u: proton and deuteron, CODATA (scipy.constants)
-from scipy.constants import physical_constants as pc
 
 M_P_U = pc["proton mass in u"][0]
 M_D_U = pc["deuteron mass in u"][0]
@@ -38,10 +38,10 @@ def _pixel_spectrum(seed: int):
     lam, strength = _balmer_lines()
     p = np.arange(N_PIX, dtype=float)
     wl = calibration.evaluate(TRUE, p)
-    centre_px = np.interp(lam, wl, p)           # wl is increasing over the detector
+    centre_px = np.interp(lam, wl, p)  # wl is increasing over the detector
     power = strength / strength.max() * 50.0
     # the lamp's upper levels fall off: weight by exp(-E_u/kT) is folded into the invented powers
-    y = shapes.synthetic_spectrum(p, centre_px, power, 3.2, 0.0)   # >= 3 samples per FWHM: drawn, not deposited
+    y = shapes.synthetic_spectrum(p, centre_px, power, 3.2, 0.0)  # >= 3 samples per FWHM: drawn, not deposited
     rng = np.random.default_rng(seed)
     y = y + 5.0 + rng.normal(0, 0.02, p.size)
     return p, y, lam, strength
@@ -52,10 +52,18 @@ def test_cubic_dispersion_is_recovered_below_a_fifth_of_a_pixel(seed):
     p, y, lam, strength = _pixel_spectrum(seed)
     fit = peaks.find_and_fit(p, y)
     merged, merged_strength, _ = calibration.merge_blends(lam, strength, 0.02)
-    disp = calibration.calibrate(fit.centre, fit.area, fit.fwhm, merged, merged_strength, degree=3,
-                                 rough_range_nm=(370.0, 730.0), axis_range=(0.0, N_PIX - 1.0))
+    disp = calibration.calibrate(
+        fit.centre,
+        fit.area,
+        fit.fwhm,
+        merged,
+        merged_strength,
+        degree=3,
+        rough_range_nm=(370.0, 730.0),
+        axis_range=(0.0, N_PIX - 1.0),
+    )
     assert disp.rms_pixel < 0.2
-    assert disp.used.sum() >= 8          # both isotopes' lines, from H-alpha up the series
+    assert disp.used.sum() >= 8  # both isotopes' lines, from H-alpha up the series
     truth = calibration.evaluate(TRUE, p)
     got = calibration.evaluate(disp.coefficients, p)
     step = np.gradient(truth)

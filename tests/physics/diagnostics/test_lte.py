@@ -13,7 +13,7 @@ from levels.physics.diagnostics import lte
 def test_coefficient_and_scaling():
     # McWhirter 1965 (in Huddlestone & Leonard, Plasma Diagnostic Techniques, ch. 5):
     # ne >= 1.6e12 cm-3 T^(1/2) dE^3, T in K, dE in eV -- coefficient from memory
-    ev_cm1 = pc["electron volt-inverse meter relationship"][0] / 100.0     # CODATA, cm-1 per eV
+    ev_cm1 = pc["electron volt-inverse meter relationship"][0] / 100.0  # CODATA, cm-1 per eV
     assert lte.mcwhirter_min_ne_m3(10000.0, ev_cm1) == pytest.approx(1.6e12 * 1e6 * 100.0, rel=1e-9)
     assert lte.mcwhirter_min_ne_m3(40000.0, 2 * ev_cm1) == pytest.approx(2 * 8 * 1.6e18 * 100.0, rel=1e-9)
 

@@ -11,7 +11,7 @@ from levels.errors import PhysicsInputError
 from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import peaks
 
-GRID = shapes.make_grid(655.0, 657.5, points=1251)   # 2 pm steps
+GRID = shapes.make_grid(655.0, 657.5, points=1251)  # 2 pm steps
 
 
 def _drawn(centres, powers, gauss, lorentz=0.0):
@@ -37,7 +37,7 @@ def test_centre_uncertainty_covers_the_truth_in_about_68_percent_of_trials():
 
 
 def test_blended_peaks_are_fitted_together():
-    clean = _drawn([656.0, 656.03], [1.0, 0.5], 0.02)   # 1.5 FWHM apart
+    clean = _drawn([656.0, 656.03], [1.0, 0.5], 0.02)  # 1.5 FWHM apart
     rng = np.random.default_rng(7)
     fit = peaks.find_and_fit(GRID, clean + rng.normal(0, 0.002 * clean.max(), GRID.size), min_snr=5)
     assert len(fit) == 2
@@ -69,8 +69,9 @@ def test_gauss_fit_agrees_with_scipy_curve_fit_on_the_same_window():
     fit = peaks.fit_peaks(GRID, y, [656.2], [0.02], [clean.max()], noise=sigma, window_fwhm=3.0)
     lo, hi = np.searchsorted(GRID, 656.2 - 0.06), np.searchsorted(GRID, 656.2 + 0.06, "right")
     xs, ys = GRID[lo:hi], y[lo:hi]
-    popt, pcov = curve_fit(_gauss, xs, ys, p0=[656.2, 1.0, 0.02, 2.0, 0.0], sigma=np.full(xs.size, sigma),
-                           absolute_sigma=True)
+    popt, pcov = curve_fit(
+        _gauss, xs, ys, p0=[656.2, 1.0, 0.02, 2.0, 0.0], sigma=np.full(xs.size, sigma), absolute_sigma=True
+    )
     assert fit.centre[0] == pytest.approx(popt[0], abs=1e-9)
     assert fit.area[0] == pytest.approx(popt[1], rel=1e-6)
     assert fit.fwhm[0] == pytest.approx(popt[2], rel=1e-6)
@@ -91,8 +92,9 @@ def test_voigt_fit_agrees_with_scipy_curve_fit():
     def model(x, c, a, fg, fl, b0, b1):
         return a * voigt_profile(x - c, abs(fg) / peaks.FWHM_PER_SIGMA, abs(fl) / 2) + b0 + b1 * (x - x.mean())
 
-    popt, pcov = curve_fit(model, xs, ys, p0=[656.2, 1.0, 0.02, 0.02, 0, 0], sigma=np.full(xs.size, sigma),
-                           absolute_sigma=True)
+    popt, pcov = curve_fit(
+        model, xs, ys, p0=[656.2, 1.0, 0.02, 0.02, 0, 0], sigma=np.full(xs.size, sigma), absolute_sigma=True
+    )
     assert fit.centre[0] == pytest.approx(popt[0], abs=1e-7)
     assert fit.gauss_fwhm[0] == pytest.approx(abs(popt[2]), rel=1e-4)
     assert fit.lorentz_fwhm[0] == pytest.approx(abs(popt[3]), rel=1e-4)
@@ -116,3 +118,10 @@ def test_bad_input():
         peaks.fit_peaks(GRID[::-1], GRID, [656.0], [0.02], [1.0], noise=1.0)
     with pytest.raises(PhysicsInputError, match="noise"):
         peaks.find_and_fit(GRID, np.ones_like(GRID))
+
+
+def test_pure_noise_gives_no_peaks():
+    rng = np.random.default_rng(12)
+    fit = peaks.find_and_fit(GRID, 10.0 + rng.normal(0, 1.0, GRID.size))
+    assert len(fit) == 0 and fit.centre.size == 0
+    assert fit.noise == pytest.approx(1.0, rel=0.1)

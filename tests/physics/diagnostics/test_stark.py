@@ -27,7 +27,7 @@ def test_fit_coefficients_as_published():
 def test_exponents_near_the_quasi_static_limit():
     # quasi-static ion fields scale as ne^(2/3) (Holtsmark 1919, Ann. Phys. 363, 577 -- citation from memory),
     # so a width dominated by ions gives ne ~ w^(3/2); the simulated fits lie a little below 3/2
-    for w0, b, _ in stark.STARK_FITS.values():
+    for _, b, _ in stark.STARK_FITS.values():
         assert 1.40 < b < 1.5
 
 
@@ -36,8 +36,10 @@ def test_h_beta_rule_of_thumb():
     assert float(stark.stark_fwhm_nm("H-beta", 1e22)) == pytest.approx(1.0, rel=0.1)
 
 
-@pytest.mark.skip(reason="no published table point (width at a stated ne and T) of Gigosos et al. 2003 or of "
-                         "Gigosos & Cardeñoso 1996 was available offline; none is invented here")
+@pytest.mark.skip(
+    reason="no published table point (width at a stated ne and T) of Gigosos et al. 2003 or of "
+    "Gigosos & Cardeñoso 1996 was available offline; none is invented here"
+)
 def test_against_published_table_points():  # pragma: no cover
     raise AssertionError
 
