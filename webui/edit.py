@@ -43,7 +43,7 @@ from levels.errors import (
     StoreError,
     UnitError,
 )
-from levels.io.limits import text_problem
+from levels.io.limits import automatic_dataset_name_problem, text_problem
 from levels.io.records import validate_level
 from levels.units import parse_quantity
 
@@ -331,6 +331,9 @@ def upload_preview():
     if errors:
         return _desk(400, upload_errors=errors)
     name = secure_filename(upload.filename) or "upload.csv"
+    if not options["dataset"] and automatic_dataset_name_problem(options["sample"], name):
+        return _desk(400, upload_errors={"dataset": f"{automatic_dataset_name_problem(options['sample'], name)}; "
+                                                    "name the dataset"})
     content = upload.read()
     cat = services.catalog()
     records, problems = cat.preview_levels(content, source=name)

@@ -297,6 +297,12 @@ def import_(obj: Context, file: str, sample: str | None, dataset: str | None, ki
     check_text_option(sample, "--sample")
     check_text_option(dataset, "--dataset")
     check_text_option(citation, "--citation", None)
+    if dataset is None:
+        from levels.io.limits import automatic_dataset_name_problem
+
+        problem = automatic_dataset_name_problem(sample, file)
+        if problem:
+            raise click.BadParameter(f"{problem}; name the dataset with --dataset", param_hint="'--dataset'")
     check_text_option(allow_off_ritz, "--allow-off-ritz")
     report = obj.catalog.import_file(file, sample=sample, dataset=dataset, kind=kind, citation=citation,
                                      allow_off_ritz=allow_off_ritz, max_derived_lines=max_derived_lines)

@@ -15,7 +15,7 @@ from sqlalchemy.engine import make_url
 
 from levels.cli import Context, _progress, main, reports_errors
 from levels.errors import StoreError
-from levels.io.tables import format_text_table
+from levels.io.tables import format_text_table, printable
 from levels.store import database
 
 
@@ -59,7 +59,7 @@ def check(obj: Context, fmt: str) -> None:
         for item in report.checks:
             click.echo(f"checked: {item}")
         for problem in report.problems:
-            click.echo(f"problem: {problem}")
+            click.echo(f"problem: {printable(problem)}")
         n = len(report.problems)
         click.echo("no problems found" if n == 0 else f"{n} problem{'s' if n != 1 else ''} found")
     if not report.ok:

@@ -242,3 +242,28 @@ def row_problems(table: str, row: Mapping[str, object]) -> list[tuple[str, str]]
             if problem:
                 out.append((name, problem))
     return out
+
+
+#: room left for the ``#2``, ``#3`` ... the catalog appends to a taken automatic dataset name
+NAME_SUFFIX_ROOM = 4
+
+
+def automatic_dataset_name_problem(sample: str | None, file_name: str) -> str | None:
+    """Why the dataset name made from a sample and a file name (``sample/file-stem``) cannot be stored, or None.
+
+    Examples
+    --------
+    >>> automatic_dataset_name_problem("cell-3", "run-1.csv") is None
+    True
+    >>> automatic_dataset_name_problem("s" * 150, "r" * 60 + ".csv")
+    'the dataset name made from the sample and the file name would be 211 characters long; at most 200 are stored'
+    """
+    from pathlib import PurePath
+
+    stem = PurePath(file_name).stem or "import"
+    length = len(f"{sample + '/' if sample else ''}{stem}")
+    limit = COLUMNS["datasets"]["name"].length or 0
+    if length + NAME_SUFFIX_ROOM > limit:
+        return (f"the dataset name made from the sample and the file name would be {length} characters long; "
+                f"at most {limit} are stored")
+    return None

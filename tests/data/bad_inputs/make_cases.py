@@ -101,6 +101,8 @@ js("desk", "sample_pressure_fullwidth.json", {"form": "sample", "data": {"name":
 js("desk", "sample_gas_fill_too_long.json", {"form": "sample", "data": {"name": "cell-w", "gas_fill": "g" * 201}})
 js("desk", "upload_sample_with_escape.json",
    {"form": "upload", "data": {"sample": f"s{ESC}[1m"}, "file": f"{LV}\nLi I,1s2.5s,2S,1/2,39015.0\n"})
+js("desk", "upload_automatic_name_too_long.json",
+   {"form": "upload", "data": {"sample": "s" * 195}, "file": f"{LV}\nLi I,1s2.5s,2S,1/2,39015.0\n"})
 js("desk", "upload_dataset_too_long.json",
    {"form": "upload", "data": {"dataset": "d" * 201}, "file": f"{LV}\nLi I,1s2.5s,2S,1/2,39015.0\n"})
 
@@ -164,6 +166,7 @@ CLI = {
     "import_sample_with_escape": ["import", "{levels_file}", "--sample", f"cell{ESC}[2J"],
     "import_dataset_too_long": ["import", "{levels_file}", "--dataset", "d" * 201],
     "isotope_not_stored": ["show", "6Li I"],
+    "automatic_dataset_name_too_long": ["import", "{levels_file}", "--sample", "s" * 190],
     "read_on_a_mistyped_path": ["--db", "{tmp}/no-such-folder/lab.sqlite", "show", "Li I"],
     "points_one": ["emission", "Li I", "--te", "1eV", "--ne", "1e18m-3", "--points", "1"],
     "tolerance_without_unit": ["identify", "Li I", "{peaks}", "--tolerance", "0.01"],
