@@ -14,7 +14,7 @@ import numpy as np
 import pytest
 from click.testing import CliRunner
 
-from levels.catalog import Catalog
+from levels.catalog import Catalog, LineQuery
 from levels.cli import main
 from levels.errors import InputFileError, PhysicsInputError
 from levels.physics import spectrum as shapes
@@ -181,11 +181,7 @@ def test_medium_is_explicit_and_converted(hstore):
 def test_nothing_is_written_until_commit(catalog):
     catalog.compute_hydrogenic("H I", n_max=3)
     before = len(catalog.dataset_rows())
-    rows, _ = catalog.species_lines(
-        __import__("levels.catalog", fromlist=["LineQuery"]).LineQuery(
-            spectrum="H I", from_nm=121.0, to_nm=122.0, medium="vacuum"
-        )
-    )
+    rows, _ = catalog.species_lines(LineQuery(spectrum="H I", from_nm=121.0, to_nm=122.0, medium="vacuum"))
     lyman = sorted(r["vacuum_nm"] for r in rows if r["lower"].startswith("1s"))
     content = _csv(
         [{"peak_nm": lam, "peak_unc_nm": 1e-5, "medium": "vacuum"} for lam in lyman],
@@ -294,3 +290,42 @@ def test_invented_demo_frames_end_to_end(hstore):
     assert result.report["te_k"] == pytest.approx(12000.0, rel=0.03)
     assert result.report["ne_m3"] == pytest.approx(2e22, rel=0.10)
     assert result.report["validity"]["lte_holds"] is False  # McWhirter asks ~1.9e23 m-3 for H I
+
+
+def test_lines_output_is_a_file_levels_import_accepts(catalog, tmp_path):
+    catalog.compute_hydrogenic("H I", n_max=3)
+    rows, _ = catalog.species_lines(LineQuery(spectrum="H I", from_nm=121.0, to_nm=122.0, medium="vacuum"))
+    lyman = sorted(r["vacuum_nm"] for r in rows if r["lower"].startswith("1s"))
+    peaks_file = tmp_path / "lyman-peaks.csv"
+    peaks_file.write_bytes(
+        _csv(
+            [{"peak_nm": lam, "peak_unc_nm": 1e-5, "medium": "vacuum", "area": 2.0} for lam in lyman],
+            ("peak_nm", "peak_unc_nm", "medium", "area"),
+        )
+    )
+    runner = CliRunner()
+    db = ["--db", catalog.url]
+    before = dataset_names_of(catalog)
+    out = runner.invoke(
+        main,
+        db
+        + [
+            "diagnose",
+            "H I",
+            str(peaks_file),
+            "--tolerance",
+            "0.00001nm",
+            "--lines-output",
+            str(tmp_path / "lines.csv"),
+        ],
+    )
+    assert out.exit_code == 0, out.output
+    assert dataset_names_of(catalog) == before  # diagnose writes nothing
+    out = runner.invoke(main, db + ["import", str(tmp_path / "lines.csv"), "--sample", "invented-cell"])
+    assert out.exit_code == 0, out.output
+    assert "imported 2 lines of H I" in out.output
+    assert len(dataset_names_of(catalog)) == len(before) + 1
+
+
+def dataset_names_of(catalog) -> list[str]:
+    return sorted(d["name"] for d in catalog.dataset_rows())
