@@ -298,6 +298,14 @@ class Catalog:
         name, chosen, levels, stored = self.read(work)
         rows = engine_rows(name, levels, stored, {d.id: d.name for d in chosen}, multipoles=multipoles,
                            window=window, max_upper_cm1=query.max_upper_cm1, air_formula=air_formula)
+        # a level without a stored lifetime takes the one its computed rates give (levels rates)
+        from levels.service.rates import lifetimes_from_lines
+
+        computed = lifetimes_from_lines(levels[0].species_id if levels else None, chosen, stored)
+        for row in rows if computed else ():
+            for end in ("lower", "upper"):
+                if row[f"{end}_lifetime_s"] is None and row[f"{end}_id"] in computed:
+                    row[f"{end}_lifetime_s"] = computed[row[f"{end}_id"]]
         if query.min_a is not None:
             rows = [r for r in rows if r["a_per_s"] is not None and r["a_per_s"] >= query.min_a]
         rows = _sort_rows(rows, query.order)

@@ -49,7 +49,7 @@ from levels.store import queries
 from levels.store.schema import Dataset, IonizationLimit, Level, Species
 
 __all__ = ["RATES_ROLE", "METHODS", "RATES_COLUMNS", "LIFETIME_COLUMNS", "RatesReport", "compute_rates",
-           "classify_single", "single_rates", "level_lifetimes", "rates_dataset_name"]
+           "classify_single", "single_rates", "level_lifetimes", "lifetimes_from_lines", "rates_dataset_name"]
 
 RATES_ROLE = "rates"
 METHODS = ("auto", "single", "coupled")
@@ -513,11 +513,24 @@ def level_lifetimes(session: Session, species: Species, chosen: Sequence[Dataset
     dict
         level id -> lifetime (s); levels without computed decays are absent.
     """
-    rates_ids = {d.id for d in chosen if d.role == RATES_ROLE and d.owner_species_id == species.id}
-    if not rates_ids or not levels:
+    if not levels or not any(d.role == RATES_ROLE and d.owner_species_id == species.id for d in chosen):
+        return {}
+    stored = queries.stored_lines_between(session, [lv.id for lv in levels], [d.id for d in chosen])
+    return lifetimes_from_lines(species.id, chosen, stored)
+
+
+def lifetimes_from_lines(species_id: int | None, chosen: Sequence[Dataset], stored: Sequence) -> dict[int, float]:
+    """:func:`level_lifetimes` from stored lines already read (lines between the chosen levels).
+
+    Examples
+    --------
+    >>> lifetimes_from_lines(None, [], [])
+    {}
+    """
+    rates_ids = {d.id for d in chosen if d.role == RATES_ROLE and d.owner_species_id == species_id}
+    if not rates_ids or not stored:
         return {}
     rank = {d.id: i for i, d in enumerate(chosen)}
-    stored = queries.stored_lines_between(session, [lv.id for lv in levels], list(rank))
     covered = {ln.upper_id for ln in stored if ln.dataset_id in rates_ids}
     best: dict[tuple, object] = {}
     for ln in sorted(stored, key=lambda ln: (ln.a_per_s is None, rank.get(ln.dataset_id, len(rank)), ln.id),

@@ -228,3 +228,11 @@ def test_web_api_and_diagram_use_the_computed_rates(sodium, store_url, tmp_path)
         assert figure.status_code == 200 and "3p 2P°3/2" in figure.get_data(as_text=True)
     finally:
         app.extensions["levels"]["catalog"].close()
+
+
+def test_engine_rows_carry_the_computed_lifetimes_for_natural_widths(sodium):
+    rates_service.compute_rates(sodium, "Na I")
+    rows, _ = sodium.species_lines(catalog_module.LineQuery(spectrum="Na I", medium="vacuum"))
+    d2 = [r for r in rows if (r["lower"], r["upper"]) == ("3s 2S1/2", "3p 2P°3/2")][0]
+    assert d2["upper_lifetime_s"] == pytest.approx(16.254e-9, rel=0.03)
+    assert d2["lower_lifetime_s"] is None   # the ground level does not decay
