@@ -41,7 +41,7 @@ from levels.physics.discharge import balance as cr
 from levels.physics.discharge import escape as discharge_escape
 from levels.physics.discharge import excitation as cr_excitation
 from levels.physics.discharge import neutral_broadening, slab_transfer, stark, validity
-from levels.units import CM1_J, H, C
+from levels.units import CM1_J, C, H
 
 UV_CAUTION = ("CAUTION: this spectrum puts more than 1 % of its power into UV-C or UV-B. Ultraviolet radiation "
               "injures eyes and skin within seconds to minutes. Use enclosures, UV-blocking eye and face protection "
@@ -123,7 +123,8 @@ def check_model_options(*, model: str, path_length_m: float | None, loss_rate_pe
     if (perturber is None) != (pressure_pa is None):
         raise PhysicsInputError("van der Waals broadening needs both the perturber gas and its pressure")
     if perturber is not None and perturber not in neutral_broadening.PERTURBERS:
-        raise PhysicsInputError(f"unknown perturber gas {perturber!r}; known: {', '.join(neutral_broadening.PERTURBERS)}")
+        known = ", ".join(neutral_broadening.PERTURBERS)
+        raise PhysicsInputError(f"unknown perturber gas {perturber!r}; known: {known}")
     if pressure_pa is not None and not (math.isfinite(pressure_pa) and 0 < pressure_pa <= 1e8):
         raise PhysicsInputError(f"pressure must be > 0 and at most 100 MPa, got {pressure_pa!r} Pa")
 
@@ -217,8 +218,9 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
                         "intensities, photon shares, spectrum and metrics" + _examples(
                             [r for r in lines if r["a_per_s"] is None]))
     if not with_rates:
+        named = _examples([r for r in lines if r["a_per_s"] is None])
         raise PhysicsInputError(f"no line of {spectrum_name} has a known Einstein A, so no intensity can be "
-                                f"predicted ({missing} lines lack A values{_examples([r for r in lines if r['a_per_s'] is None])}; "
+                                f"predicted ({missing} lines lack A values{named}; "
                                 f"compute them with `levels rates {spectrum_name}`)")
     n_upper = np.array([pop_by_id[r["upper_id"]] for r in with_rates])
     n_lower = np.array([pop_by_id.get(r["lower_id"], 0.0) for r in with_rates])
@@ -441,8 +443,11 @@ def _pressure_widths(rows, levels, pop_by_id, *, broadening, perturber, pressure
     l_u = np.array([qn[r["upper_id"]][1] for r in rows], dtype=float)
     l_l = np.array([qn[r["lower_id"]][1] for r in rows], dtype=float)
     core = charge + 1
-    r2_u = np.where(known, stark.mean_r2_bohr2(np.maximum(n_star_u, 1e-3), np.minimum(l_u, np.maximum(n_star_u - 1, 0)), core), 0.0)
-    r2_l = np.where(known, stark.mean_r2_bohr2(np.maximum(n_star_l, 1e-3), np.minimum(l_l, np.maximum(n_star_l - 1, 0)), core), 0.0)
+    def r2(n_star, l):
+        return np.where(known, stark.mean_r2_bohr2(np.maximum(n_star, 1e-3),
+                                                   np.minimum(l, np.maximum(n_star - 1, 0)), core), 0.0)
+
+    r2_u, r2_l = r2(n_star_u, l_u), r2(n_star_l, l_l)
     if not known.all():
         warnings.append(f"{int((~known).sum())} lines have no effective quantum number (no ionization energy "
                         "stored): no Stark or van der Waals width for them")

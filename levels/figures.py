@@ -136,6 +136,93 @@ def model_comparison_figure(primary: dict, primary_model: str, other: dict | Non
     return {"data": data, "layout": layout}
 
 
+def model_comparison_figure(primary: dict, primary_model: str, other: dict | None, other_model: str,
+                            populations: dict[str, Sequence[dict]], *, medium: str,
+                            other_note: str | None = None) -> dict:
+    """LTE and CR spectra side by side for the same conditions, and departure coefficients against level energy.
+
+    Parameters
+    ----------
+    primary : dict
+        The spectrum figure of the model asked for (one x/y axis pair; its traces keep their ``meta``).
+    primary_model, other_model : {"lte", "cr"}
+        The two models; LTE always goes on the left, CR on the right.
+    other : dict or None
+        The spectrum figure of the other model, or None when it could not be computed.
+    populations : dict
+        Model -> population rows (``label``, ``energy_cm1``, ``departure``) for the departure panel.
+    medium : {"air", "vacuum"}
+    other_note : str, optional
+        Why the other model is missing (shown in its panel).
+
+    Returns
+    -------
+    dict
+        One plotly figure: spectra in the top row (axes x/y and x2/y2), departure coefficients
+        b = n / n_Boltzmann (log scale) against level energy below (x3/y3).
+    """
+    left_is_primary = primary_model == "lte"
+    panels = {"x": (0.0, 0.47), "x2": (0.53, 1.0)}
+    data: list[dict] = []
+
+    def place(fig: dict | None, axis: str, model: str) -> None:
+        if fig is None:
+            return
+        suffix = "" if axis == "x" else axis[1:]
+        for trace in fig["data"]:
+            moved = dict(trace)
+            moved["xaxis"], moved["yaxis"] = axis, "y" + suffix
+            moved["name"] = f"{model.upper()}: {trace.get('name', '')}"
+            if fig is not primary and moved.get("meta") in ("spectrum", "lines"):
+                moved["meta"] = f"{moved['meta']}-{model}"
+            data.append(moved)
+
+    lte_fig, cr_fig = (primary, other) if left_is_primary else (other, primary)
+    place(lte_fig, "x", "lte")
+    place(cr_fig, "x2", "cr")
+    colours = {"lte": SPECTRUM_LINE, "cr": ACCENT["E1"]}
+    for model in ("lte", "cr"):
+        rows = [p for p in populations.get(model) or [] if p.get("departure") not in (None, 0.0)
+                and math.isfinite(p["departure"])]
+        if not rows:
+            continue
+        data.append({"type": "scatter", "mode": "markers", "xaxis": "x3", "yaxis": "y3",
+                     "name": f"{model.upper()} departure coefficients", "meta": f"departure-{model}",
+                     "x": [p["energy_cm1"] for p in rows], "y": [p["departure"] for p in rows],
+                     "text": [_escape(str(p["label"])) for p in rows], "hoverinfo": "text+x+y",
+                     "marker": {"size": 6, "color": colours[model],
+                                "symbol": "circle" if model == "cr" else "line-ew-open"}})
+    axis_title = f"wavelength in {medium} [nm]"
+    base = primary.get("layout", {})
+    layout = {
+        "paper_bgcolor": base.get("paper_bgcolor", "#ffffff"), "plot_bgcolor": base.get("plot_bgcolor", "#fbfcfd"),
+        "font": base.get("font", {}), "hovermode": "closest", "margin": {"l": 80, "r": 20, "t": 40, "b": 60},
+        "xaxis": {"title": {"text": axis_title}, "domain": list(panels["x"]), "anchor": "y", "gridcolor": GRID},
+        "yaxis": {"title": {"text": "spectral radiance [W m⁻³ sr⁻¹ nm⁻¹]"}, "domain": [0.45, 1.0], "anchor": "x",
+                  "rangemode": "tozero", "exponentformat": "power", "gridcolor": GRID},
+        "xaxis2": {"title": {"text": axis_title}, "domain": list(panels["x2"]), "anchor": "y2", "gridcolor": GRID,
+                   "matches": "x"},
+        "yaxis2": {"domain": [0.45, 1.0], "anchor": "x2", "rangemode": "tozero", "exponentformat": "power",
+                   "gridcolor": GRID},
+        "xaxis3": {"title": {"text": "level energy [cm⁻¹]"}, "domain": [0.0, 1.0], "anchor": "y3", "gridcolor": GRID},
+        "yaxis3": {"title": {"text": "departure b = n / n(Boltzmann at Te)"}, "type": "log", "domain": [0.0, 0.3],
+                   "anchor": "x3", "exponentformat": "power", "gridcolor": GRID},
+        "legend": {"orientation": "h", "y": -0.12, "x": 0},
+        "annotations": [
+            {"text": "LTE populations" + (" (asked for)" if left_is_primary else ""), "xref": "paper",
+             "yref": "paper", "x": 0.0, "y": 1.04, "showarrow": False, "xanchor": "left"},
+            {"text": "collisional-radiative populations" + ("" if left_is_primary else " (asked for)"),
+             "xref": "paper", "yref": "paper", "x": 0.53, "y": 1.04, "showarrow": False, "xanchor": "left"},
+        ],
+        "meta": base.get("meta", {}),
+    }
+    if other is None and other_note:
+        x = 0.765 if left_is_primary else 0.235
+        layout["annotations"].append({"text": _escape(other_note)[:160], "xref": "paper", "yref": "paper", "x": x,
+                                      "y": 0.72, "showarrow": False, "font": {"color": ACCENT["E1"]}})
+    return {"data": data, "layout": layout}
+
+
 def write_html(figure: dict, path: str, title: str) -> None:
     """A self-contained HTML page with the figure, plotly inlined (no network needed)."""
     import plotly.io as pio

@@ -26,14 +26,15 @@ import re
 import threading
 import time
 from dataclasses import dataclass, field
+from typing import Any
 
 from flask import Blueprint, Response, abort, current_app, render_template, request, url_for
 
 from levels.catalog import EMISSION_COLUMNS, LINE_UNITS, LineQuery
 from levels.errors import NotFoundError, PhysicsInputError, UnitError
+from levels.figures import model_comparison_figure
 from levels.io.tables import format_table
 from levels.physics.colour import BANDS_NM, srgb_swatch
-from levels.figures import model_comparison_figure
 from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 
 from webui import params, security, services
@@ -69,7 +70,8 @@ EMISSION_UNITS = {**LINE_UNITS, "rel_intensity": "1", "photon_share": "1"}
 _BAND_NAMES = {"share_uv_c": "UV-C", "share_uv_b": "UV-B", "share_uv_a": "UV-A", "share_visible": "visible",
                "share_ir": "IR"}
 #: the bands of the power shares in words (from levels.physics.colour)
-BAND_TEXT = ", ".join(f"{_BAND_NAMES[k]} {lo:g}–{hi:g} nm" if hi != float("inf") else f"{_BAND_NAMES[k]} above {lo:g} nm"
+BAND_TEXT = ", ".join(f"{_BAND_NAMES[k]} {lo:g}–{hi:g} nm" if hi != float("inf")
+                      else f"{_BAND_NAMES[k]} above {lo:g} nm"
                       for k, (lo, hi) in BANDS_NM.items() if k in _BAND_NAMES)
 
 
@@ -134,7 +136,7 @@ def parse_request(args) -> EmissionRequest:
             errors[name] = exc.message
             value = ""
         texts[name] = value
-    values: dict[str, object] = {}
+    values: dict[str, Any] = {}
     readers = {"te": temperature_k, "ne": density_m3, "tgas": temperature_k, "from": wavelength_nm,
                "to": wavelength_nm, "fwhm": wavelength_nm, "path": lambda t: parse_quantity(t, "length"),
                "loss": _rate, "pressure": lambda t: parse_quantity(t, "pressure")}
@@ -152,12 +154,12 @@ def parse_request(args) -> EmissionRequest:
         except (UnitError, ValueError) as exc:
             errors[name] = str(exc)
     for name in ("te", "ne", "tgas", "path", "pressure"):
-        value = values.get(name)
-        if value is not None and name not in errors and value <= 0:
+        number = values.get(name)
+        if number is not None and name not in errors and number <= 0:
             errors[name] = "must be positive"
     for name in ("from", "to", "fwhm", "loss"):
-        value = values.get(name)
-        if value is not None and name not in errors and value < 0:
+        number = values.get(name)
+        if number is not None and name not in errors and number < 0:
             errors[name] = "must not be negative"
     if (values.get("from") is not None and values.get("to") is not None and "from" not in errors
             and "to" not in errors and values["from"] >= values["to"]):
@@ -335,7 +337,8 @@ def page():
         caution=(result.warnings[0] if result and result.warnings and result.warnings[0].startswith("CAUTION")
                  else None),
         other_warnings=[w for w in (result.warnings if result else []) if not w.startswith("CAUTION")],
-        media=MEDIA, band_text=BAND_TEXT, used=used_datasets(result) if result else [], downloads=download_links(req) if result else {},
+        media=MEDIA, band_text=BAND_TEXT, used=used_datasets(result) if result else [],
+        downloads=download_links(req) if result else {},
         models=MODELS, model_names=MODEL_NAMES, broadenings=BROADENINGS, perturbers=PERTURBERS,
         other=other, other_note=other_note, levels_rows=departures(result) if result else [],
         other_levels={p["label"]: p for p in other.populations} if other is not None else {},

@@ -34,7 +34,8 @@ def test_balmer_decrement_against_independent_computation(hydrogen):
     r_h = sc.Rydberg / 100 / (1 + sc.m_e / sc.m_p)
     e = {n: r_h * (1 - 1 / n**2) for n in (2, 3, 4)}
     kt = sc.k * te / (sc.h * sc.c * 100)
-    expected = (32 * 8.4193e6 * (e[4] - e[2]) * math.exp(-e[4] / kt)) / (18 * 4.4101e7 * (e[3] - e[2]) * math.exp(-e[3] / kt))
+    expected = ((32 * 8.4193e6 * (e[4] - e[2]) * math.exp(-e[4] / kt))
+                / (18 * 4.4101e7 * (e[3] - e[2]) * math.exp(-e[3] / kt)))
     assert ratio == pytest.approx(expected, rel=1e-3)
 
 

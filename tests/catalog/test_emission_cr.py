@@ -68,7 +68,9 @@ def test_lamp_metrics_follow_the_model_asked_for(hydrogen):
     lte = hydrogen.emission("H I", **args)
     cr = hydrogen.emission("H I", model="cr", **args)
     assert lte.conditions["model"].startswith("LTE") and cr.conditions["model"].startswith("collisional-radiative")
-    balmer = lambda r, n: sum(x["rel_intensity"] for x in r.lines if x["upper"][0] == str(n) and x["lower"][0] == "2")
+    def balmer(r, n):
+        return sum(x["rel_intensity"] for x in r.lines if x["upper"][0] == str(n) and x["lower"][0] == "2")
+
     # far below the LTE density the two models give different Balmer decrements (here by more than 10 %)
     assert abs(balmer(cr, 4) / balmer(cr, 3) / (balmer(lte, 4) / balmer(lte, 3)) - 1) > 0.1
     assert cr.metrics["cie_x"] != lte.metrics["cie_x"]

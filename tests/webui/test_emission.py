@@ -19,6 +19,7 @@ from levels.catalog import EMISSION_COLUMNS, Catalog
 from levels.emission import UV_CAUTION
 from levels.physics.colour import srgb_swatch
 from levels.units import temperature_k
+
 from webui import create_app
 
 from tests.webui.conftest import XSS_LABEL, fill_store, make_config
@@ -104,7 +105,8 @@ def test_result_page_shows_metrics_swatch_lines_and_assumptions(web, bench):
         assert f">{head}</th>" in text
     table = text.split('id="emission-lines"')[1].split("</table>")[0]
     first = re.search(r"<tbody>\s*<tr><td class=\"label\">(.*?)</td><td class=\"label\">(.*?)</td>", table)
-    assert (html.unescape(first.group(1)), html.unescape(first.group(2))) == (ref.lines[0]["lower"], ref.lines[0]["upper"])
+    shown = (html.unescape(first.group(1)), html.unescape(first.group(2)))
+    assert shown == (ref.lines[0]["lower"], ref.lines[0]["upper"])
     assert html.escape(ref.conditions["model"]) in text and html.escape(ref.conditions["cutoff"]) in text
     assert "uv-caution" not in text  # the visible window puts no power into UV-C/UV-B
     for share in ("share_uv_c", "share_uv_b", "share_uv_a", "share_visible", "share_ir"):
@@ -194,7 +196,8 @@ def test_the_uv_caution_goes_into_the_download_header(web):
 def test_eV_and_bare_numbers_are_read_like_the_cli(web, bench):
     """1 eV (as a temperature) and 11604.518 K give the same result; a bare window number is nm."""
     a = web.get("/emission.json", query_string=VISIBLE).get_json()
-    b = web.get("/emission.json", query_string={**VISIBLE, "te": f"{temperature_k('1eV'):.10f}", "from": "380", "to": "7800A"}).get_json()
+    same = {**VISIBLE, "te": f"{temperature_k('1eV'):.10f}", "from": "380", "to": "7800A"}
+    b = web.get("/emission.json", query_string=same).get_json()
     assert b["metrics"]["cie_x"] == pytest.approx(a["metrics"]["cie_x"], rel=1e-9)
     assert b["lines_total"] == a["lines_total"]
 

@@ -42,6 +42,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 import scipy.sparse as sp
@@ -53,10 +54,10 @@ from levels import units
 from levels.errors import PhysicsInputError
 from levels.physics.discharge import escape as esc
 from levels.physics.discharge import excitation, hydrogen_rates, ionization, recombination
-from levels.physics.discharge.common import (C2_CM_K, as_nonnegative, as_positive, check_density,
-                                             check_temperature)
+from levels.physics.discharge.common import C2_CM_K, as_nonnegative, as_positive, check_density, check_temperature
 
-__all__ = ["CRSpecies", "RateSet", "CRResult", "rate_coefficients", "rate_matrix", "scaled_system", "shell_oscillator_strengths", "solve_steady_state",
+__all__ = ["CRSpecies", "RateSet", "CRResult", "rate_coefficients", "rate_matrix", "scaled_system",
+           "shell_oscillator_strengths", "solve_steady_state",
            "solve_with_trapping", "saha_boltzmann_log"]
 
 #: stop the radiation-trapping iteration when no escape factor changes by more than this (relative)
@@ -104,8 +105,8 @@ class CRSpecies:
     upper: NDArray[np.int64]
     a_per_s: NDArray[np.float64]
     f_abs: NDArray[np.float64]
-    extra_decay_per_s: NDArray[np.float64] | None = None
-    shell: NDArray[np.int64] | None = None
+    extra_decay_per_s: Any = None      # NDArray[np.float64] (N,) after construction; None means no extra decay
+    shell: Any = None                  # NDArray[np.int64] (N,) or None
     hydrogen: bool = False
 
     def __post_init__(self) -> None:
@@ -316,9 +317,9 @@ def rate_coefficients(sp_: CRSpecies, te_k: float, *,
         source.append(np.ones(lo.size, dtype=np.int8))
     # 3. forbidden pairs of the ground and metastable levels: a constant collision strength
     if om > 0:
-        special = np.flatnonzero(sp_.metastable() | (np.arange(n) == 0))
-        a = np.repeat(special, n)
-        b = np.tile(np.arange(n), special.size)
+        chosen = np.flatnonzero(sp_.metastable() | (np.arange(n) == 0))
+        a = np.repeat(chosen, n)
+        b = np.tile(np.arange(n), chosen.size)
         lo = np.where(e[a] <= e[b], a, b)
         up = np.where(e[a] <= e[b], b, a)
         ok = (lo != up) & (e[up] > e[lo])
@@ -568,7 +569,8 @@ def solve_with_trapping(sp_: CRSpecies, te_k: float, ne_m3: float, *, total_dens
     result = solve_steady_state(sp_, te, ne, escape=lam, loss_rate_per_s=loss_rate_per_s, rates=rs)
     thick_candidates = kappa_per_lower > 0
     iterations = 1
-    for iterations in range(2, TRAPPING_MAX_ITERATIONS + 1):
+    for step_number in range(2, TRAPPING_MAX_ITERATIONS + 1):
+        iterations = step_number
         rel = result.population_rel
         norm = total / (float(np.sum(rel)) + result.ion_rel)
         n_l = rel[sp_.lower] * norm

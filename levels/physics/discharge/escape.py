@@ -43,6 +43,7 @@ from __future__ import annotations
 
 import math
 from functools import lru_cache
+from typing import Any
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -127,6 +128,7 @@ def _average(tau: NDArray[np.float64], profile: str, a: NDArray[np.float64], ker
         phi0 = _profile(np.zeros((tt.size, 1)), profile, aa[:, None])
         inside = np.sum(w * phi * kernel(tt[:, None] * phi / phi0), axis=1)
         # the far wings beyond x_max are optically thin: their weight escapes (kernel -> 1)
+        tail: Any
         if profile == "doppler":
             tail = 0.0
         else:

@@ -38,8 +38,14 @@ from numpy.typing import ArrayLike, NDArray
 from scipy.special import exp1
 
 from levels.errors import PhysicsInputError
-from levels.physics.discharge.common import (C2_CM_K, RATE_UNIT_M3_S, RYDBERG_CM1, as_nonnegative, as_positive,
-                                             check_temperature)
+from levels.physics.discharge.common import (
+    C2_CM_K,
+    RATE_UNIT_M3_S,
+    RYDBERG_CM1,
+    as_nonnegative,
+    as_positive,
+    check_temperature,
+)
 
 __all__ = ["DEFAULT_FORBIDDEN_OMEGA", "gaunt_factor", "van_regemorter_rate", "collision_strength_rate",
            "deexcitation_rate"]
@@ -145,8 +151,9 @@ def collision_strength_rate(omega: ArrayLike, g_lower: ArrayLike, delta_e_cm1: A
 
     Examples
     --------
-    >>> round(float(collision_strength_rate(1.0, 1.0, 1e-9, 1e4)) * 1e6 / 8.63e-6 * 100, 2)   # cm3/s over 8.63e-6/sqrt(T)
-    1.0
+    >>> c = collision_strength_rate(1.0, 1.0, 1e-9, 1e4)   # Omega = g_l = 1, T = 1e4 K
+    >>> round(float(c) * 1e6 * 1e4**0.5 * 1e6, 3)   # 1e-6 cm3 s-1 K^1/2
+    8.629
     """
     te = check_temperature(te_k)
     om = as_nonnegative("omega", omega)

@@ -76,7 +76,7 @@ def integrated_absorption_m1_nm(f_abs: ArrayLike, lower_density_m3: ArrayLike, w
     s = _SIGMA_INT * f * n_l * lam**2 / units.C * 1e9
     extra = (g_lower, g_upper, upper_density_m3)
     if any(x is not None for x in extra):
-        if any(x is None for x in extra):
+        if g_lower is None or g_upper is None or upper_density_m3 is None:
             raise PhysicsInputError("stimulated emission needs g_lower, g_upper and upper_density_m3 together")
         gl, gu = as_positive("g_lower", g_lower), as_positive("g_upper", g_upper)
         n_u = as_nonnegative("upper_density_m3", upper_density_m3)

@@ -41,7 +41,14 @@ from numpy.typing import ArrayLike, NDArray
 
 from levels import units
 from levels.errors import PhysicsInputError
-from levels.physics.discharge.common import BOHR_M, RYDBERG_J, as_nonnegative, as_positive, check_density, check_temperature
+from levels.physics.discharge.common import (
+    BOHR_M,
+    RYDBERG_J,
+    as_nonnegative,
+    as_positive,
+    check_density,
+    check_temperature,
+)
 
 __all__ = ["BALMER_FITS", "balmer_fwhm_nm", "hydrogenic_stark_fwhm_nm", "mean_r2_bohr2", "quadratic_stark_fwhm_nm"]
 

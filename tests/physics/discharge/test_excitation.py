@@ -35,7 +35,8 @@ def test_van_regemorter_against_its_numerical_form(te_k):
     # C = 3.15e-7 f (Ry/dE)^{3/2} beta^{1/2} e^{-beta} P(beta) cm3 s-1
     f, de = 0.6407, 15233.0
     beta = C2 * de / te_k
-    expected_cm3 = 3.15e-7 * f * (RY_CM1 / de) ** 1.5 * math.sqrt(beta) * math.exp(-beta) * float(excitation.gaunt_factor(beta))
+    gaunt = float(excitation.gaunt_factor(beta))
+    expected_cm3 = 3.15e-7 * f * (RY_CM1 / de) ** 1.5 * math.sqrt(beta) * math.exp(-beta) * gaunt
     assert float(excitation.van_regemorter_rate(f, de, te_k)) * 1e6 == pytest.approx(expected_cm3, rel=2e-3)
 
 

@@ -78,5 +78,6 @@ def test_total_radiative_recombination_of_hydrogen_against_seaton(te_k):
 
 
 def test_kramers_threshold_cross_section():
-    # Kramers' threshold photoionization cross section of H 1s: 7.91e-18 cm2 (Rybicki & Lightman 1979, eq. 10.54; from memory)
+    # Kramers' threshold photoionization cross section of H 1s: 7.91e-18 cm2
+    # (Rybicki & Lightman 1979, eq. 10.54; from memory)
     assert recombination.KRAMERS_SIGMA0_M2 * 1e4 == pytest.approx(7.91e-18, rel=2e-3)
