@@ -134,3 +134,33 @@ def test_commit_writes_the_unblended_lines_once_asked(hsite):
     assert 'id="committed"' in good.get_data(as_text=True)
     after = dataset_names(catalog)
     assert len(after) == len(before) + 1 and any(name.startswith("invented-cell/") for name in after)
+
+
+def test_pixel_frame_with_an_uploaded_calibration(hsite):
+    app, catalog = hsite
+    client = app.test_client()
+    res = catalog.emission(
+        "H I",
+        te_k=14000.0,
+        ne_m3=1e20,
+        tgas_k=800.0,
+        from_nm=420.0,
+        to_nm=670.0,
+        medium="air",
+        instrument_fwhm_nm=0.06,
+        grid_points=25001,
+    )
+    # an invented linear spectrometer: lambda = 420 nm + 0.01 nm x pixel, so pixel = (lambda - 420) / 0.01
+    pixel = (res.grid_nm - 420.0) / 0.01
+    y = res.spectrum / res.spectrum.max() * 1000.0 + np.random.default_rng(3).normal(0, 1.0, pixel.size)
+    rows = "\n".join(f"{float(a)!r},{float(b)!r}" for a, b in zip(pixel, y))
+    frame = f"# invented test frame\npixel,intensity\n{rows}\n".encode()
+    cal = b'{"degree": 1, "coefficients": [420.0, 0.01], "medium": "air", "rms_nm": 0.0001}'
+    response = _post(
+        client, "/analysis/", {"species": "H I"}, {"spectrum": (frame, "frame.csv"), "calibration": (cal, "cal.json")}
+    )
+    text = response.get_data(as_text=True)
+    assert response.status_code == 200, text[:2000]
+    assert re.search(r'<td class="num">656\.2\d+</td>', text)  # H-alpha in air, nm
+    no_cal = _post(client, "/analysis/", {"species": "H I"}, {"spectrum": (frame, "frame.csv")})
+    assert no_cal.status_code == 400 and "pixel axis" in no_cal.get_data(as_text=True)
