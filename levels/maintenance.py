@@ -24,7 +24,7 @@ import json
 import os
 from collections.abc import Callable
 
-from sqlalchemy import func, or_, select
+from sqlalchemy import and_, func, or_, select
 from sqlalchemy.orm import Session
 
 from levels.catalog import Catalog, _store_derived_lines
@@ -73,21 +73,52 @@ def limit_problems(catalog: Catalog, tables=TABLE_ORDER) -> list[str]:
     """
     problems: list[str] = []
 
+    def report(name: str, column: str, ids: list[int], total: int, first: str) -> None:
+        shown = ", ".join(str(i) for i in ids[:integrity.SHOWN_IDS]) + (", ..." if total > integrity.SHOWN_IDS else "")
+        problems.append(f"{name}: {total} row{'s' if total != 1 else ''} whose {column} the rules "
+                        f"refuse (id {shown}); id {ids[0]}: {column} {first}")
+
     def work(session: Session) -> None:
         for name in TABLE_ORDER:
             if name not in tables:
                 continue
             table = Base.metadata.tables[name]
+            specs = limits.COLUMNS[name]
+            # numbers: one query per column, the bounds as SQL (NaN fails every comparison on SQLite, where
+            # it is stored as NULL anyway, and passes 'x > -1e300 AND x < 1e300' on neither engine)
+            for column, spec in specs.items():
+                if spec.kind not in ("int", "float") or column not in table.c:
+                    continue
+                col = table.c[column]
+                inside = []
+                if spec.low is not None:
+                    inside.append(col > spec.low if spec.low_open else col >= spec.low)
+                if spec.high is not None and not (spec.infinity_ok and spec.high == float("inf")):
+                    inside.append(col < spec.high if spec.high_open else col <= spec.high)
+                if not inside:
+                    continue
+                bad = select(table.c.id).where(col.is_not(None), ~and_(*inside))
+                ids = list(session.scalars(bad.order_by(table.c.id).limit(integrity.SHOWN_IDS + 1)))
+                if ids:
+                    total = int(session.scalar(select(func.count()).select_from(bad.subquery())))
+                    value = session.scalar(select(col).where(table.c.id == ids[0]))
+                    report(name, column, ids, total, limits.value_problem(name, column, value) or f"is {value!r}")
+            # texts: length and control characters, read in chunks
+            texts = [c for c, spec in specs.items() if spec.kind == "text" and c in table.c]
+            if not texts:
+                continue
             found: dict[str, tuple[list[int], str]] = {}
-            result = session.execute(select(table).order_by(table.c.id).execution_options(yield_per=10000))
-            for row in result.mappings():
-                for column, message in limits.row_problems(name, row):
-                    ids, first = found.setdefault(column, ([], message))
-                    ids.append(row["id"])
+            query = select(table.c.id, *[table.c[c] for c in texts]).order_by(table.c.id)
+            for row in session.execute(query.execution_options(yield_per=10000)):
+                for column, value in zip(texts, row[1:]):
+                    if value is None or (value.isprintable() and len(value) <= (specs[column].length or len(value))):
+                        continue
+                    message = limits.value_problem(name, column, value)
+                    if message:
+                        ids, _ = found.setdefault(column, ([], message))
+                        ids.append(row[0])
             for column, (ids, first) in found.items():
-                shown = ", ".join(str(i) for i in ids[:integrity.SHOWN_IDS]) + (", ..." if len(ids) > 5 else "")
-                problems.append(f"{name}: {len(ids)} row{'s' if len(ids) != 1 else ''} whose {column} the rules "
-                                f"refuse (id {shown}); id {ids[0]}: {column} {first}")
+                report(name, column, ids, len(ids), first)
 
     with database_read(catalog) as session:
         work(session)
