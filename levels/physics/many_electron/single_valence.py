@@ -446,7 +446,12 @@ def compute_single_valence(n: ArrayLike, l: ArrayLike, two_j: ArrayLike, energy_
             ia = use[(l_[use] == a_key[0]) & (tj[use] == a_key[1])]
             ib = use[(l_[use] == b_key[0]) & (tj[use] == b_key[1])]
             if (a_key[1] < 0) != (b_key[1] < 0):
-                continue  # resolved against unresolved: no consistent angular factor
+                # resolved against unresolved: no consistent angular factor
+                text = (f"no E1 lines between J-resolved and unresolved levels (l = {a_key[0]} and "
+                        f"l = {b_key[0]}); give J for all of them")
+                if text not in warnings:
+                    warnings.append(text)
+                continue
             if a_key[1] >= 0:
                 ang = float(hydrogenic_rates.fine_structure_factor(b_key[0], b_key[1], a_key[0], a_key[1]))
             else:

@@ -350,3 +350,25 @@ def test_numpy_fallback_of_the_recurrences_gives_the_compiled_result(monkeypatch
         results.append((inward, outward / outward[150]))
     assert np.allclose(results[0][0], results[1][0], rtol=0, atol=1e-10)
     assert np.allclose(results[0][1], results[1][1], rtol=1e-10, atol=1e-12)
+
+
+def test_terms_without_j_use_the_spin_summed_strength_and_mixing_is_reported():
+    # nl terms (J not resolved): S = 2 l_> R^2, the sum of the fine-structure components (6j orthogonality)
+    sp = SPECIES["Na I"]
+    keep = ("3s", "4s", "5s", "6s", "3p1/2", "3p3/2", "4p1/2", "4p3/2", "5p1/2", "5p3/2")
+    lv = [v for v in sp["levels"] if v[4] in keep]
+    resolved = compute_single_valence([v[0] for v in lv], [v[1] for v in lv], [v[2] for v in lv],
+                                      [v[3] for v in lv], z=11, charge=0, ionization_cm1=sp["limit"],
+                                      rydberg_cm1=109734.7, alpha_c=0.9448, method="coulomb")
+    # merge each p doublet into its term at the J-averaged energy
+    terms = [(3, 0, -1, 0.0), (3, 1, -1, (16956.17 + 2 * 16973.37) / 3)]
+    merged = compute_single_valence([t[0] for t in terms], [t[1] for t in terms], [t[2] for t in terms],
+                                    [t[3] for t in terms], z=11, charge=0, ionization_cm1=sp["limit"],
+                                    rydberg_cm1=109734.7, alpha_c=0.9448, method="coulomb")
+    keys = [v[4] for v in lv]
+    pick = {(keys[lo], keys[up]): s for lo, up, s in zip(resolved.lower, resolved.upper, resolved.line_strength)}
+    total = pick[("3s", "3p1/2")] + pick[("3s", "3p3/2")]
+    assert merged.line_strength[0] == pytest.approx(total, rel=2e-3)   # radial functions at slightly other energies
+    mixed = compute_single_valence([3, 3], [0, 1], [1, -1], [0.0, 16967.6], z=11, charge=0,
+                                   ionization_cm1=sp["limit"], rydberg_cm1=109734.7, method="coulomb")
+    assert len(mixed.lower) == 0 and any("J-resolved and unresolved" in w for w in mixed.warnings)
