@@ -21,7 +21,7 @@ from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, SPECIES_COLUMNS, Catalog
 from levels.errors import InputFileError, LevelsError
 from levels.io.limits import text_problem
 from levels.io.paths import check_output_path
-from levels.io.tables import format_table, format_text_table, write_atomic
+from levels.io.tables import format_table, format_text_table, printable, write_atomic
 from levels.store import database
 
 TABLE_FORMATS = ("table", "csv", "json", "ecsv")
@@ -71,13 +71,13 @@ def reports_errors(func: Callable) -> Callable:
                 return func(*args, **kwargs)
         except InputFileError as exc:
             for problem in exc.problems[:50]:
-                click.echo(f"error: {problem}", err=True)
+                click.echo(f"error: {printable(str(problem))}", err=True)
             if len(exc.problems) > 50:
                 click.echo(f"error: ... and {len(exc.problems) - 50} more problems", err=True)
             click.echo("nothing was written", err=True)
             sys.exit(1)
         except LevelsError as exc:
-            click.echo(f"error: {exc}", err=True)
+            click.echo(f"error: {printable(str(exc))}", err=True)
             sys.exit(1)
 
     return wrapper
