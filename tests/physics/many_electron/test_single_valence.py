@@ -372,3 +372,20 @@ def test_terms_without_j_use_the_spin_summed_strength_and_mixing_is_reported():
     mixed = compute_single_valence([3, 3], [0, 1], [1, -1], [0.0, 16967.6], z=11, charge=0,
                                    ionization_cm1=sp["limit"], rydberg_cm1=109734.7, method="coulomb")
     assert len(mixed.lower) == 0 and any("J-resolved and unresolved" in w for w in mixed.warnings)
+
+
+def test_bound_part_of_the_f_sum_of_hydrogen_1s():
+    # Thomas-Reiche-Kuhn sum of 1s: 1 = 0.5650 (Lyman series, bound) + 0.4350 (continuum);
+    # Bethe & Salpeter 1957, section 63 (values from memory). Here the bound part, n = 2..80 by the
+    # radial functions of this package at the exact energies, plus the n^-3 tail beyond 80.
+    top = 80
+    nu = np.r_[1.0, np.arange(2, top + 1)]
+    ls = np.r_[0, np.ones(top - 1, dtype=int)]
+    x = numerov.square_root_grid(float(numerov.outer_radius(top, 1)), 0.02)
+    chi = coulomb_approximation.coulomb_radial_functions(x, nu, ls)
+    radial = numerov.radial_integrals(chi[:, :1], chi[:, 1:], x, x * x)[0]
+    n = np.arange(2, top + 1)
+    f = (2 / 3) * 0.5 * (1 - 1 / n**2) * radial**2       # f(1s-np) = (2/3) dE |<1s|r|np>|^2, atomic units
+    tail = f[-1] * top**3 * np.sum(np.arange(top + 1, 20000, dtype=float) ** -3)
+    assert f[0] == pytest.approx(0.4162, abs=1e-4)          # f(1s-2p) = 0.4162 (same source)
+    assert f.sum() + tail == pytest.approx(0.5650, abs=2e-4)
