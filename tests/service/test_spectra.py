@@ -329,3 +329,87 @@ def test_lines_output_is_a_file_levels_import_accepts(catalog, tmp_path):
 
 def dataset_names_of(catalog) -> list[str]:
     return sorted(d["name"] for d in catalog.dataset_rows())
+
+
+HE_I_LEVELS = (  # INVENTED He I-like levels (energies rounded and shifted on purpose; not reference data)
+    "spectrum,configuration,term,j,energy_cm1,unc_cm1\n"
+    "He I,1s2,1S,0,0,0.01\n"
+    "He I,1s.2s,3S,1,159000.0,0.01\n"
+    "He I,1s.2p,3P°,1,169000.0,0.01\n"
+    "He I,1s.3s,3S,1,183000.0,0.01\n"
+    "He I,1s.3d,3D,2,186000.0,0.01\n"
+    "He I,1s.4d,3D,2,191000.0,0.01\n"
+)
+#: invented A values of the invented He I lines, s-1
+HE_I_A = {("1s.2p", "1s.3s"): 1.0e7, ("1s.2p", "1s.3d"): 7.0e7, ("1s.2p", "1s.4d"): 2.5e7, ("1s.2s", "1s.2p"): 1.0e7}
+HE_I_LIMIT_CM1 = 198000.0  # invented
+
+
+def test_saha_boltzmann_across_two_stages(catalog):
+    from levels.notation import parse_spectrum
+    from levels.physics.diagnostics import boltzmann
+    from levels.store import database, queries
+    from levels.store.schema import IonizationLimit
+
+    catalog.compute_hydrogenic("He II", n_max=4)
+    report = catalog.import_file("he1.csv", content=HE_I_LEVELS.encode(), source="he1.csv", dataset="invented He I")
+    labels = {r["configuration"]: r["label"] for r in catalog.level_rows("He I")}
+    energy = {r["configuration"]: r["energy_cm1"] for r in catalog.level_rows("He I")}
+    lines = ["spectrum,lower,upper,wavelength_nm,medium,unc_nm,a_per_s"]
+    for (lo, up), a in HE_I_A.items():
+        lines.append(f"He I,{labels[lo]},{labels[up]},{1e7 / (energy[up] - energy[lo])!r},vacuum,0.001,{a}")
+    catalog.import_file(
+        "he1-lines.csv",
+        content=("\n".join(lines) + "\n").encode(),
+        source="he1-lines.csv",
+        dataset="invented He I lines",
+    )
+
+    def work(session):
+        ds = queries.require_dataset(session, report.dataset)
+        species = queries.require_species(session, parse_spectrum("He I"))
+        session.add(
+            IonizationLimit(
+                dataset_id=ds.id,
+                species_id=species.id,
+                energy_cm1=HE_I_LIMIT_CM1,
+                unc_cm1=1.0,
+                method="invented test value",
+            )
+        )
+
+    database.run_in_transaction(catalog.engine, work)
+    te, ne = 30000.0, 1e23
+    c2 = 1.4387768775  # hc/k, cm K (CODATA, scipy.constants)
+    peaks_rows = []
+    for name, eion, shift in (("He I", 0.0, 0.0), ("He II", HE_I_LIMIT_CM1, boltzmann.saha_shift(te, ne))):
+        rows, _ = catalog.species_lines(LineQuery(spectrum=name, from_nm=100.0, to_nm=800.0, medium="vacuum"))
+        rows = [r for r in rows if r["a_per_s"]]
+        by_pair: dict = {}
+        for r in rows:  # blends: the fine-structure components of one nl pair
+            key = (round(r["upper_cm1"], -2), round(r["lower_cm1"], -2))
+            by_pair.setdefault(key, []).append(r)
+        for comp in by_pair.values():
+            ga = sum(r["a_per_s"] * r["g_upper"] for r in comp)
+            eu = sum(r["a_per_s"] * r["g_upper"] * r["upper_cm1"] for r in comp) / ga
+            lam = sum(r["a_per_s"] * r["g_upper"] * r["vacuum_nm"] for r in comp) / ga
+            ln_y = 5.0 - (eu + eion) * c2 / te + shift
+            spread = max(r["vacuum_nm"] for r in comp) - min(r["vacuum_nm"] for r in comp)
+            peaks_rows.append(
+                {
+                    "peak_nm": lam,
+                    "peak_unc_nm": 1e-4,
+                    "medium": "vacuum",
+                    "fwhm_nm": 2 * spread + 0.02,
+                    "area": float(np.exp(ln_y) * ga / lam),
+                    "area_unc": float(0.01 * np.exp(ln_y) * ga / lam),
+                }
+            )
+    content = _csv(peaks_rows, ("peak_nm", "peak_unc_nm", "medium", "fwhm_nm", "area", "area_unc"))
+    result = service.diagnose(catalog, ["He I", "He II"], content=content, source="he.csv", ne_m3=ne)
+    out = result.report
+    assert out["te_method"] == "Saha-Boltzmann plot of He I and He II"
+    assert out["te_k"] == pytest.approx(te, rel=0.01)
+    assert out["ne_method"] == "given"
+    without_ne = service.diagnose(catalog, ["He I", "He II"], content=content, source="he.csv").report
+    assert any("no electron density" in w for w in without_ne["warnings"])
