@@ -414,7 +414,8 @@ def _report_rows(lines: Sequence[LineRate], by_id: dict[int, LevelInput]) -> tup
     for ln in lines:
         rows.append({"lower": by_id[ln.lower_id].label, "upper": by_id[ln.upper_id].label,
                      "vacuum_nm": 1e7 / ln.wavenumber_cm1, "multipole": ln.multipole, "a_per_s": ln.a_per_s,
-                     "a_rel_unc": float(f"{ln.a_rel_unc:.3g}"), "f_abs": ln.f_abs, "line_strength_au": ln.line_strength_au,
+                     "a_rel_unc": float(f"{ln.a_rel_unc:.3g}"), "f_abs": ln.f_abs,
+                     "line_strength_au": ln.line_strength_au,
                      "lower_id": ln.lower_id, "upper_id": ln.upper_id})
     upper = np.array([ln.upper_id for ln in lines])
     a = np.array([ln.a_per_s for ln in lines])

@@ -21,8 +21,8 @@ import numpy as np
 
 from levels.physics import rates
 from levels.physics.many_electron import model_potential, numerov
-from levels.physics.many_electron.core_polarisation import dipole_operator
 from levels.physics.many_electron.single_valence import compute_single_valence
+
 from tests.bench.harness import BenchResult
 
 RYDBERG = 109734.69  # sodium-like core mass, cm-1 (only sets the scale)

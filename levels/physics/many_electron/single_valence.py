@@ -485,7 +485,6 @@ def compute_single_valence(n: ArrayLike, l: ArrayLike, two_j: ArrayLike, energy_
             lines["S"].append(strength[distinct])
             lines["unc"].append(np.minimum(unc[distinct], MAX_REL_UNC))
 
-    e1_lower = np.concatenate(lines["lower"]) if lines["lower"] else np.zeros(0, dtype=np.int64)
     e1_upper = np.concatenate(lines["upper"]) if lines["upper"] else np.zeros(0, dtype=np.int64)
     has_e1_decay = np.zeros(len(e), dtype=bool)
     has_e1_decay[e1_upper] = True
@@ -560,5 +559,6 @@ def _empty_result(series, skipped, warnings, alpha, size) -> SingleValenceResult
     empty_f = np.zeros(0)
     return SingleValenceResult(lower=empty_i, upper=empty_i, multipole=np.zeros(0, dtype="<U2"),
                                wavenumber_cm1=empty_f, line_strength=empty_f, a_per_s=empty_f, f_abs=empty_f,
-                               rel_unc=empty_f, lifetime_s=np.full(size, np.nan), lifetime_rel_unc=np.full(size, np.nan), series=series,
-                               skipped=skipped, warnings=warnings, alpha_c=alpha)
+                               rel_unc=empty_f, lifetime_s=np.full(size, np.nan),
+                               lifetime_rel_unc=np.full(size, np.nan), series=series, skipped=skipped,
+                               warnings=warnings, alpha_c=alpha)

@@ -23,9 +23,16 @@ from levels.errors import PhysicsInputError, QuantumNumberError
 from levels.physics import radial, rates
 from levels.physics.many_electron import coulomb_approximation, model_potential, numerov
 from levels.physics.many_electron.core_polarisation import core_polarisability, dipole_operator
-from levels.physics.many_electron.single_valence import (E2_COEFFICIENT, M1_COEFFICIENT, G_SPIN,
-                                                         compute_single_valence, e2_angular_factor,
-                                                         m1_angular_factor, wigner_3j, wigner_6j)
+from levels.physics.many_electron.single_valence import (
+    E2_COEFFICIENT,
+    G_SPIN,
+    M1_COEFFICIENT,
+    compute_single_valence,
+    e2_angular_factor,
+    m1_angular_factor,
+    wigner_3j,
+    wigner_6j,
+)
 from levels.physics.series import rydberg_constant_cm1
 
 M_E_U = 5.48579909065e-4  # electron mass in u (CODATA 2018)
@@ -215,6 +222,7 @@ def test_hydrogen_rates_through_the_whole_method():
         exact = rates.line_strength_fs(n[up], l[up], two_j[up], n[lo], l[lo], two_j[lo])
         assert s == pytest.approx(float(exact), rel=1e-7)
         sigma = e[up] - e[lo]
+        assert a == pytest.approx(float(rates.einstein_a(s, sigma, two_j[up] + 1)), rel=1e-12)
         assert f == pytest.approx(float(rates.oscillator_strength(s, sigma, two_j[lo] + 1)), rel=1e-6)
 
 
