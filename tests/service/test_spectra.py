@@ -413,3 +413,62 @@ def test_saha_boltzmann_across_two_stages(catalog):
     assert out["ne_method"] == "given"
     without_ne = service.diagnose(catalog, ["He I", "He II"], content=content, source="he.csv").report
     assert any("no electron density" in w for w in without_ne["warnings"])
+
+
+def test_self_absorbed_multiplet_is_flagged(catalog):
+    # INVENTED levels: an upper 3S1 level above a 3P° term of three J levels (one multiplet of three lines),
+    # and a 3D level for a spread of upper energies; A values invented
+    levels_csv = (
+        "spectrum,configuration,term,j,energy_cm1,unc_cm1\n"
+        "He I,1s2,1S,0,0,0.01\n"
+        "He I,1s.2p,3P°,0,169000.0,0.01\n"
+        "He I,1s.2p,3P°,1,169001.0,0.01\n"
+        "He I,1s.2p,3P°,2,169003.0,0.01\n"
+        "He I,1s.3s,3S,1,183000.0,0.01\n"
+        "He I,1s.3d,3D,3,186000.0,0.01\n"
+        "He I,1s.4d,3D,3,191000.0,0.01\n"
+    )
+    catalog.import_file("he1.csv", content=levels_csv.encode(), source="he1.csv", dataset="invented He I")
+    rows = {(r["configuration"], r["j"]): r for r in catalog.level_rows("He I")}
+    pairs = [
+        (("1s.2p", "0"), ("1s.3s", "1"), 1.0e6),
+        (("1s.2p", "1"), ("1s.3s", "1"), 3.0e6),
+        (("1s.2p", "2"), ("1s.3s", "1"), 5.0e6),
+        (("1s.2p", "2"), ("1s.3d", "3"), 6.0e7),
+        (("1s.2p", "2"), ("1s.4d", "3"), 2.0e7),
+    ]
+    lines = ["spectrum,lower,upper,wavelength_nm,medium,unc_nm,a_per_s"]
+    for lo, up, a in pairs:
+        lam = 1e7 / (rows[up]["energy_cm1"] - rows[lo]["energy_cm1"])
+        lines.append(f"He I,{rows[lo]['label']},{rows[up]['label']},{lam!r},vacuum,0.0001,{a}")
+    catalog.import_file(
+        "he1-lines.csv",
+        content=("\n".join(lines) + "\n").encode(),
+        source="he1-lines.csv",
+        dataset="invented He I lines",
+    )
+    te, c2 = 20000.0, 1.4387768775
+    peaks_rows = []
+    for lo, up, a in pairs:
+        g_u, e_u = rows[up]["g"], rows[up]["energy_cm1"]
+        lam = 1e7 / (e_u - rows[lo]["energy_cm1"])
+        area = float(np.exp(3.0 - e_u * c2 / te) * g_u * a / lam)
+        if (lo, up) == (("1s.2p", "2"), ("1s.3s", "1")):
+            area *= 0.6  # the strongest line of the multiplet, self-absorbed
+        peaks_rows.append(
+            {"peak_nm": lam, "peak_unc_nm": 1e-5, "medium": "vacuum", "area": area, "area_unc": 0.01 * area}
+        )
+    content = _csv(peaks_rows, ("peak_nm", "peak_unc_nm", "medium", "area", "area_unc"))
+    out = service.diagnose(catalog, ["He I"], content=content, source="he.csv", tolerance_nm=1e-4).report
+    assert any("self-absorbed" in w and "1s.3s 3S" in w for w in out["warnings"]), out["warnings"]
+    peaks_rows[2]["area"] /= 0.6
+    peaks_rows[2]["area_unc"] /= 0.6
+    clean = service.diagnose(
+        catalog,
+        ["He I"],
+        content=_csv(peaks_rows, ("peak_nm", "peak_unc_nm", "medium", "area", "area_unc")),
+        source="he.csv",
+        tolerance_nm=1e-4,
+    ).report
+    assert not any("self-absorbed" in w for w in clean["warnings"])
+    assert clean["te_k"] == pytest.approx(te, rel=1e-3)
