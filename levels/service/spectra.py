@@ -37,7 +37,8 @@ from levels.isotopes import isotope
 from levels.notation import parse_spectrum
 from levels.physics import air
 from levels.physics import spectrum as line_shapes
-from levels.physics.diagnostics import boltzmann, calibration, lte, peaks, stark
+from levels.physics.diagnostics import boltzmann, calibration, peaks, stark
+from levels.physics.discharge import validity as lte_validity
 from levels.units import CM1_J, K_B
 
 __all__ = [
@@ -654,8 +655,8 @@ def diagnose(
         top_e = max(p["upper_cm1"] for p in use)
         energies = ref["energies"][ref["energies"] <= top_e * 1.0001]
         try:
-            gap = lte.largest_gap_cm1(energies)
-            min_ne = lte.mcwhirter_min_ne_m3(te, gap)
+            gap = lte_validity.largest_gap_cm1(energies)
+            min_ne = lte_validity.mcwhirter_min_density_m3(te, gap)
             validity["lte_min_ne_m3"] = min_ne
             validity["largest_gap_cm1"] = gap
             if ne is not None:
