@@ -207,7 +207,10 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
             spectrum_name=spectrum_name, z=z, charge=charge, levels=levels, lines=lines, included=included,
             ionization_cm1=ionization_cm1, next_ion_levels=next_ion_levels, te_k=te_k, ne_m3=ne_m3,
             n_element=n_element, mass_u=mass_u, tgas_k=tgas_k, path_length_m=path_length_m, geometry=geometry,
-            loss_rate_per_s=loss_rate_per_s, forbidden_omega=forbidden_omega, warnings=warnings)
+            loss_rate_per_s=loss_rate_per_s, forbidden_omega=forbidden_omega, warnings=warnings,
+            broadening_args=dict(broadening=broadening, perturber=perturber, pressure_pa=pressure_pa, tgas_k=tgas_k,
+                                 te_k=te_k, ne_m3=ne_m3, z=z, charge=charge, ionization_cm1=ionization_cm1,
+                                 mass_u=mass_u, energy=energy))
         pop_rel, departure = crr
     pop_by_id = {lv.id: populations[i] for i, lv in enumerate(levels)}
 
@@ -247,10 +250,14 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
             g_u = np.array([r["g_upper"] for r in with_rates], dtype=float)
             tau = plasma.line_center_optical_depth(n_lower, f_abs, vacuum * 1e-9, doppler * 1e-9, path_length_m,
                                                    g_lower=g_l, g_upper=g_u, upper_population_m3=n_upper)
+            # Voigt cores (natural and pressure widths), as in the collisional-radiative balance
+            damping, centre = discharge_escape.voigt_core(doppler, natural + pressure)
+            tau = tau * centre
             escape = np.ones_like(tau)
             todo = tau > 1e-6
             if np.any(todo):
-                escape[todo] = discharge_escape.mean_escape_factor(np.maximum(tau[todo], 0.0), geometry, "doppler")
+                escape[todo] = discharge_escape.mean_escape_factor(np.maximum(tau[todo], 0.0), geometry, "voigt",
+                                                                   damping[todo])
         emissivity = thin_emissivity * escape
         thick = int((escape < 0.5).sum())
         if thick:
@@ -331,7 +338,7 @@ def _examples(rows: list[dict]) -> str:
 
 def _cr_populations(*, spectrum_name, z, charge, levels, lines, included, ionization_cm1, next_ion_levels, te_k,
                     ne_m3, n_element, mass_u, tgas_k, path_length_m, geometry, loss_rate_per_s, forbidden_omega,
-                    warnings):
+                    warnings, broadening_args):
     """The CR balance on the included levels: ((pop_rel, departure) per level, fraction, densities, escapes, note)."""
     idx_all = np.flatnonzero(included)
     order = idx_all[np.argsort([levels[i].energy_cm1 for i in idx_all], kind="stable")]
@@ -391,9 +398,19 @@ def _cr_populations(*, spectrum_name, z, charge, levels, lines, included, ioniza
 
         lam_nm = 1e7 / (e[upper] - e[lower]) if lower.size else np.zeros(0)
         dop = spectra_.doppler_fwhm_nm(lam_nm, tgas_k, mass_u) if lower.size else np.zeros(0)
+        # Voigt cores: natural widths from the lifetimes, plus Stark and van der Waals widths when asked for
+        # (resonance broadening needs the ground density the balance is solving for, so it is left out here)
+        lorentz = np.zeros(lam_nm.size)
+        if lower.size:
+            tau_u = np.array([_tau(r["upper_lifetime_s"]) for r in usable])
+            tau_l = np.array([_tau(r["lower_lifetime_s"]) for r in usable])
+            lorentz = spectra_.natural_fwhm_nm(lam_nm, tau_u, tau_l)
+            extra, _note = _pressure_widths(usable, levels, {}, warnings=[], **broadening_args)
+            lorentz = lorentz + extra
         result = cr.solve_with_trapping(species, te_k, ne_m3, total_density_m3=n_element, size_m=path_length_m,
                                         geometry=geometry, wavelength_m=lam_nm * 1e-9, doppler_fwhm_m=dop * 1e-9,
-                                        loss_rate_per_s=loss_rate_per_s, forbidden_omega=omega)
+                                        lorentz_fwhm_m=lorentz * 1e-9, loss_rate_per_s=loss_rate_per_s,
+                                        forbidden_omega=omega)
     warnings.extend(result.warnings)
     pop_rel = np.zeros(len(levels))
     departure = np.full(len(levels), np.nan)
@@ -408,7 +425,7 @@ def _cr_populations(*, spectrum_name, z, charge, levels, lines, included, ioniza
     note += (f", Lotz 1968 ionization, forbidden collision strength {omega:g}, metastable loss "
              f"{loss_rate_per_s:g} s-1")
     if path_length_m is not None:
-        note += f", {result.iterations} trapping iterations"
+        note += f", {result.iterations} trapping iterations with Voigt-core escape factors"
     return (pop_rel, departure), result.species_fraction, populations, escapes, note
 
 

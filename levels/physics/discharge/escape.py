@@ -53,7 +53,7 @@ from levels.errors import PhysicsInputError
 from levels.physics.discharge.common import as_nonnegative
 
 __all__ = ["GEOMETRIES", "PROFILES", "transmission_factor", "holstein_asymptote", "geometric_escape",
-           "mean_escape_factor"]
+           "mean_escape_factor", "voigt_core"]
 
 GEOMETRIES = ("slab", "cylinder")
 PROFILES = ("doppler", "lorentz", "voigt")
@@ -301,3 +301,34 @@ def mean_escape_factor(tau0: ArrayLike, geometry: str = "slab", profile: str = "
         raise PhysicsInputError(f"unknown geometry {geometry!r}; expected 'slab' or 'cylinder'")
     tau_a, a = _check(profile, tau0, damping)
     return _average(tau_a, profile, a, lambda u: geometric_escape(u, geometry)).reshape(np.shape(tau0))
+
+
+def voigt_core(doppler_fwhm: ArrayLike, lorentz_fwhm: ArrayLike) -> tuple[NDArray[np.float64], NDArray[np.float64]]:
+    """Voigt damping a and the ratio of the Voigt to the Doppler line-centre profile value.
+
+    Parameters
+    ----------
+    doppler_fwhm, lorentz_fwhm : array_like
+        Gaussian (Doppler) and Lorentzian FWHM in one unit (> 0 and >= 0).
+
+    Returns
+    -------
+    (a, ratio) : tuple of numpy.ndarray
+        a = Lorentz HWHM over the Doppler 1/e half width; ratio = phi_V(0) / phi_D(0) (<= 1), which turns
+        a Doppler line-centre optical depth into the Voigt one.
+
+    Examples
+    --------
+    >>> a, r = voigt_core([1.0, 1.0], [0.0, 1e-3])
+    >>> [round(float(x), 5) for x in a], [round(float(x), 5) for x in r]
+    ([0.0, 0.00083], [1.0, 0.99906])
+    """
+    fd = np.asarray(doppler_fwhm, dtype=float)
+    fl = as_nonnegative("lorentz_fwhm", lorentz_fwhm)
+    if not np.all(np.isfinite(fd)) or np.any(fd <= 0):
+        raise PhysicsInputError("doppler_fwhm must be finite and > 0")
+    width = fd / (2.0 * math.sqrt(math.log(2.0)))          # Doppler 1/e half width
+    a = (fl / 2.0) / width
+    ratio = voigt_profile(0.0, 1.0 / math.sqrt(2.0), a) * _SQRT_PI
+    return np.asarray(a), np.asarray(ratio)
+
