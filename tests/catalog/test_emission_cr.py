@@ -160,3 +160,18 @@ def test_cli_bad_input_never_crashes(hydrogen, store_url, extra):
     result = CliRunner().invoke(main, args + extra)
     assert result.exit_code != 0
     assert "Traceback" not in result.output and "error" in result.output.lower()
+
+
+def test_a_cool_layer_reverses_lyman_alpha(hydrogen):
+    # hot, dense and optically thick Lyman alpha seen through 1 mm of ground-state atoms at the gas temperature:
+    # the narrow absorption of the cool layer cuts the centre of the broad emission line (self-reversal)
+    args = dict(te_k=11604.5, ne_m3=1e20, tgas_k=2000.0, from_nm=121.4, to_nm=121.75, medium="vacuum",
+                element_density_m3=1e21, path_length_m=0.01, model="cr", broadening="pressure", grid_points=20001)
+    plain = hydrogen.emission("H I", **args)
+    reversed_ = hydrogen.emission("H I", cool_layer_m=0.001, **args)
+    grid = reversed_.grid_nm
+    centre = int(abs(grid - 121.5668).argmin())
+    assert plain.spectrum[centre] > 0.9 * plain.spectrum.max()          # a flat-topped thick line
+    assert reversed_.spectrum[centre] < 0.01 * reversed_.spectrum.max()  # a deep central dip
+    assert reversed_.spectrum.max() > 0.5 * plain.spectrum.max()         # the wings still shine
+    assert "outer layer" in reversed_.conditions["model"]

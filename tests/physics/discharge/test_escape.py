@@ -89,3 +89,14 @@ def test_voigt_wings_let_more_light_out_at_large_depth():
 def test_bad_input(call):
     with pytest.raises(PhysicsInputError):
         call()
+
+
+def test_voigt_core_against_scipy():
+    from scipy.special import voigt_profile
+
+    doppler, lorentz = np.array([2.0, 2.0, 5.0]), np.array([0.0, 0.3, 4.0])
+    a, ratio = escape.voigt_core(doppler, lorentz)
+    sigma = doppler / (2 * math.sqrt(2 * math.log(2)))
+    gauss_peak = 1 / (sigma * math.sqrt(2 * math.pi))
+    assert np.allclose(ratio, voigt_profile(0.0, sigma, lorentz / 2) / gauss_peak, rtol=1e-12)
+    assert np.allclose(a, (lorentz / 2) / (doppler / (2 * math.sqrt(math.log(2)))), rtol=1e-12)
