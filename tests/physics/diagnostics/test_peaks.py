@@ -125,3 +125,19 @@ def test_pure_noise_gives_no_peaks():
     fit = peaks.find_and_fit(GRID, 10.0 + rng.normal(0, 1.0, GRID.size))
     assert len(fit) == 0 and fit.centre.size == 0
     assert fit.noise == pytest.approx(1.0, rel=0.1)
+
+
+def test_voigt_centre_uncertainty_coverage():
+    # 300 draws (binomial standard deviation of the fraction 0.027); accept 0.60..0.76
+    clean = _drawn([656.2], [1.0], 0.02, 0.02)
+    sigma = 0.01 * clean.max()
+    covered, fwhm_err = [], []
+    expected = float(shapes.voigt_fwhm_nm(0.02, 0.02))
+    for seed in range(300):
+        rng = np.random.default_rng(1000 + seed)
+        fit = peaks.find_and_fit(GRID, clean + 3.0 + rng.normal(0, sigma, GRID.size), profile="voigt")
+        assert len(fit) == 1
+        covered.append(abs(fit.centre[0] - 656.2) <= fit.centre_unc[0])
+        fwhm_err.append(fit.fwhm[0] / expected - 1)
+    assert 0.60 <= float(np.mean(covered)) <= 0.76
+    assert np.max(np.abs(fwhm_err)) < 0.03
