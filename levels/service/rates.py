@@ -398,7 +398,11 @@ def compute_rates(catalog, spectrum: str | Spectrum, *, method: str = "auto",
                                 + (f" ({detail})" if detail else ""))
     ordered = sorted(lines.values(), key=lambda ln: (by_id[ln.lower_id].energy_cm1, by_id[ln.upper_id].energy_cm1,
                                                      ln.multipole))
-    line_rows, level_rows = _report_rows(ordered, by_id)
+    # levels with a decay channel outside the method that treated them get no lifetime (it would be too long)
+    incomplete = {int(i) for res in results for i in res.parameters.get("lifetime_incomplete_level_ids", [])}
+    line_rows, level_rows = _report_rows(ordered, by_id, incomplete)
+    if incomplete:
+        parameters["lifetime_incomplete_level_ids"] = sorted(incomplete)
     method_text = " + ".join(methods)
     report = RatesReport(spectrum=name, method=method_text, datasets=used, lines=line_rows, levels=level_rows,
                          skipped=[{"label": by_id[k].label, "reason": v} for k, v in skipped.items()],
@@ -409,7 +413,8 @@ def compute_rates(catalog, spectrum: str | Spectrum, *, method: str = "auto",
     return report
 
 
-def _report_rows(lines: Sequence[LineRate], by_id: dict[int, LevelInput]) -> tuple[list[dict], list[dict]]:
+def _report_rows(lines: Sequence[LineRate], by_id: dict[int, LevelInput],
+                 incomplete: set[int] = frozenset()) -> tuple[list[dict], list[dict]]:
     rows = []
     for ln in lines:
         rows.append({"lower": by_id[ln.lower_id].label, "upper": by_id[ln.upper_id].label,
@@ -421,7 +426,7 @@ def _report_rows(lines: Sequence[LineRate], by_id: dict[int, LevelInput]) -> tup
     a = np.array([ln.a_per_s for ln in lines])
     u = np.array([ln.a_rel_unc for ln in lines])
     levels = []
-    for level_id in sorted(set(upper.tolist()), key=lambda i: by_id[i].energy_cm1):
+    for level_id in sorted(set(upper.tolist()) - set(incomplete), key=lambda i: by_id[i].energy_cm1):
         sel = upper == level_id
         total = float(a[sel].sum())
         if total > 0:
@@ -528,9 +533,11 @@ def lifetimes_from_lines(species_id: int | None, chosen: Sequence[Dataset], stor
     >>> lifetimes_from_lines(None, [], [])
     {}
     """
-    rates_ids = {d.id for d in chosen if d.role == RATES_ROLE and d.owner_species_id == species_id}
+    rates_sets = [d for d in chosen if d.role == RATES_ROLE and d.owner_species_id == species_id]
+    rates_ids = {d.id for d in rates_sets}
     if not rates_ids or not stored:
         return {}
+    incomplete = _incomplete_levels(rates_sets)
     rank = {d.id: i for i, d in enumerate(chosen)}
     covered = {ln.upper_id for ln in stored if ln.dataset_id in rates_ids}
     best: dict[tuple, object] = {}
@@ -541,4 +548,16 @@ def lifetimes_from_lines(species_id: int | None, chosen: Sequence[Dataset], stor
     for (_, upper, _), ln in best.items():
         if upper in covered and ln.a_per_s is not None and math.isfinite(ln.a_per_s):
             totals[upper] = totals.get(upper, 0.0) + ln.a_per_s
-    return {k: 1.0 / v for k, v in totals.items() if v > 0}
+    return {k: 1.0 / v for k, v in totals.items() if v > 0 and k not in incomplete}
+
+
+def _incomplete_levels(rates_sets: Sequence[Dataset]) -> set[int]:
+    """Level ids whose decays a rates dataset records as incomplete (a channel outside its method)."""
+    out: set[int] = set()
+    for ds in rates_sets:
+        try:
+            params = json.loads(ds.options_json or "{}").get("parameters", {})
+        except (ValueError, AttributeError):
+            continue
+        out.update(int(i) for i in params.get("lifetime_incomplete_level_ids", []))
+    return out

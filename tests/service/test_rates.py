@@ -236,3 +236,26 @@ def test_engine_rows_carry_the_computed_lifetimes_for_natural_widths(sodium):
     d2 = [r for r in rows if (r["lower"], r["upper"]) == ("3s 2S1/2", "3p 2P°3/2")][0]
     assert d2["upper_lifetime_s"] == pytest.approx(16.254e-9, rel=0.03)
     assert d2["lower_lifetime_s"] is None   # the ground level does not decay
+
+
+def test_levels_with_a_decay_outside_the_coupled_method_get_no_lifetime(catalog):
+    """The invented Ne glow sample: levels that also decay by a core-electron jump (refused by the
+    coupled method) must not get a lifetime from their remaining lines, in the report or in `levels show`."""
+    from pathlib import Path
+
+    from levels.service.rates import compute_rates
+
+    demo = Path(__file__).resolve().parents[2] / "seed_data" / "demo" / "sample-ne-glow.csv"
+    catalog.import_file(demo, sample="ne-glow-test")
+    catalog.fit_limit("Ne I", ["2p5(2P°3/2)ns 2[3/2]°2"])
+    report = compute_rates(catalog, "Ne I", method="auto")
+    incomplete = set(report.parameters.get("lifetime_incomplete_level_ids", []))
+    assert incomplete, "the sample has levels decaying to 2p6, which the coupled method refuses"
+    labels = {row["label"]: row for row in catalog.level_rows("Ne I")}
+    reported = {row["label"] for row in report.levels}
+    with_lifetime = {label for label, row in labels.items() if row.get("lifetime_s") is not None}
+    assert reported, "complete levels keep their lifetimes"
+    assert reported <= with_lifetime
+    ids = {row["level_id"] for row in report.levels}
+    assert not (ids & incomplete)
+    assert len(with_lifetime) == len(reported)
