@@ -169,6 +169,11 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
                                     "energy, and none is stored (fit one with `levels limit`)")
         warnings.append(f"{spectrum_name} has no stored ionization energy: no level was cut from the partition "
                         "function and the Saha balance is left out (all of the element taken as this species)")
+    if not included.any():
+        raise PhysicsInputError(
+            f"at Te = {te_k:g} K and ne = {ne_m3:g} m-3 the plasma lowers the ionization limit of {spectrum_name} "
+            f"by {cutoff.lowering_cm1:.4g} cm-1, below every stored level: no bound level survives, so there are no "
+            "lines to predict (choose a lower density or --cutoff none)")
     excluded = int((~included).sum())
     if excluded:
         warnings.append(f"{excluded} levels above the lowered ionization limit are left out of the partition function"
@@ -214,7 +219,11 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
         pop_rel, departure = crr
     pop_by_id = {lv.id: populations[i] for i, lv in enumerate(levels)}
 
-    with_rates = [r for r in lines if r["a_per_s"] is not None and pop_by_id.get(r["upper_id"], 0.0) > 0]
+    known_a = [r for r in lines if r["a_per_s"] is not None]
+    with_rates = [r for r in known_a if pop_by_id.get(r["upper_id"], 0.0) > 0]
+    if known_a and not with_rates:
+        raise PhysicsInputError(f"at Te = {te_k:g} K no upper level of a line of {spectrum_name} is populated (every "
+                                "excited population is below the floating-point range); raise the electron temperature")
     missing = sum(1 for r in lines if r["a_per_s"] is None)
     if missing:
         warnings.append(f"{missing} of {len(lines)} lines have no known A value; they are left out of the "

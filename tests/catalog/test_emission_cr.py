@@ -118,6 +118,9 @@ def test_pressure_broadening_widens_balmer_lines(hydrogen):
     ({"perturber": "Unobtainium", "pressure_pa": 1e5}, "unknown perturber"),
     ({"perturber": "Ar", "pressure_pa": -1.0}, "pressure"),
     ({"cool_layer_m": 0.001}, "needs the plasma depth"),
+    ({"model": "cr", "ne_m3": 1e31}, "no bound level survives"),
+    ({"model": "lte", "ne_m3": 1e31}, "no bound level survives"),
+    ({"model": "cr", "te_k": 100.0}, "no upper level of a line of H I is populated"),
 ])
 def test_bad_input_is_refused_with_a_clear_message(hydrogen, kwargs, message):
     args = {"te_k": 11604.5, "ne_m3": 1e19, "from_nm": 380.0, "to_nm": 700.0}

@@ -434,8 +434,9 @@ def scaled_system(matrix: sp.csr_matrix, log_scale: NDArray[np.float64]):
     a[0, 0] = 1.0
     a = a.tocsr()
     row_max = np.asarray(abs(a).max(axis=1).todense()).ravel()
-    row_max[row_max == 0] = 1.0
-    a = sp.diags(1.0 / row_max) @ a
+    row_max[(row_max == 0) | ~np.isfinite(row_max)] = 1.0
+    with np.errstate(all="ignore"):
+        a = sp.diags(1.0 / row_max) @ a
     rhs = np.zeros(matrix.shape[0])
     rhs[0] = 1.0 / row_max[0]
     return a.tocsc(), rhs, scale
