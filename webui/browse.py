@@ -6,6 +6,8 @@ a 400 page that says which field is wrong, never a server error.
 
 from __future__ import annotations
 
+import json
+
 import numpy as np
 from flask import Blueprint, abort, current_app, render_template, request, url_for
 
@@ -13,7 +15,7 @@ from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, LINE_COLUMNS, LINE_UNITS,
 from levels.errors import NotFoundError, PhysicsInputError
 
 from webui import params, security, services
-from webui.downloads import json_response, json_text_response, table_download
+from webui.downloads import GzipPrefix, json_response, spliced_json_response, table_download
 from webui.figures import LineArrays, level_layer, line_hover
 from webui.figures import diagram_json as diagram_json_text
 from webui.params import BadParameter, LevelFilter, LineFilter, Page
@@ -283,7 +285,7 @@ def diagram_json(spectrum: str):
                             lambda: level_layer(services.species_levels(ref), unit))
     figure, unplaced = diagram_json_text(layer, arrays, medium=flt.medium, ionization_cm1=ref.row["ionization_cm1"],
                                          title=f"{ref.name} level diagram", hover=hover)
-    return json_text_response({
+    head = json.dumps({
         "spectrum": ref.name, "unit": unit, "medium": flt.medium, "filter": flt.args(),
         "levels": layer.count, "columns": len(layer.keys),
         "lines_total": total, "lines_shown": len(arrays), "lines_omitted": total - len(arrays),
@@ -292,7 +294,14 @@ def diagram_json(spectrum: str):
         "ionization_cm1": ref.row["ionization_cm1"],
         "record_base": url_for("browse.species", spectrum=ref.url_name) + "/lines/",
         "strongest": listed,
-    }, figure=figure)
+    }, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+    # the figure first: its start (the level traces) is the same for every request until the store changes,
+    # so its gzip encoding is begun once and kept
+    static = '{"data":[' + layer.traces_json
+    prefix = '{"figure":' + static
+    rest = figure[len(static):] + "," + head[1:]
+    packed = services.cached(("diagram-gzip", ref.spectrum, unit), lambda: GzipPrefix(prefix.encode("utf-8")))
+    return spliced_json_response(prefix, rest, gzip_prefix=packed)
 
 
 # ----------------------------------------------------------------- line finder

@@ -5,9 +5,10 @@ from __future__ import annotations
 import json
 import math
 import re
+import zlib
 from collections.abc import Iterable, Mapping, Sequence
 
-from flask import Response
+from flask import Response, request
 
 from levels.io.tables import FORMATS, format_table
 
@@ -60,14 +61,36 @@ def json_response(payload, status: int = 200, headers: Mapping[str, str] | None 
     return response
 
 
-def json_text_response(payload: Mapping, status: int = 200, **serialised: str) -> Response:
-    """A JSON object response whose members in ``serialised`` are JSON text already (spliced in, last).
+class GzipPrefix:
+    """A gzip stream begun with a fixed prefix, kept so that each response only compresses its own rest.
 
-    For large parts built once and kept (a diagram's level traces), so they are not encoded again.
+    ``finish(rest)`` gives the complete gzip member of ``prefix + rest``: the prefix is compressed
+    once, and each call continues from a copy of the compressor's state (zlib copies are cheap and
+    the copy leaves the kept state untouched, so threads may share one).
     """
-    body = json.dumps(payload, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
-    if serialised:
-        extra = ",".join(f"{json.dumps(name)}:{text}" for name, text in serialised.items())
-        body = body[:-1] + ("," if payload else "") + extra + "}"
-    response = Response(body, status=status, mimetype="application/json")
+
+    def __init__(self, prefix: bytes, level: int = 1):
+        self._compressor = zlib.compressobj(level, zlib.DEFLATED, 16 + zlib.MAX_WBITS)
+        self._head = self._compressor.compress(prefix)
+
+    def finish(self, rest: bytes) -> bytes:
+        """The gzip bytes of the prefix followed by ``rest``."""
+        compressor = self._compressor.copy()
+        return self._head + compressor.compress(rest) + compressor.flush()
+
+
+def accepts_gzip() -> bool:
+    """Whether the request's client takes a gzip-encoded body."""
+    return request.accept_encodings.quality("gzip") > 0
+
+
+def spliced_json_response(prefix: str, rest: str, *, gzip_prefix: GzipPrefix | None = None) -> Response:
+    """A JSON response whose text is ``prefix + rest``; gzip-encoded from ``gzip_prefix`` (the same prefix,
+    compressed once and kept) when the client accepts it."""
+    if gzip_prefix is not None and accepts_gzip():
+        response = Response(gzip_prefix.finish(rest.encode("utf-8")), mimetype="application/json")
+        response.headers["Content-Encoding"] = "gzip"
+    else:
+        response = Response((prefix + rest).encode("utf-8"), mimetype="application/json")
+    response.headers["Vary"] = "Accept-Encoding"
     return response

@@ -409,3 +409,16 @@ def test_a_species_too_large_to_keep_is_served_from_the_store(shared):
         del app.config["LEVELS_MAX_KEPT_LINES"]
     assert queried == kept and queried["lines_shown"] == 30
     assert queried_page == kept_page
+
+
+def test_diagram_json_gzip_is_the_same_text(reader, shared):
+    """With Accept-Encoding gzip the diagram comes compressed (its level part compressed once), same text."""
+    import gzip
+
+    for query in ({"max_lines": 20}, {"unit": "eV", "medium": "air", "min_a": "1e5"}, {"max_lines": 20}):
+        plain = reader.get("/species/Li_I/diagram.json", query_string=query)
+        packed = reader.get("/species/Li_I/diagram.json", query_string=query, headers={"Accept-Encoding": "gzip"})
+        assert plain.headers.get("Content-Encoding") is None and plain.headers["Vary"] == "Accept-Encoding"
+        assert packed.headers["Content-Encoding"] == "gzip" and len(packed.data) < len(plain.data)
+        assert gzip.decompress(packed.data) == plain.data
+        assert json.loads(plain.data)["figure"]["data"]
