@@ -18,6 +18,7 @@ from scipy.sparse.linalg import spsolve
 
 from levels.physics import hydrogenic
 from levels.physics.discharge import balance
+
 from tests.bench.harness import BenchResult, best_time
 
 N_MAX = 32
