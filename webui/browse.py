@@ -16,8 +16,7 @@ from levels.errors import NotFoundError, PhysicsInputError
 
 from webui import params, security, services
 from webui.downloads import GzipPrefix, json_response, spliced_json_response, table_download
-from webui.figures import LineArrays, level_layer, line_hover
-from webui.figures import diagram_json as diagram_json_text
+from webui.figures import LineArrays, diagram_json_rest, diagram_json_start, level_layer, level_rows_of, line_hover
 from webui.params import BadParameter, LevelFilter, LineFilter, Page
 
 bp = Blueprint("browse", __name__)
@@ -255,7 +254,12 @@ def diagram_json(spectrum: str):
         return json_response({"error": {"code": "not_found", "message": str(exc), "field": "spectrum"}}, 404)
     cat = services.catalog()
     without_rates = None
-    hover = None
+    hover_json = level_index = None
+
+    def layer_of(energy_unit: str):
+        return services.cached(("diagram-levels", ref.spectrum, energy_unit),
+                               lambda: level_layer(services.species_levels(ref), energy_unit))
+
     try:
         flt = params.line_filter(request.args)
         unit, max_lines = _diagram_options()
@@ -273,18 +277,24 @@ def diagram_json(spectrum: str):
             else:
                 arrays = LineArrays.from_columns(stored.columns, index)
                 listed = stored.rows(index[:LISTED_LINES], LISTED_KEYS)
-                # every line's hover text, built once per store revision and medium
+                # every line's hover text (JSON-encoded) and level rows, built once per store revision
                 every = services.cached(("diagram-hover", ref.spectrum, flt.medium), lambda: np.array(
-                    line_hover(LineArrays.from_columns(stored.columns), flt.medium), dtype=object))
-                hover = every[index]
+                    [json.dumps(text, ensure_ascii=False)
+                     for text in line_hover(LineArrays.from_columns(stored.columns), flt.medium)], dtype=object))
+                hover_json = every[index]
+                rows_of = services.cached(("diagram-level-rows", ref.spectrum), lambda: (
+                    level_rows_of(layer_of("cm-1"), stored.columns["lower"]),
+                    level_rows_of(layer_of("cm-1"), stored.columns["upper"])))
+                level_index = (rows_of[0][index], rows_of[1][index])
     except BadParameter as exc:
         return json_response({"error": {"code": "bad_parameter", "message": exc.message, "field": exc.field}}, 400)
     except PhysicsInputError as exc:
         return json_response({"error": {"code": "bad_parameter", "message": str(exc), "field": None}}, 400)
-    layer = services.cached(("diagram-levels", ref.spectrum, unit),
-                            lambda: level_layer(services.species_levels(ref), unit))
-    figure, unplaced = diagram_json_text(layer, arrays, medium=flt.medium, ionization_cm1=ref.row["ionization_cm1"],
-                                         title=f"{ref.name} level diagram", hover=hover)
+    layer = layer_of(unit)
+    figure_rest, unplaced = diagram_json_rest(layer, arrays, medium=flt.medium,
+                                              ionization_cm1=ref.row["ionization_cm1"],
+                                              title=f"{ref.name} level diagram", hover_json=hover_json,
+                                              level_index=level_index)
     head = json.dumps({
         "spectrum": ref.name, "unit": unit, "medium": flt.medium, "filter": flt.args(),
         "levels": layer.count, "columns": len(layer.keys),
@@ -296,12 +306,13 @@ def diagram_json(spectrum: str):
         "strongest": listed,
     }, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
     # the figure first: its start (the level traces) is the same for every request until the store changes,
-    # so its gzip encoding is begun once and kept
-    static = '{"data":[' + layer.traces_json
-    prefix = '{"figure":' + static
-    rest = figure[len(static):] + "," + head[1:]
-    packed = services.cached(("diagram-gzip", ref.spectrum, unit), lambda: GzipPrefix(prefix.encode("utf-8")))
-    return spliced_json_response(prefix, rest, gzip_prefix=packed)
+    # so it is written, and its gzip encoding begun, once and kept
+    def start():
+        text = '{"figure":' + diagram_json_start(layer)
+        return text, GzipPrefix(text.encode("utf-8"))
+
+    prefix, packed = services.cached(("diagram-start", ref.spectrum, unit), start)
+    return spliced_json_response(prefix, figure_rest + "," + head[1:], gzip_prefix=packed)
 
 
 # ----------------------------------------------------------------- line finder

@@ -219,21 +219,36 @@ def line_hover(lines: LineArrays, medium: str) -> list[str]:
     return out
 
 
+def level_rows_of(layer: LevelLayer, labels: np.ndarray) -> np.ndarray:
+    """Row of each label among the layer's levels (-1 where the label is not drawn)."""
+    return np.fromiter((layer.index_of.get(label, -1) for label in labels.tolist()), dtype=np.int64,
+                       count=len(labels))
+
+
 def line_traces(layer: LevelLayer, lines: LineArrays, *, medium: str = "vacuum",
                 hover: np.ndarray | None = None) -> tuple[list[dict], int]:
     """The line segments (grouped by multipole and A step) and the hover markers; also the unplaced count.
 
     ``hover`` (optional) holds each line's hover text already (:func:`line_hover`, same medium).
     """
+    traces, unplaced, _placed = _line_traces(layer, lines, medium=medium, hover=hover)
+    return traces, unplaced
+
+
+def _line_traces(layer: LevelLayer, lines: LineArrays, *, medium: str, hover: np.ndarray | None = None,
+                 level_index: tuple[np.ndarray, np.ndarray] | None = None,
+                 with_hover: bool = True) -> tuple[list[dict], int, np.ndarray]:
+    """:func:`line_traces`, also given the lines' level rows (``level_index``) and giving the placed mask;
+    without ``with_hover`` the markers trace has no ``hovertext`` (the caller splices it in)."""
     scale, digits = _scale(layer.unit)
-    lower_i = np.fromiter((layer.index_of.get(label, -1) for label in lines.lower.tolist()), dtype=np.int64,
-                          count=len(lines))
-    upper_i = np.fromiter((layer.index_of.get(label, -1) for label in lines.upper.tolist()), dtype=np.int64,
-                          count=len(lines))
+    if level_index is None:
+        lower_i, upper_i = level_rows_of(layer, lines.lower), level_rows_of(layer, lines.upper)
+    else:
+        lower_i, upper_i = level_index
     placed = (lower_i >= 0) & (upper_i >= 0)
     unplaced = int(len(lines) - placed.sum())
     if not placed.any():
-        return [], unplaced
+        return [], unplaced, placed
     lower_i, upper_i = lower_i[placed], upper_i[placed]
     lx, ux = layer.level_x[lower_i], layer.level_x[upper_i]
     same = lx == ux
@@ -275,13 +290,15 @@ def line_traces(layer: LevelLayer, lines: LineArrays, *, medium: str = "vacuum",
                        air_nm=lines.air_nm[placed], wavenumber_cm1=lines.wavenumber_cm1[placed], a_per_s=a)
     colours = [MULTIPOLE_COLOURS.get(code, NO_A_COLOUR) for code in codes.tolist()]
     vacuum = [None if v != v else v for v in shown.vacuum_nm.tolist()]
-    traces.append({"type": "scatter", "mode": "markers", "x": _nan_to_none((x0 + x1) / 2, 3),
-                   "y": _nan_to_none((y0 + y1) / 2, digits),
-                   "hovertext": line_hover(shown, medium) if hover is None else hover[placed].tolist(),
-                   "hoverinfo": "text", "customdata": [list(pair) for pair in zip(shown.id.tolist(), vacuum)],
-                   "marker": {"size": 7, "color": colours, "opacity": 0.55, "symbol": "diamond"},
-                   "name": "line", "showlegend": False, "meta": "lines"})
-    return traces, unplaced
+    markers = {"type": "scatter", "mode": "markers", "x": _nan_to_none((x0 + x1) / 2, 3),
+               "y": _nan_to_none((y0 + y1) / 2, digits), "hoverinfo": "text",
+               "customdata": [list(pair) for pair in zip(shown.id.tolist(), vacuum)],
+               "marker": {"size": 7, "color": colours, "opacity": 0.55, "symbol": "diamond"},
+               "name": "line", "showlegend": False, "meta": "lines"}
+    if with_hover:
+        markers["hovertext"] = line_hover(shown, medium) if hover is None else hover[placed].tolist()
+    traces.append(markers)
+    return traces, unplaced, placed
 
 
 def diagram_layout(layer: LevelLayer, *, ionization_cm1: float | None = None, title: str = "") -> dict:
@@ -321,14 +338,40 @@ def _dumps(value) -> str:
 
 
 def diagram_json(layer: LevelLayer, lines: LineArrays, *, medium: str = "vacuum", ionization_cm1: float | None = None,
-                 title: str = "", hover: np.ndarray | None = None) -> tuple[str, int]:
-    """The diagram figure as JSON text (the level traces spliced in as serialised once), and the unplaced count."""
-    traces, unplaced = line_traces(layer, lines, medium=medium, hover=hover)
-    parts = [layer.traces_json] if layer.traces else []
+                 title: str = "", hover: np.ndarray | None = None, hover_json: np.ndarray | None = None,
+                 level_index: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[str, int]:
+    """The diagram figure as JSON text (the level traces spliced in as serialised once), and the unplaced count.
+
+    ``hover_json`` (optional): each line's hover text already JSON-encoded (``json.dumps`` of
+    :func:`line_hover`), spliced in as it is; ``level_index``: the lines' level rows (:func:`level_rows_of`).
+    """
+    rest, unplaced = diagram_json_rest(layer, lines, medium=medium, ionization_cm1=ionization_cm1, title=title,
+                                       hover=hover, hover_json=hover_json, level_index=level_index)
+    return diagram_json_start(layer) + rest, unplaced
+
+
+def diagram_json_start(layer: LevelLayer) -> str:
+    """The start of a diagram's JSON text, the same for every filter: ``{"data":[`` and the level traces."""
+    return '{"data":[' + layer.traces_json
+
+
+def diagram_json_rest(layer: LevelLayer, lines: LineArrays, *, medium: str = "vacuum",
+                      ionization_cm1: float | None = None, title: str = "", hover: np.ndarray | None = None,
+                      hover_json: np.ndarray | None = None,
+                      level_index: tuple[np.ndarray, np.ndarray] | None = None) -> tuple[str, int]:
+    """The rest of a diagram's JSON text after :func:`diagram_json_start` (the line traces and the layout),
+    and the unplaced count (parameters as :func:`diagram_json`)."""
+    traces, unplaced, placed = _line_traces(layer, lines, medium=medium, hover=hover, level_index=level_index,
+                                            with_hover=hover_json is None)
+    text = ""
     if traces:
-        parts.append(_dumps(traces)[1:-1])
+        text = _dumps(traces)[1:-1]
+        if hover_json is not None:  # the markers trace is the last one: its hover texts go in before its brace
+            text = text[:-1] + ',"hovertext":[' + ",".join(hover_json[placed].tolist()) + "]}"
+        if layer.traces:
+            text = "," + text
     layout = diagram_layout(layer, ionization_cm1=ionization_cm1, title=title)
-    return '{"data":[' + ",".join(parts) + '],"layout":' + _dumps(layout) + "}", unplaced
+    return text + '],"layout":' + _dumps(layout) + "}", unplaced
 
 
 def grotrian_figure(levels: Sequence[dict], lines: Sequence[dict] | LineArrays, *, unit: str = "cm-1",
