@@ -667,14 +667,18 @@ class Catalog:
         return self.read(lambda session: lab.optimize(session, dataset, fix_label=fix))
 
     def identify_peaks(self, spectra: Sequence[str], peaks_path, *, tolerance_nm: float,
-                       content: bytes | None = None, source: str | None = None, max_candidates: int = 3) -> list[dict]:
-        """Match a peaks file against the lines (engine) of one or more species."""
+                       content: bytes | None = None, source: str | None = None, max_candidates: int = 3,
+                       window: str = "tolerance", n_sigma: float = 3.0) -> list[dict]:
+        """Match a peaks file against the lines (engine) of one or more species (see :func:`levels.lab.identify`;
+        ``delta_nm`` is peak - line)."""
         from levels import lab
 
         peaks = level_io.read_peaks_file(content if content is not None else peaks_path,
                                          source=source or (Path(peaks_path).name if peaks_path else None))
-        lo = min(p.peak_nm for p in peaks) - 10 * tolerance_nm - 1.0
-        hi = max(p.peak_nm for p in peaks) + 10 * tolerance_nm + 1.0
+        widest_unc = max((p.unc_nm or 0.0) for p in peaks) if window == "uncertainty" else 0.0
+        margin = 10 * tolerance_nm + 2 * n_sigma * widest_unc + 1.0
+        lo = min(p.peak_nm for p in peaks) - margin
+        hi = max(p.peak_nm for p in peaks) + margin
         candidates: list[dict] = []
         for spectrum in spectra:
             rows, _ = self.species_lines(LineQuery(spectrum=spectrum, from_nm=max(lo, 1e-3), to_nm=hi, medium="vacuum"),
@@ -684,7 +688,8 @@ class Catalog:
             seen = {(r["lower_id"], r["upper_id"], r["multipole"]) for r in rows}
             candidates.extend(rows)
             candidates.extend(r for r in rows_air if (r["lower_id"], r["upper_id"], r["multipole"]) not in seen)
-        return lab.identify(peaks, candidates, tolerance_nm=tolerance_nm, max_candidates=max_candidates)
+        return lab.identify(peaks, candidates, tolerance_nm=tolerance_nm, max_candidates=max_candidates,
+                            window=window, n_sigma=n_sigma)
 
     def emission(self, spectrum: str, *, te_k: float, ne_m3: float, tgas_k: float = 300.0,
                  from_nm: float | None = None, to_nm: float | None = None, medium: str = "air",

@@ -325,20 +325,54 @@ def _finite(value) -> float | None:
 
 # ----------------------------------------------------------------- identification
 
+IDENTIFY_WINDOWS = ("tolerance", "uncertainty")
+#: A candidate whose expected strength g_u*A is below this fraction of the strongest
+#: candidate's in the same window is not a rival (our rule: common practice, no source).
+RIVAL_STRENGTH_RATIO = 0.1
+
+
 def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict], *, tolerance_nm: float,
-             max_candidates: int = 3, air_formula: str = "iau2000") -> list[dict]:
+             max_candidates: int = 3, air_formula: str = "iau2000", window: str = "tolerance",
+             n_sigma: float = 3.0) -> list[dict]:
     """Match peaks to lines; rank candidates by distance and expected strength.
 
     ``candidates`` are line rows (LINE_COLUMNS). A peak is compared in its own
-    medium. A line is a candidate when |delta| <= max(tolerance, 3 u), with u
-    the peak's and the line's (Ritz) uncertainties added in quadrature.
-    Candidates are ranked by |delta| / window, plus a penalty of 0.1 per decade
-    of expected strength (g_u A) below the strongest candidate when rates
-    exist. A peak with no candidate is ``unmatched``; one with several
-    candidates inside its own window, ``ambiguous``.
+    medium. ``delta_nm`` is **peak - line** (positive when the measured peak
+    lies to the red of the line).
+
+    Window: with ``window="tolerance"`` (the default) a line is a candidate when
+    |peak - line| <= ``tolerance_nm``, exactly the width the user asked for.
+    With ``window="uncertainty"`` the window of each pair is
+    max(tolerance, ``n_sigma`` u), u the peak's and the line's (Ritz)
+    uncertainties added in quadrature.
+
+    Ranking: |delta| / window, plus a penalty of 0.1 per decade of expected
+    strength (g_u A) below the strongest candidate when rates exist.
+
+    Notes: a peak with no candidate is ``unmatched``. It is ``ambiguous`` when
+    more than one *rival* transition lies inside its window. Rows of the same
+    transition (an observed line and its Ritz value) count once, and a candidate
+    whose g_u A is known and below ``RIVAL_STRENGTH_RATIO`` (1/10) of the
+    strongest known g_u A in the window is not a rival; a candidate of unknown
+    rate always is (its strength cannot be judged).
+
+    Examples
+    --------
+    >>> from levels.io.records import PeakRecord
+    >>> peak = PeakRecord(peak_nm=500.010, medium="vacuum", unc_nm=None, intensity=None, note="", line=None)
+    >>> line = dict(spectrum="X I", lower="a", upper="b", vacuum_nm=500.0, air_nm=None, unc_nm=0.0,
+    ...             a_per_s=None, g_upper=2)
+    >>> round(identify([peak], [line], tolerance_nm=0.02)[0]["delta_nm"], 6)
+    0.01
+    >>> identify([peak], [line], tolerance_nm=0.005)[0]["note"]
+    'unmatched'
     """
     if not tolerance_nm > 0:
         raise PhysicsInputError("tolerance must be a positive wavelength")
+    if window not in IDENTIFY_WINDOWS:
+        raise PhysicsInputError(f"window must be one of {', '.join(IDENTIFY_WINDOWS)}, not {window!r}")
+    if window == "uncertainty" and not n_sigma > 0:
+        raise PhysicsInputError("n_sigma must be positive")
     vacuum = np.array([r["vacuum_nm"] for r in candidates], dtype=float)
     air_nm = np.array([r["air_nm"] if r["air_nm"] is not None else r["vacuum_nm"] for r in candidates], dtype=float)
     line_unc = np.array([r["unc_nm"] or 0.0 for r in candidates], dtype=float)
@@ -348,28 +382,32 @@ def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict],
     for peak in peaks:
         values, order = (air_nm, order_a) if peak.medium == "air" and peak.peak_nm > 200 else (vacuum, order_v)
         u_peak = peak.unc_nm or 0.0
-        reach = max(tolerance_nm, 3 * (u_peak + widest))
+        reach = max(tolerance_nm, n_sigma * (u_peak + widest)) if window == "uncertainty" else tolerance_nm
         sorted_values = values[order]
         lo = np.searchsorted(sorted_values, peak.peak_nm - reach, "left")
         hi = np.searchsorted(sorted_values, peak.peak_nm + reach, "right")
         hits = order[lo:hi]
-        delta = values[hits] - peak.peak_nm
-        window = np.maximum(tolerance_nm, 3 * np.hypot(u_peak, line_unc[hits]))
-        inside = np.abs(delta) <= window
-        hits, delta, window = hits[inside], delta[inside], window[inside]
+        delta = peak.peak_nm - values[hits]
+        if window == "uncertainty":
+            win = np.maximum(tolerance_nm, n_sigma * np.hypot(u_peak, line_unc[hits]))
+        else:
+            win = np.full(hits.size, tolerance_nm)
+        inside = np.abs(delta) <= win
+        hits, delta, win = hits[inside], delta[inside], win[inside]
         if hits.size == 0:
             out.append({"peak_nm": peak.peak_nm, "medium": peak.medium, "rank": None, "spectrum": None,
                         "lower": None, "upper": None, "line_nm": None, "delta_nm": None, "a_per_s": None,
                         "note": "unmatched"})
             continue
-        strength = np.array([math.log10(candidates[i]["a_per_s"] * candidates[i]["g_upper"])
-                             if candidates[i]["a_per_s"] else np.nan for i in hits])
-        score = np.abs(delta) / window
+        gA = np.array([candidates[i]["a_per_s"] * candidates[i]["g_upper"]
+                       if candidates[i]["a_per_s"] and candidates[i]["g_upper"] else np.nan for i in hits])
+        strength = np.log10(gA, where=np.isfinite(gA), out=np.full(gA.shape, np.nan))
+        score = np.abs(delta) / win
         if np.isfinite(strength).any():
             top = np.nanmax(strength)
             score = score + 0.1 * np.where(np.isfinite(strength), np.clip(top - strength, 0, 10), 10)
         ranked = np.argsort(score, kind="stable")[:max_candidates]
-        note = "ambiguous" if hits.size > 1 else ""
+        note = "ambiguous" if rival_count(candidates, hits, gA) > 1 else ""
         for rank, k in enumerate(ranked, start=1):
             i = hits[k]
             row = candidates[i]
@@ -377,3 +415,23 @@ def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict],
                         "lower": row["lower"], "upper": row["upper"], "line_nm": float(values[i]),
                         "delta_nm": float(delta[k]), "a_per_s": row["a_per_s"], "note": note})
     return out
+
+
+def rival_count(candidates: Sequence[dict], hits: np.ndarray, g_a: np.ndarray) -> int:
+    """Number of distinct transitions among ``hits`` that are real rivals (see :func:`identify`).
+
+    >>> rows = [dict(spectrum="X I", lower="a", upper="b"), dict(spectrum="X I", lower="a", upper="c")]
+    >>> rival_count(rows, np.array([0, 1]), np.array([1e8, 1e6]))
+    1
+    >>> rival_count(rows, np.array([0, 1]), np.array([1e8, np.nan]))
+    2
+    """
+    known = np.isfinite(g_a)
+    top = float(np.nanmax(g_a)) if known.any() else None
+    keys = set()
+    for k, i in enumerate(hits):
+        if top is not None and known[k] and g_a[k] < RIVAL_STRENGTH_RATIO * top:
+            continue
+        row = candidates[i]
+        keys.add((row["spectrum"], row["lower"], row["upper"]))
+    return len(keys)

@@ -526,21 +526,29 @@ def optimize(obj: Context, dataset: str, fix: str | None, fmt: str, output: str 
 @main.command()
 @click.argument("spectra")
 @click.argument("peaks_file", type=click.Path(exists=True, dir_okay=False))
-@click.option("--tolerance", default="0.005nm", show_default=True, help="Match window, with unit.")
+@click.option("--tolerance", default="0.005nm", show_default=True,
+              help="Match window, with unit: |peak - line| <= tolerance (unless --window uncertainty).")
+@click.option("--window", type=click.Choice(["tolerance", "uncertainty"]), default="tolerance", show_default=True,
+              help="tolerance: the window is --tolerance; uncertainty: max(tolerance, N u) per pair, u the peak's "
+                   "and line's uncertainties in quadrature.")
+@click.option("--n-sigma", type=click.FloatRange(min=0, min_open=True), default=3.0, show_default=True,
+              help="N for --window uncertainty.")
 @click.option("--candidates", type=click.IntRange(min=1), default=3, show_default=True,
               help="Candidates listed per peak.")
 @click.option("--format", "fmt", type=click.Choice(TABLE_FORMATS), default="table", show_default=True)
 @click.option("--output", type=click.Path(dir_okay=False), help="Write to this file (atomically) instead of printing.")
 @click.pass_obj
 @reports_errors
-def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, candidates: int, fmt: str,
-             output: str | None) -> None:
+def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window: str, n_sigma: float,
+             candidates: int, fmt: str, output: str | None) -> None:
     """Name the peaks of a measured spectrum from the lines of SPECTRA (comma list).
 
     PEAKS_FILE is a CSV with peak_nm (required) and medium (air or vacuum,
-    default air), unc_nm, intensity, note. Candidates are ranked by distance
-    and, where rates are known, expected strength; unmatched and ambiguous
-    peaks say so.
+    default air), unc_nm, intensity, note. delta_nm is peak - line. Candidates
+    are ranked by distance and, where rates are known, expected strength;
+    unmatched peaks say so. A peak is ambiguous when more than one transition
+    lies in its window, not counting a candidate whose g_u A is below 1/10 of
+    the strongest known g_u A there (a candidate of unknown rate always counts).
 
     \b
     Example:
@@ -557,11 +565,15 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, candid
     except LevelsError as exc:
         raise click.BadParameter(str(exc), param_hint="'--tolerance'") from None
     rows = obj.catalog.identify_peaks(names, peaks_file, tolerance_nm=tolerance_nm,
-                                      max_candidates=candidates)
-    provenance = obj.catalog.provenance(f"identify {', '.join(names)} in {peaks_file}; tolerance {tolerance}")
+                                      max_candidates=candidates, window=window, n_sigma=n_sigma)
+    rule = (f"window |peak - line| <= {tolerance}" if window == "tolerance"
+            else f"window max({tolerance}, {n_sigma:g} combined uncertainties)")
+    provenance = obj.catalog.provenance(f"identify {', '.join(names)} in {peaks_file}; {rule}; "
+                                        "delta_nm = peak - line")
     emit(rows, IDENTIFY_COLUMNS, fmt, provenance, output=output,
          units={"peak_nm": "nm", "line_nm": "nm", "delta_nm": "nm", "a_per_s": "s-1"},
-         headings={"peak_nm": "peak [nm]", "line_nm": "line [nm]", "delta_nm": "Δ [nm]", "a_per_s": "A [s-1]"})
+         headings={"peak_nm": "peak [nm]", "line_nm": "line [nm]", "delta_nm": "peak - line [nm]",
+                   "a_per_s": "A [s-1]"})
 
 
 @main.command()

@@ -100,7 +100,9 @@ def test_series_limit_of_the_invented_sample_is_stored_and_shown(lab):
 
 
 def test_identify_peaks(lab):
-    rows = lab.identify_peaks(["Li I"], DEMO / "peaks-li-cell.csv", tolerance_nm=0.003)
+    # every invented Li peak is within 3 combined uncertainties of its line, not all within 0.003 nm
+    # (the window is the tolerance unless the uncertainty-based one is asked for, issue 18)
+    rows = lab.identify_peaks(["Li I"], DEMO / "peaks-li-cell.csv", tolerance_nm=0.003, window="uncertainty")
     unmatched = [r for r in rows if r["note"] == "unmatched"]
     assert {r["peak_nm"] for r in unmatched} == {589.41, 777.55}  # the two invented impurity peaks
     firsts = [r for r in rows if r["rank"] == 1]
