@@ -43,6 +43,27 @@ def plain(value) -> str:
     return repr(value) if isinstance(value, float) else str(value)
 
 
+def num(value, unc=None) -> str:
+    """A number under the display policy of :mod:`levels.io.display` (rounded to its uncertainty when given)."""
+    from levels.io.display import format_number
+
+    return format_number(value, unc)
+
+
+def pm(value, unc=None, unit: str = "") -> str:
+    """``value ± unc unit`` under the display policy (no ``±`` when the uncertainty is unknown)."""
+    from levels.io.display import format_with_uncertainty
+
+    return format_with_uncertainty(value, unc, unit)
+
+
+def unc(value) -> str:
+    """An uncertainty with two significant digits."""
+    from levels.io.display import format_uncertainty
+
+    return format_uncertainty(value)
+
+
 def parity_word(value) -> str:
     return {1: "even", -1: "odd"}.get(value, "")
 
@@ -67,7 +88,8 @@ def query_string(mapping: dict) -> str:
 
 def init_app(app: Flask) -> None:
     """Register the helpers on ``app``'s Jinja environment."""
-    app.jinja_env.filters.update(fixed=fixed, sci=sci, sig=sig, plain=plain, parity_word=parity_word)
+    app.jinja_env.filters.update(fixed=fixed, sci=sci, sig=sig, plain=plain, parity_word=parity_word, num=num, pm=pm,
+                                 unc=unc)
     app.jinja_env.globals.update(with_query=with_query, query_string=query_string, tool_version=__version__,
                                  all_multipoles=MULTIPOLE_CODES)
     app.jinja_env.autoescape = True

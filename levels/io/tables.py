@@ -400,10 +400,13 @@ def write_atomic(path: str | os.PathLike, content: str | bytes) -> None:
 
 def format_text_table(rows: Sequence[Mapping[str, object]], columns: Sequence[str],
                       headings: Mapping[str, str] | None = None, max_rows: int | None = None) -> str:
-    """An aligned plain-text table for people (numbers right-aligned)."""
+    """An aligned plain-text table for people (numbers right-aligned, shown as :mod:`levels.io.display` says)."""
     headings = headings or {}
+    from levels.io.display import format_rows
+
     shown = list(rows if max_rows is None else rows[:max_rows])
-    cells = [[_human(row.get(c)) for c in columns] for row in shown]
+    # one display policy for numbers (levels.io.display): rounded to their uncertainty, fixed or scientific per column
+    cells = [[printable(cell) for cell in row] for row in format_rows(shown, columns)]
     titles = [headings.get(c, c) for c in columns]
     widths = [max([len(t)] + [len(r[i]) for r in cells]) for i, t in enumerate(titles)]
     numeric = [all(_is_number(row.get(c)) for row in shown if row.get(c) is not None) for c in columns]
@@ -433,17 +436,3 @@ def printable(text: str) -> str:
     True
     """
     return _UNPRINTABLE.sub(lambda m: f"\\u{ord(m.group()):04x}", text)
-
-
-def _human(value) -> str:
-    if value is None:
-        return ""
-    if isinstance(value, str):
-        return printable(value)
-    if isinstance(value, float):
-        if math.isnan(value):
-            return ""
-        if value != 0 and (abs(value) >= 1e6 or abs(value) < 1e-3):
-            return f"{value:.4e}"
-        return f"{value:.6g}" if abs(value) < 1e3 else f"{value:.4f}".rstrip("0").rstrip(".")
-    return str(value)

@@ -48,7 +48,8 @@ def test_catalogue_lists_species_with_counts(reader, shared):
     row = shared["catalog"].species_rows()[0]
     assert 'href="/species/Li_I"' in text
     assert f">{row['levels']:,}<" in text and f">{row['lines']:,}<" in text
-    assert f">{LI_LIMIT_CM1!r} <span class=\"unc\">± 0.5</span>" in text
+    # shown rounded to two digits of its uncertainty (levels.io.display)
+    assert f">{LI_LIMIT_CM1:.2f} <span class=\"unc\">± 0.50</span>" in text
 
 
 @pytest.mark.parametrize("query, found", [("Li", True), ("Li I", True), ("Li_I", True), ("Li+0", True),
