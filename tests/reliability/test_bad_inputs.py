@@ -296,3 +296,20 @@ def test_bad_desk_form_is_refused(seeded, desk_client, name, expected):
         f"{response.status_code} (no field error)"
     assert shown == expected
     assert dump(seeded.engine) == before
+
+
+@pytest.mark.parametrize("kind, name, expected", [c for c in CASES if c[0] in ("levels", "lines")] + _bad_levels(),
+                         ids=lambda v: v if isinstance(v, str) and len(v) < 60 else None)
+def test_bad_file_uploaded_at_the_desk_is_never_a_server_error(seeded, desk_client, kind, name, expected):
+    """Every bad level or line file, uploaded through the desk, is shown as problems (never a 500); nothing written."""
+    import io
+
+    path = (DATA / "bad_levels" / name) if kind == "bad_levels" else (CATALOGUE / kind / name)
+    token = _CSRF.search(desk_client.get("/desk/").get_data(as_text=True)).group(1)
+    before = dump(seeded.engine)
+    response = desk_client.post("/desk/upload", data={"csrf_token": token,
+                                                      "file": (io.BytesIO(path.read_bytes()), name)})
+    assert response.status_code in (200, 400)
+    text = response.get_data(as_text=True)
+    assert "Traceback" not in text and 'name="token"' not in text or kind == "levels" and "already" in expected
+    assert dump(seeded.engine) == before
