@@ -24,6 +24,7 @@ from levels.physics import radial, rates
 from levels.physics.many_electron import coulomb_approximation, model_potential, numerov
 from levels.physics.many_electron.core_polarisation import core_polarisability, dipole_operator
 from levels.physics.many_electron.single_valence import (
+    BASE_REL_UNC,
     E2_COEFFICIENT,
     G_SPIN,
     M1_COEFFICIENT,
@@ -136,16 +137,17 @@ RESONANCE_CASES = [
     _case("Li I", "2p1/2", 0.03, "model"), _case("Li I", "2p3/2", 0.03, "model"),
     _case("Na I", "3p1/2", 0.03, "model"), _case("Na I", "3p3/2", 0.03, "model"),
     _case("K I", "4p1/2", 0.03, "model"), _case("K I", "4p3/2", 0.03, "model"),
-    _case("Rb I", "5p1/2", 0.03, "model", "computed 28.77 ns vs 27.70 ns: +3.9 %"),
-    _case("Rb I", "5p3/2", 0.03, "model", "computed 27.31 ns vs 26.24 ns: +4.1 %"),
-    _case("Cs I", "6p1/2", 0.03, "model", "computed 36.81 ns vs 34.93 ns: +5.4 %"),
-    _case("Cs I", "6p3/2", 0.03, "model", "computed 32.15 ns vs 30.50 ns: +5.4 %"),
+    # Rb and Cs were +3.9/+4.1 % and +5.4/+5.4 % with the tied shape (a2 = a1, a4 = 0): now
+    # 28.14/26.68 ns (+1.6/+1.7 %) and 35.63/31.02 ns (+2.0/+1.7 %) with the published a2, a4
+    _case("Rb I", "5p1/2", 0.03, "model"), _case("Rb I", "5p3/2", 0.03, "model"),
+    _case("Cs I", "6p1/2", 0.03, "model"), _case("Cs I", "6p3/2", 0.03, "model"),
     _case("Li I", "2p1/2", 0.10, "coulomb"), _case("Li I", "2p3/2", 0.10, "coulomb"),
     _case("Na I", "3p1/2", 0.10, "coulomb"), _case("Na I", "3p3/2", 0.10, "coulomb"),
     _case("K I", "4p1/2", 0.10, "coulomb"), _case("K I", "4p3/2", 0.10, "coulomb"),
     _case("Rb I", "5p1/2", 0.10, "coulomb"), _case("Rb I", "5p3/2", 0.10, "coulomb"),
-    _case("Cs I", "6p1/2", 0.10, "coulomb", "computed 39.55 ns vs 34.93 ns: +13.2 %"),
-    _case("Cs I", "6p3/2", 0.10, "coulomb", "computed 34.30 ns vs 30.50 ns: +12.5 %"),
+    # plain Bates-Damgaard (bare r): Cs 33.28/29.20 ns (-4.7/-4.3 %); with the core-polarised operator on
+    # Coulomb functions it was +13.2/+12.5 %
+    _case("Cs I", "6p1/2", 0.10, "coulomb"), _case("Cs I", "6p3/2", 0.10, "coulomb"),
     _case("Mg II", "3p1/2", 0.10, "model"), _case("Mg II", "3p3/2", 0.10, "model"),
     _case("Ca II", "4p1/2", 0.10, "model"), _case("Ca II", "4p3/2", 0.10, "model"),
     _case("Ca II", "3d3/2", 0.25, "model"), _case("Ca II", "3d5/2", 0.25, "model"),
@@ -330,7 +332,7 @@ def test_malformed_quantum_numbers_are_refused():
 
 def test_uncertainties_are_numeric_and_follow_the_rule():
     res = computed("Na I", "model")
-    assert np.all(np.isfinite(res.rel_unc)) and np.all(res.rel_unc >= 0.06 - 1e-12)
+    assert np.all(np.isfinite(res.rel_unc)) and np.all(res.rel_unc >= BASE_REL_UNC["model potential"] - 1e-12)
     assert np.all(res.rel_unc <= 3.0)
     keys = [v[4] for v in SPECIES["Na I"]["levels"]]
     i = keys.index("3p3/2")
@@ -397,3 +399,95 @@ def test_bound_part_of_the_f_sum_of_hydrogen_1s():
     tail = f[-1] * top**3 * np.sum(np.arange(top + 1, 20000, dtype=float) ** -3)
     assert f[0] == pytest.approx(0.4162, abs=1e-4)          # f(1s-2p) = 0.4162 (same source)
     assert f.sum() + tail == pytest.approx(0.5650, abs=2e-4)
+
+
+def _term_nu(name, l):
+    """Principal quantum numbers and effective quantum numbers of the J-averaged terms of one series."""
+    sp = SPECIES[name]
+    rm = rydberg_constant_cm1(sp["mass"] - sp["z"] * M_E_U)
+    ns = sorted({v[0] for v in sp["levels"] if v[1] == l})
+    energy = []
+    for n in ns:
+        rows = [v for v in sp["levels"] if v[0] == n and v[1] == l]
+        energy.append(np.average([v[3] for v in rows], weights=[v[2] + 1 for v in rows]))
+    return np.array(ns), np.sqrt(rm / (sp["limit"] - np.array(energy)))
+
+
+@pytest.mark.parametrize("name", ["Li I", "Na I", "K I", "Rb I", "Cs I"])
+def test_published_potential_puts_the_measured_terms_at_its_eigenvalues(name):
+    # The table of Marinescu, Sadeghpour & Dalgarno 1994 (Table I) is typed in from memory; a wrong digit
+    # would move the eigenvalues or change the number of core states the potential binds. With its own
+    # cut-offs, each measured term must be an eigenvalue with n - l - 1 nodes: within 2e-3 in effective
+    # quantum number for s and d (measured here: <= 1.4e-3), 0.01 for the J-averaged p terms (fine
+    # structure is not in the potential; Cs 6p: 8e-3).
+    sp = SPECIES[name]
+    alpha, _ = core_polarisability(sp["z"], 0)
+    for l, limit in ((0, 2e-3), (1, 1e-2), (2, 2e-3)):
+        n, nu = _term_nu(name, l)
+        a1, a2, a3, a4, r_c = model_potential.published_shape(sp["z"], 0, l)
+        rho = model_potential.phase_residual(sp["z"], 1.0, alpha, r_c, a1, a3, l, nu, n - l - 1, a2=a2, a4=a4)
+        assert np.max(np.abs(rho)) < limit, (name, l, rho)
+
+
+def test_the_published_shape_is_what_lets_heavy_alkali_series_be_fitted():
+    # the cause of the former Rb/Cs misses: with a2 = a1, a4 = 0 the two parameters cannot make the measured
+    # levels eigenvalues (r.m.s. 0.004-0.007 in nu); with the published a2, a4 they can (<= 3e-4)
+    for name in ("Rb I", "Cs I"):
+        sp = SPECIES[name]
+        alpha, _ = core_polarisability(sp["z"], 0)
+        rm = rydberg_constant_cm1(sp["mass"] - sp["z"] * M_E_U)
+        for l, two_j in ((0, 1), (1, 1), (1, 3)):
+            rows = [v for v in sp["levels"] if v[1] == l and v[2] == two_j]
+            nu = np.sqrt(rm / (sp["limit"] - np.array([v[3] for v in rows])))
+            n = np.array([v[0] for v in rows])
+            tied = model_potential.fit_series(sp["z"], 1.0, alpha, l, nu, n)
+            shaped = model_potential.fit_series(sp["z"], 1.0, alpha, l, nu, n,
+                                                shape=model_potential.published_shape(sp["z"], 0, l)[:4])
+            assert tied.rms_nu > 3e-3 and shaped.rms_nu < 5e-4, (name, l, two_j, tied.rms_nu, shaped.rms_nu)
+    res = computed("Cs I", "model")
+    assert all(s.fit is not None and not math.isnan(s.fit.a2) for s in res.series if s.method == "model potential")
+
+
+def test_plain_coulomb_approximation_uses_the_bare_dipole_operator():
+    # Bates & Damgaard 1949: Coulomb functions and r; the core-polarised operator is kept for pairs of
+    # fitted-potential functions (it belongs with the polarisation potential, Hameed et al. 1968)
+    sp = SPECIES["Cs I"]
+    keys = [v[4] for v in sp["levels"]]
+    res = computed("Cs I", "coulomb")
+    rm = rydberg_constant_cm1(sp["mass"] - sp["z"] * M_E_U)
+    nu = np.sqrt(rm / (sp["limit"] - np.array([sp["levels"][keys.index(k)][3] for k in ("6s", "6p1/2")])))
+    x = numerov.square_root_grid(float(numerov.outer_radius(nu.max(), 0)), 0.04)
+    chi = coulomb_approximation.coulomb_radial_functions(x, nu, [0, 1])
+    bare = numerov.radial_integrals(chi[:, :1], chi[:, 1:], x, x * x)[0, 0]
+    line = [s for lo, up, s in zip(res.lower, res.upper, res.line_strength)
+            if keys[lo] == "6s" and keys[up] == "6p1/2"][0]
+    # S = (2j+1)(2j'+1){l j 1/2; j' l' 1}^2 l_> R^2 = (2/3) R^2 for s1/2 - p1/2 (Condon & Shortley 1935)
+    assert line == pytest.approx(2 / 3 * bare**2, rel=1e-9)
+    model = computed("Cs I", "model")
+    assert model.alpha_c > 0 and all(s.method == "model potential" for s in model.series if s.l <= 1)
+
+
+def test_thomas_reiche_kuhn_sum_of_the_model_hamiltonian():
+    # The sum of f from Na 3s over the complete spectrum of the box-discretised model Hamiltonian (bound,
+    # discretised continuum and the potential's own deep 2p state) equals the discrete double-commutator
+    # value exactly (to round-off), and for one local potential that value tends to 1 as the step shrinks
+    # (TRK: Thomas 1925, Reiche & Thomas 1925, Kuhn 1925, from memory), with the step squared.
+    # No published figure for the Pauli-corrected valence sum of this potential is cited here.
+    res = computed("Na I", "model")
+    fits = {(s.l, s.two_j): s.fit for s in res.series}
+    shape = {key: (f.a1, f.a2, f.a3, f.a4) for key, f in fits.items() if f is not None}
+    r_c, alpha = fits[(0, 1)].r_c, res.alpha_c
+    full = model_potential.dipole_f_sum(11, 1.0, alpha, r_c, 0, 2, {0: shape[(0, 1)], 1: shape[(1, 1)]})
+    assert full.total == pytest.approx(full.identity, abs=1e-6)
+    # the box's 3s is the measured level (the fit made it an eigenvalue): -0.5 / nu^2 hartree
+    n, nu = _term_nu("Na I", 0)
+    assert full.energy == pytest.approx(-0.5 / nu[0] ** 2, rel=2e-3)
+    f, e = full.f[0], full.final_energy[0]
+    assert f[0] < 0 and e[0] < full.energy            # 3s -> the model's 2p (Pauli-forbidden): emission
+    assert f[1] == pytest.approx(0.98, abs=0.01)      # 3s -> 3p with the bare r; measured here 0.981
+    local = [model_potential.dipole_f_sum(11, 1.0, alpha, r_c, 0, 2, {0: shape[(0, 1)], 1: shape[(0, 1)]},
+                                          step=h) for h in (0.02, 0.01)]
+    for item in local:
+        assert item.total == pytest.approx(item.identity, abs=1e-6)
+    gaps = [1 - item.total for item in local]
+    assert 0 < gaps[1] < 1e-4 and gaps[0] / gaps[1] == pytest.approx(4, rel=0.05)
