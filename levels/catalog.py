@@ -40,11 +40,18 @@ LEVEL_UNITS = {"energy_cm1": "cm-1", "unc_cm1": "cm-1", "lifetime_s": "s"}
 LINE_COLUMNS = ("spectrum", "lower", "upper", "lower_cm1", "upper_cm1", "wavenumber_cm1", "vacuum_nm", "air_nm",
                 "multipole", "a_per_s", "f_abs", "line_strength_au", "g_lower", "g_upper", "unc_nm", "dataset")
 EMISSION_COLUMNS = LINE_COLUMNS + ("rel_intensity", "photon_share")
+#: trailing columns of a line list (after LINE_COLUMNS): the observed wavelength of a measured line, the
+#: Ritz wavelength from its two levels, and observed - Ritz; all in the listing's medium (air above 200 nm
+#: when the medium is air, else vacuum), empty where the line has no observed wavelength
+RITZ_COLUMNS = ("obs_nm", "ritz_nm", "obs_minus_ritz_nm")
+LINE_LIST_COLUMNS = LINE_COLUMNS + RITZ_COLUMNS
 LINE_UNITS = {"lower_cm1": "cm-1", "upper_cm1": "cm-1", "wavenumber_cm1": "cm-1", "vacuum_nm": "nm", "air_nm": "nm",
-              "a_per_s": "s-1", "line_strength_au": "e2 a0^2", "unc_nm": "nm"}
+              "a_per_s": "s-1", "line_strength_au": "e2 a0^2", "unc_nm": "nm", "obs_nm": "nm", "ritz_nm": "nm",
+              "obs_minus_ritz_nm": "nm"}
 LINE_HEADINGS = {"lower_cm1": "lower [cm-1]", "upper_cm1": "upper [cm-1]", "wavenumber_cm1": "σ [cm-1]",
                  "vacuum_nm": "λ vac [nm]", "air_nm": "λ air [nm]", "a_per_s": "A [s-1]", "f_abs": "f",
-                 "line_strength_au": "S [au]", "unc_nm": "unc [nm]"}
+                 "line_strength_au": "S [au]", "unc_nm": "unc [nm]", "obs_nm": "observed [nm]",
+                 "ritz_nm": "Ritz [nm]", "obs_minus_ritz_nm": "obs - Ritz [nm]"}
 MULTIPOLE_CODES = ("E1", "M1", "E2", "M2", "E3", "2E1")
 #: default refusal limit of a computed dataset's rows (2 GB)
 DEFAULT_MAX_STORE_BYTES = 2_000_000_000
@@ -986,6 +993,10 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
     for ln in sorted(stored, key=lambda ln: (ln.a_per_s is None, rank.get(ln.dataset_id, len(rank)), ln.id),
                      reverse=True):
         by_pair[(ln.lower_id, ln.upper_id, ln.multipole)] = ln
+    observed_by_pair: dict[tuple, object] = {}
+    for ln in sorted(stored, key=lambda ln: (rank.get(ln.dataset_id, len(rank)), ln.id), reverse=True):
+        if ln.observed_nm is not None:
+            observed_by_pair[(ln.lower_id, ln.upper_id, ln.multipole)] = ln
     rows: list[dict] = []
     seen: set[tuple] = set()
     if resolved:
@@ -1005,6 +1016,10 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
             rows.append(_engine_row(spectrum, lo, up, multipole, float(lines.wavenumber_cm1[k]),
                                     float(lines.vacuum_nm[k]), float(lines.air_nm[k]), float(lines.unc_nm[k]),
                                     known, dataset_names, bool(lines.intercombination[k])))
+            obs = observed_by_pair.get((lo.id, up.id, multipole))
+            if obs is not None:
+                rows[-1]["obs_vacuum_nm"], rows[-1]["obs_air_nm"] = obs.vacuum_nm, obs.air_nm
+                rows[-1]["note"] = "; ".join(filter(None, [rows[-1]["note"], "Ritz wavelengths; observed in obs_nm"]))
     del index
     level_by_id = {lv.id: lv for lv in levels}
     for ln in stored:
@@ -1020,6 +1035,58 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
         rows.append(_engine_row(spectrum, lo, up, ln.multipole, sigma, ln.vacuum_nm,
                                 math.nan if ln.air_nm is None else ln.air_nm,
                                 math.nan if ln.unc_nm is None else ln.unc_nm, ln, dataset_names, False))
+    return rows
+
+
+def add_ritz_columns(rows: Sequence[dict], medium: str, *, air_formula: str = "iau2000") -> Sequence[dict]:
+    """Fill :data:`RITZ_COLUMNS` (``obs_nm``, ``ritz_nm``, ``obs_minus_ritz_nm``) of line rows, in place.
+
+    The Ritz wavelength follows from the two levels (vacuum 1e7 / (E_upper - E_lower) nm, in air by
+    ``air_formula`` above 200 nm); the observed one is a measured line's own wavelength (a stored row
+    with ``observed_nm``) or, for an engine row, that of the stored measured line of the same pair.
+    Both are given in ``medium`` (air above 200 nm when ``medium`` is "air", else vacuum).
+
+    Parameters
+    ----------
+    rows : sequence of dict
+        Line rows (``Catalog.line_rows`` or ``Catalog.species_lines``).
+    medium : {"air", "vacuum"}
+        Medium of the listing.
+    air_formula : str
+        Refractive index of air for Ritz values computed here.
+
+    Returns
+    -------
+    The same rows.
+
+    Examples
+    --------
+    >>> row = dict(lower_cm1=0.0, upper_cm1=20000.0, vacuum_nm=500.01, air_nm=None, observed_nm=500.01)
+    >>> r = add_ritz_columns([row], "vacuum")[0]
+    >>> r["ritz_nm"], round(r["obs_minus_ritz_nm"], 6)
+    (500.0, 0.01)
+    """
+    from levels.physics import air
+
+    want_air = medium == "air"
+    for row in rows:
+        obs_vac, obs_air = row.get("obs_vacuum_nm"), row.get("obs_air_nm")
+        if obs_vac is None and row.get("observed_nm") is not None:
+            obs_vac, obs_air = row["vacuum_nm"], row["air_nm"]
+        lo, up = row.get("lower_cm1"), row.get("upper_cm1")
+        if obs_vac is None:
+            ritz_vac, ritz_air = row["vacuum_nm"], row["air_nm"]
+        elif lo is not None and up is not None and up > lo:
+            ritz_vac = 1e7 / (up - lo)
+            ritz_air = float(air.vacuum_to_air(ritz_vac, air_formula)) if ritz_vac > 200 else None
+        else:
+            ritz_vac = ritz_air = None
+        use_air = want_air and (ritz_air if obs_vac is None else obs_air) is not None
+        ritz = ritz_air if use_air else ritz_vac
+        obs = (obs_air if use_air else obs_vac) if obs_vac is not None else None
+        row["ritz_nm"] = ritz
+        row["obs_nm"] = obs
+        row["obs_minus_ritz_nm"] = obs - ritz if obs is not None and ritz is not None else None
     return rows
 
 

@@ -16,7 +16,7 @@ import math
 
 from flask import Blueprint, current_app, request, url_for
 
-from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, SPECIES_COLUMNS
+from levels.catalog import LEVEL_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS, add_ritz_columns
 from levels.errors import AlreadyExistsError, InputFileError, NotFoundError, Problem, StoreError
 from levels.io.limits import text_problem
 from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
@@ -100,9 +100,10 @@ def lines(spectrum: str):
         return error(400, "bad_parameter", exc.message, exc.field)
     cat = services.catalog()
     rows, total = cat.line_rows(flt.query(ref.name, limit=limit, offset=offset)) if ref.lines_reachable else ([], 0)
+    add_ritz_columns(rows, flt.medium)
     used = sorted({r["dataset"] for r in rows})
     provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium)
-    return json_response(json_table(rows, LINE_COLUMNS, provenance, total=total, limit=limit, offset=offset))
+    return json_response(json_table(rows, LINE_LIST_COLUMNS, provenance, total=total, limit=limit, offset=offset))
 
 
 @bp.get("/datasets/<int:dataset_id>")

@@ -11,7 +11,15 @@ import json
 import numpy as np
 from flask import Blueprint, abort, current_app, render_template, request, url_for
 
-from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, LINE_COLUMNS, LINE_UNITS, SPECIES_COLUMNS, LineQuery
+from levels.catalog import (
+    LEVEL_COLUMNS,
+    LEVEL_UNITS,
+    LINE_LIST_COLUMNS,
+    LINE_UNITS,
+    SPECIES_COLUMNS,
+    LineQuery,
+    add_ritz_columns,
+)
 from levels.errors import NotFoundError, PhysicsInputError
 
 from webui import params, security, services
@@ -87,6 +95,7 @@ def _line_state(ref: services.SpeciesRef | None, errors: dict, prefix: str = "l"
         flt = params.line_filter(request.args)
         pg = params.page(request.args, prefix, _per_page())
         rows, total = services.line_page(cat, ref, flt, pg)
+        add_ritz_columns(rows, flt.medium)
     except BadParameter as exc:
         errors[exc.field] = exc.message
         flt, pg, rows, total = LineFilter(), Page(1, _per_page()), [], 0
@@ -130,11 +139,11 @@ def _line_download(ref: services.SpeciesRef | None, fmt: str, stem: str):
         flt = params.line_filter(request.args)
     except BadParameter as exc:
         abort(400, description=str(exc))
-    rows = services.all_lines(cat, ref, flt)
+    rows = add_ritz_columns(services.all_lines(cat, ref, flt), flt.medium)
     used = sorted({r["dataset"] for r in rows})
     provenance = cat.provenance(flt.query(services.line_name(ref)).describe(), used,
                                 medium=flt.medium, air_formula=services.air_formula(cat, used))
-    return table_download(rows, LINE_COLUMNS, fmt, provenance, stem, LINE_UNITS)
+    return table_download(rows, LINE_LIST_COLUMNS, fmt, provenance, stem, LINE_UNITS)
 
 
 @bp.get(f"/species/<spectrum>/lines.<{FORMAT_CONVERTER}:fmt>")
@@ -155,9 +164,16 @@ def _line(spectrum: str, line_id: int) -> tuple[services.SpeciesRef, dict]:
     except BadParameter:
         near = None
     try:
-        return ref, services.find_line(services.catalog(), ref, line_id, near)
+        row = dict(services.find_line(services.catalog(), ref, line_id, near))
     except NotFoundError as exc:
         abort(404, description=str(exc))
+    # observed and Ritz side by side: the Ritz value in both media, observed - Ritz in the observed medium
+    in_vacuum = add_ritz_columns([dict(row)], "vacuum")[0]
+    in_air = add_ritz_columns([dict(row)], "air")[0]
+    row["ritz_vacuum_nm"] = in_vacuum["ritz_nm"]
+    row["ritz_air_nm"] = in_air["ritz_nm"] if row.get("air_nm") is not None else None
+    row["obs_minus_ritz_nm"] = (in_air if row.get("medium") == "air" else in_vacuum)["obs_minus_ritz_nm"]
+    return ref, row
 
 
 @bp.get("/species/<spectrum>/lines/<int:line_id>")

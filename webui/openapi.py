@@ -8,7 +8,7 @@ against these schemas.
 from __future__ import annotations
 
 from levels import __version__
-from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, MULTIPOLE_CODES, SPECIES_COLUMNS
+from levels.catalog import LEVEL_COLUMNS, LINE_LIST_COLUMNS, MULTIPOLE_CODES, SPECIES_COLUMNS
 
 from webui.params import API_DEFAULT_LIMIT, API_MAX_LIMIT, MAX_OFFSET
 
@@ -45,7 +45,7 @@ LEVEL_ROW = {
 }
 LINE_ROW = {
     "type": "object",
-    "required": list(LINE_COLUMNS),
+    "required": list(LINE_LIST_COLUMNS),
     "properties": {
         "spectrum": _STR, "lower": _STR, "upper": _STR,
         "lower_cm1": {"type": "number", "description": "cm-1"}, "upper_cm1": {"type": "number", "description": "cm-1"},
@@ -55,6 +55,9 @@ LINE_ROW = {
         "multipole": _STR, "a_per_s": _nullable("number", description="s-1"), "f_abs": _nullable("number"),
         "line_strength_au": _nullable("number", description="atomic units"), "g_lower": _INT, "g_upper": _INT,
         "unc_nm": _nullable("number", description="nm"), "dataset": _STR,
+        "obs_nm": _nullable("number", description="nm, in the asked medium; observed wavelength of a measured line"),
+        "ritz_nm": _nullable("number", description="nm, in the asked medium; Ritz wavelength from the two levels"),
+        "obs_minus_ritz_nm": _nullable("number", description="nm; obs_nm - ritz_nm"),
     },
 }
 PROVENANCE = {"type": "object", "additionalProperties": {"type": "string"},

@@ -377,6 +377,8 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
 
     Without SPECTRUM, search the stored lines of all species in the window (a line finder).
     Air wavelengths are empty below 200 nm (vacuum ultraviolet is quoted in vacuum).
+    The last columns give a measured line's observed wavelength, the Ritz
+    wavelength from its levels and observed - Ritz, in the --medium.
 
     \b
     Example:
@@ -384,7 +386,7 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
       levels lines "Li I" --multipole E1,M1,E2 --output li-lines.ecsv --format ecsv
       levels lines --from 486nm --to 487nm
     """
-    from levels.catalog import LINE_COLUMNS, LINE_HEADINGS, LINE_UNITS, LineQuery
+    from levels.catalog import LINE_HEADINGS, LINE_LIST_COLUMNS, LINE_UNITS, LineQuery, add_ritz_columns
     from levels.service.vocabulary import air_formula_description
 
     require_existing_store(obj)
@@ -408,7 +410,8 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     provenance = obj.catalog.provenance(query.describe(), used, air_formula=air_formula_description(air_formula),
                                         lines=f"{len(rows)} of {info['total']}",
                                         rates=f"{info['without_rates']} lines without known rates (A, f, S empty)")
-    emit(rows, LINE_COLUMNS, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS)
+    add_ritz_columns(rows, medium, air_formula=air_formula)
+    emit(rows, LINE_LIST_COLUMNS, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS)
     if fmt == "table" and info["without_rates"]:
         click.echo(f"{info['without_rates']} of {len(rows)} lines have no known rates (A, f, S left empty)", err=True)
 

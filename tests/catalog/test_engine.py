@@ -7,7 +7,7 @@ import json
 import pytest
 from click.testing import CliRunner
 
-from levels.catalog import LINE_COLUMNS, LineQuery
+from levels.catalog import LINE_LIST_COLUMNS, LineQuery
 from levels.cli import main
 
 # INVENTED test levels of a fictitious alkali-like spectrum, written as "Na I" only so that the
@@ -108,7 +108,7 @@ def test_cli_lines_export_formats(invented, store_url, tmp_path):
     assert any(line.startswith("# datasets: invented-alkali") for line in header)
     body = "\n".join(line for line in text.splitlines() if not line.startswith("#"))
     rows = list(csv.DictReader(io.StringIO(body)))
-    assert list(rows[0]) == list(LINE_COLUMNS) and len(rows) == 42
+    assert list(rows[0]) == list(LINE_LIST_COLUMNS) and len(rows) == 42
     assert all(r["a_per_s"] == "" for r in rows)  # unknown rates stay empty, not zero
     js = runner.invoke(main, ["--db", store_url, "lines", "Na I", "--format", "json", "--multipole", "E1,M1,E2"])
     payload = json.loads(js.output)

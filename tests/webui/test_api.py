@@ -8,7 +8,7 @@ import re
 import pytest
 from sqlalchemy import func, select
 
-from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, SPECIES_COLUMNS, LineQuery
+from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS, LineQuery
 from levels.store.schema import Level
 from webui.openapi import openapi_document
 
@@ -59,8 +59,8 @@ def test_lines_are_paged_and_filtered(reader, shared):
     payload = reader.get("/api/v1/species/Li_I/lines", query_string=args).get_json()
     rows, total = cat.line_rows(LineQuery(spectrum="Li I", from_nm=300, to_nm=1000, medium="air",
                                           multipoles=("E1", "E2"), min_a=1e3, order="a", limit=10, offset=5))
-    assert payload["columns"] == list(LINE_COLUMNS)
-    assert payload["rows"] == only(rows, LINE_COLUMNS)
+    assert payload["columns"] == list(LINE_LIST_COLUMNS)  # the contract columns, then observed/Ritz
+    assert [only([r], LINE_COLUMNS)[0] for r in payload["rows"]] == only(rows, LINE_COLUMNS)
     assert (payload["total"], payload["limit"], payload["offset"]) == (total, 10, 5)
     default = reader.get("/api/v1/species/Li_I/lines").get_json()
     assert default["limit"] == 100 and len(default["rows"]) == 100

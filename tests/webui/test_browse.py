@@ -14,7 +14,7 @@ import re
 
 import pytest
 
-from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, SPECIES_COLUMNS, LineQuery
+from levels.catalog import LEVEL_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS, LineQuery
 from levels.units import CM1_EV
 
 from tests.webui.conftest import LI_LIMIT_CM1, XSS_DATASET
@@ -197,7 +197,7 @@ def test_line_download_has_provenance_and_all_rows(reader, shared):
     keys = [l[2:].split(":")[0] for l in comments]
     assert keys[:4] == ["tool", "store", "datasets", "query"] and "medium" in keys and "air_formula" in keys
     body = [l for l in text.splitlines() if not l.startswith("#")]
-    assert body[0].split(",") == list(LINE_COLUMNS)
+    assert body[0].split(",") == list(LINE_LIST_COLUMNS)  # the contract columns, then observed/Ritz
     _, total = shared["catalog"].line_rows(LineQuery(spectrum="Li I", from_nm=300, to_nm=900, medium="air"))
     assert len(body) - 1 == total
     assert reader.get("/species/Li_I/lines.csv", query_string={"min_a": "lots"}).status_code == 400
@@ -265,7 +265,10 @@ def test_line_record_json_and_page(reader, shared):
     row = shared["catalog"].line_rows(LineQuery(spectrum="Li I", order="a", limit=1))[0][0]
     payload = reader.get(f"/species/Li_I/lines/{row['id']}.json",
                          query_string={"nm": repr(row["vacuum_nm"])}).get_json()
-    assert payload["line"] == json.loads(json.dumps(row))
+    # the stored row, plus the Ritz value in both media and observed - Ritz (issue 18 item 3)
+    extra = {"ritz_vacuum_nm", "ritz_air_nm", "obs_minus_ritz_nm"}
+    assert {k: v for k, v in payload["line"].items() if k not in extra} == json.loads(json.dumps(row))
+    assert set(payload["line"]) >= extra
     assert payload["provenance"]["datasets"] == row["dataset"]
     # without the wavelength hint the line is still found
     assert reader.get(f"/species/Li_I/lines/{row['id']}.json").get_json()["line"]["id"] == row["id"]
