@@ -57,8 +57,8 @@ from levels.catalog import (
     LineQuery,
 )
 from levels.errors import LevelsError, UnitError
-from levels.service.vocabulary import DEFAULT_AIR_FORMULA, air_formula_description
-from levels.units import parse_quantity
+from levels.service.vocabulary import DEFAULT_AIR_FORMULA, air_formula_description, air_wavelengths
+from levels.units import parse_quantity, spectral_nm
 
 __all__ = ["open_store", "Store", "EmissionReport", "RatesResult", "LINE_STRENGTH_AU", "RatesUnavailableError",
            "COLUMN_UNITS"]
@@ -125,8 +125,37 @@ def _wavelength_nm(value: Any, name: str) -> float | None:
     return _quantity(value, name, u.nm, "length", equivalencies=u.spectral())
 
 
-def _window(window: Any) -> tuple[float | None, float | None]:
-    """A window given as (from, to) - quantities, text or None - or as one Quantity array of two."""
+def _window_bound(value: Any, name: str, medium: str) -> tuple[float, bool] | None:
+    """One window bound in any spectral unit: (wavelength in nm in ``medium``, typed as a length).
+
+    Wavenumbers, energies and frequencies name vacuum wavelengths; in an air window they are
+    re-expressed in air (above the 200 nm floor) with the default air formula.
+    """
+    if value is None:
+        return None
+    if isinstance(value, str):
+        try:
+            bound = spectral_nm(value)
+        except UnitError as exc:
+            raise UnitError(f"{name}: {exc}") from None
+        nm, is_length = bound.nm, bound.is_length
+    else:
+        nm = _wavelength_nm(value, name)
+        is_length = isinstance(value, u.Quantity) and value.unit.physical_type == "length"
+    if nm is None or not nm > 0:
+        raise UnitError(f"{name}: {value!r} must be a positive spectral position")
+    if medium == "air" and not is_length:
+        air = float(air_wavelengths([nm], DEFAULT_AIR_FORMULA)[0])
+        nm = air if math.isfinite(air) else nm
+    return nm, is_length
+
+
+def _window(window: Any, medium: str = "vacuum") -> tuple[float | None, float | None]:
+    """A window given as (from, to) - quantities, text or None - or as one Quantity array of two.
+
+    Either end may be in any spectral unit (``"6.9keV"``, ``"15200cm-1"``, ``"617THz"``, ``4861 * u.AA``);
+    bounds that are not lengths may come in either order.
+    """
     if window is None:
         return None, None
     if isinstance(window, u.Quantity):
@@ -135,7 +164,13 @@ def _window(window: Any) -> tuple[float | None, float | None]:
         window = (window[0], window[1])
     if isinstance(window, str) or not isinstance(window, Sequence) or len(window) != 2:
         raise UnitError("window: give two wavelengths, (from, to), e.g. ('400nm', '700nm')")
-    return _wavelength_nm(window[0], "window[0]"), _wavelength_nm(window[1], "window[1]")
+    first = _window_bound(window[0], "window[0]", medium)
+    second = _window_bound(window[1], "window[1]", medium)
+    lo = first[0] if first else None
+    hi = second[0] if second else None
+    if first and second and not (first[1] and second[1]) and lo > hi:
+        lo, hi = hi, lo
+    return lo, hi
 
 
 def _per_second(value: Any, name: str) -> float | None:
@@ -433,7 +468,9 @@ class Store:
             Spectrum notation; None searches all species.
         window : (from, to), optional
             Wavelengths with units (``("400nm", "700nm")``, ``[400, 700] * u.nm``) in ``medium``;
-            either end may be None. Below 200 nm a window is in vacuum by convention.
+            either end may be None. Below 200 nm a window is in vacuum by convention. Ends may also be
+            wavenumbers, photon energies or frequencies (``("15200cm-1", "16000cm-1")``, ``"6.9keV"``,
+            ``617 * u.THz``): they name vacuum wavelengths, converted to ``medium``.
         medium : {"air", "vacuum"}
             Medium of the window.
         multipoles : sequence of str
@@ -465,7 +502,7 @@ class Store:
         UnitError
             A quantity without a unit or of the wrong kind.
         """
-        from_nm, to_nm = _window(window)
+        from_nm, to_nm = _window(window, medium)
         query = LineQuery(spectrum=spectrum, from_nm=from_nm, to_nm=to_nm, medium=medium,
                           multipoles=tuple(m.strip().upper() for m in multipoles), min_a=_per_second(min_a, "min_a"),
                           max_upper_cm1=None if max_upper is None else _quantity(
@@ -506,7 +543,7 @@ class Store:
         tgas : str or Quantity
             Gas temperature (Doppler width).
         window : (from, to), optional
-            Wavelength window in ``medium``.
+            Window in ``medium``, in any spectral unit (as for :meth:`lines`).
         medium : {"air", "vacuum"}
             Medium of the window and of the sampled spectrum.
         instrument_fwhm : str or Quantity, optional
@@ -529,7 +566,7 @@ class Store:
         te_k = _quantity(te, "te", u.K, "temperature", equivalencies=u.temperature_energy())
         ne_m3 = _quantity(ne, "ne", u.m ** -3, "density")
         tgas_k = _quantity(tgas, "tgas", u.K, "temperature", equivalencies=u.temperature_energy())
-        from_nm, to_nm = _window(window)
+        from_nm, to_nm = _window(window, medium)
         result = self._catalog.emission(
             spectrum, te_k=te_k, ne_m3=ne_m3, tgas_k=tgas_k, from_nm=from_nm, to_nm=to_nm, medium=medium,
             instrument_fwhm_nm=_wavelength_nm(instrument_fwhm, "instrument_fwhm") or 0.0,

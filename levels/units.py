@@ -20,6 +20,7 @@ from __future__ import annotations
 
 import math
 import re
+from typing import NamedTuple
 
 import scipy.constants as sc
 
@@ -118,6 +119,12 @@ _UNITS: dict[str, tuple[str, float]] = {
     "ns": ("time", 1e-9),
     "us": ("time", 1e-6),
     "ms": ("time", 1e-3),
+    "Hz": ("frequency", 1.0),
+    "kHz": ("frequency", 1e3),
+    "MHz": ("frequency", 1e6),
+    "GHz": ("frequency", 1e9),
+    "THz": ("frequency", 1e12),
+    "PHz": ("frequency", 1e15),
     "Pa": ("pressure", 1.0),
     "kPa": ("pressure", 1e3),
     "hPa": ("pressure", 1e2),
@@ -133,6 +140,7 @@ _BASE_NAMES = {
     "density": "m-3",
     "time": "s",
     "pressure": "Pa",
+    "frequency": "Hz",
 }
 
 
@@ -143,7 +151,7 @@ def parse_quantity(text: str, dimension: str, default_unit: str | None = None) -
     ----------
     text : str
         For example ``"656.3nm"``, ``"6563 A"``, ``"1.2eV"``, ``"1e18m-3"``.
-    dimension : {"length", "energy", "temperature", "density", "time", "pressure"}
+    dimension : {"length", "energy", "temperature", "density", "time", "pressure", "frequency"}
         The dimension expected. A temperature may also be given in eV
         (``1eV`` = 11604.5 K, energy divided by Boltzmann's constant).
     default_unit : str, optional
@@ -152,7 +160,7 @@ def parse_quantity(text: str, dimension: str, default_unit: str | None = None) -
     Returns
     -------
     float
-        The value in the base unit of the dimension (m, J, K, m-3, s, Pa).
+        The value in the base unit of the dimension (m, J, K, m-3, s, Pa, Hz).
 
     Raises
     ------
@@ -205,6 +213,7 @@ def _example(dimension: str) -> str:
         "density": "'1e18m-3'",
         "time": "'1.5ns'",
         "pressure": "'101325Pa'",
+        "frequency": "'457THz'",
     }[dimension]
 
 
@@ -214,6 +223,67 @@ def wavelength_nm(text: str) -> float:
     if not math.isfinite(value):
         raise UnitError(f"{text!r} is too large a wavelength")
     return value
+
+
+class SpectralValue(NamedTuple):
+    """A position in a spectrum typed in any spectral unit, as a wavelength in nm."""
+
+    #: the wavelength, nm
+    nm: float
+    #: True when typed as a length (so in the medium of the query); False for a wavenumber, energy or
+    #: frequency, which name a vacuum wavelength
+    is_length: bool
+
+
+def spectral_nm(text: str) -> SpectralValue:
+    """Parse a spectral position in any spectral unit and return its wavelength in nm.
+
+    Lengths (nm, Å or A, µm or um, pm, mm, m) stay in the medium the query names;
+    wavenumbers (cm-1), photon energies (eV, keV, meV, J) and frequencies (Hz to
+    PHz) are converted to the vacuum wavelength hc/E, 1/σ or c/ν.
+
+    Parameters
+    ----------
+    text : str
+        For example ``"486nm"``, ``"4861A"``, ``"15200cm-1"``, ``"6.9keV"``, ``"616THz"``.
+
+    Returns
+    -------
+    SpectralValue
+        ``nm`` (the wavelength, nm) and ``is_length`` (False: a vacuum wavelength).
+
+    Raises
+    ------
+    UnitError
+        Unparseable text, an unknown unit or one of another dimension, zero or a negative value.
+
+    Examples
+    --------
+    >>> round(spectral_nm("4861A").nm, 9), spectral_nm("4861A").is_length
+    (486.1, True)
+    >>> round(spectral_nm("15200cm-1").nm, 4), spectral_nm("15200cm-1").is_length
+    (657.8947, False)
+    >>> round(spectral_nm("6.9keV").nm, 6)
+    0.179687
+    """
+    match = _QUANTITY.match(text) if isinstance(text, str) else None
+    unit = match.group(2) if match else ""
+    dimension = _UNITS.get(unit, ("length", 1.0))[0]
+    if dimension not in ("length", "energy", "frequency"):
+        raise UnitError(f"{text!r}: {unit!r} is a unit of {dimension}, expected a wavelength, wavenumber, "
+                        "photon energy or frequency (486nm, 4861A, 20570cm-1, 2.55eV, 617THz)")
+    value = parse_quantity(text, dimension)
+    if value <= 0:
+        raise UnitError(f"{text!r}: a {'wavelength' if dimension == 'length' else dimension} must be greater than zero")
+    if dimension == "length":
+        nm = value * 1e9
+    elif dimension == "energy":
+        nm = H * C / value * 1e9
+    else:
+        nm = C / value * 1e9
+    if not math.isfinite(nm) or nm <= 0:
+        raise UnitError(f"{text!r} is out of range")
+    return SpectralValue(nm, dimension == "length")
 
 
 def temperature_k(text: str) -> float:

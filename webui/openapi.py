@@ -58,6 +58,7 @@ LINE_ROW = {
         "obs_nm": _nullable("number", description="nm, in the asked medium; observed wavelength of a measured line"),
         "ritz_nm": _nullable("number", description="nm, in the asked medium; Ritz wavelength from the two levels"),
         "obs_minus_ritz_nm": _nullable("number", description="nm; obs_nm - ritz_nm"),
+        "line_name": _nullable("string", description="customary hydrogen line name (Hα, Lyβ); null otherwise"),
     },
 }
 PROVENANCE = {"type": "object", "additionalProperties": {"type": "string"},
@@ -173,11 +174,27 @@ def openapi_document() -> dict:
          "schema": {"type": "number", "exclusiveMinimum": True, "minimum": 0}},
         {"name": "to_nm", "in": "query", "description": "window end, nm (in the medium)",
          "schema": {"type": "number", "exclusiveMinimum": True, "minimum": 0}},
+        {"name": "from", "in": "query",
+         "description": "window start in any spectral unit, instead of from_nm: a wavelength (486nm, 4861A, 0.486um; "
+                        "in the medium; a bare number is nm), a wavenumber (20570cm-1), a photon energy (2.55eV, "
+                        "6.9keV) or a frequency (617THz); wavenumbers, energies and frequencies name vacuum "
+                        "wavelengths and are converted to the medium; such bounds may come in either order",
+         "schema": {"type": "string", "maxLength": 200}, "example": "15200cm-1"},
+        {"name": "to", "in": "query", "description": "window end in any spectral unit, instead of to_nm (see from)",
+         "schema": {"type": "string", "maxLength": 200}, "example": "16000cm-1"},
         {"name": "medium", "in": "query", "schema": {"type": "string", "enum": ["vacuum", "air"], "default": "vacuum"}},
         {"name": "multipole", "in": "query", "style": "form", "explode": False,
          "schema": {"type": "array", "items": {"type": "string", "enum": list(MULTIPOLE_CODES)}}},
         {"name": "min_a", "in": "query", "description": "smallest Einstein A, s-1",
          "schema": {"type": "number", "minimum": 0}},
+        {"name": "lower", "in": "query", "description": "lower level: a label, a glob ('2p*') or a series "
+                                                       "pattern ('ns 2S1/2', n running)",
+         "schema": {"type": "string", "maxLength": 200}, "example": "2p 2P°3/2"},
+        {"name": "series", "in": "query", "description": "upper level in this series pattern (n running)",
+         "schema": {"type": "string", "maxLength": 200}, "example": "nd 2D5/2"},
+        {"name": "line_name", "in": "query", "description": "customary hydrogen line name (H I, D I, T I): "
+                                                           "Hα, H-alpha, Lyβ, Pa9",
+         "schema": {"type": "string", "maxLength": 200}, "example": "H-alpha"},
         {"name": "order", "in": "query",
          "schema": {"type": "string", "enum": ["wavelength", "-wavelength", "a", "strength"], "default": "wavelength"}},
         {"name": "limit", "in": "query",

@@ -90,6 +90,33 @@ def wavelength(args: Mapping, name: str, *, strict: bool = False) -> float | Non
     return value
 
 
+def spectral(args: Mapping, name: str, medium: str) -> tuple[float, bool] | None:
+    """A window bound in any spectral unit (``486nm``, ``4861A``, ``20570cm-1``, ``2.55eV``, ``617THz``).
+
+    Returns (the wavelength in nm in ``medium``, whether it was typed as a length). A bare number means nm.
+    A wavenumber, energy or frequency names a vacuum wavelength; in an air
+    window it is re-expressed in air (above the 200 nm floor) with the default air formula.
+    """
+    from levels.service.vocabulary import DEFAULT_AIR_FORMULA, air_wavelengths
+    from levels.units import spectral_nm
+
+    text = text_param(args, name)
+    if not text:
+        return None
+    if re.fullmatch(r"[-+]?[0-9.]+(?:[eE][-+]?[0-9]+)?", text):
+        text += "nm"
+    try:
+        value = spectral_nm(text)
+    except UnitError as exc:
+        raise BadParameter(name, f"{text!r} is not a spectral position (write 400nm, 4000A, 25000cm-1, 3.1eV or "
+                                 f"750THz): {exc}") from None
+    nm = value.nm
+    if medium == "air" and not value.is_length:
+        air = float(air_wavelengths([nm], DEFAULT_AIR_FORMULA)[0])
+        nm = air if math.isfinite(air) else nm
+    return nm, value.is_length
+
+
 def number(args: Mapping, name: str, *, minimum: float | None = None) -> float | None:
     """A finite number (``1e6``), optionally at least ``minimum``."""
     text = text_param(args, name)
@@ -184,14 +211,33 @@ class LineFilter:
 
 
 def line_filter(args: Mapping, *, strict: bool = False) -> LineFilter:
-    """Read ``from_nm, to_nm, medium, multipole, min_a, order`` from a query string.
+    """Read ``from_nm, to_nm`` or ``from, to``, and ``medium, multipole, min_a, order`` from a query string.
 
-    ``strict`` (the API) takes wavelengths as plain numbers of nm only; pages also take units.
+    ``strict`` (the API) takes ``from_nm``/``to_nm`` as plain numbers of nm only; pages also take units there.
+    ``from``/``to`` take any spectral unit (:func:`spectral`); bounds in energy, wavenumber or frequency
+    may come in either order.
     """
+    medium = choice(args, "medium", ("vacuum", "air"), "vacuum")
+    window: dict[str, float | None] = {}
+    lengths = True
+    for end in ("from", "to"):
+        if text_param(args, end) and text_param(args, f"{end}_nm"):
+            raise BadParameter(end, f"give either {end} or {end}_nm, not both")
+        bound = spectral(args, end, medium)
+        if bound is None and not strict:  # the pages' forms: any spectral unit in from_nm/to_nm too
+            bound = spectral(args, f"{end}_nm", medium)
+        if bound is None:
+            window[end] = wavelength(args, f"{end}_nm", strict=strict)
+        else:
+            window[end], is_length = bound
+            lengths = lengths and is_length
+    lo, hi = window["from"], window["to"]
+    if not lengths and lo is not None and hi is not None and lo > hi:
+        window["from"], window["to"] = hi, lo
     flt = LineFilter(
-        from_nm=wavelength(args, "from_nm", strict=strict),
-        to_nm=wavelength(args, "to_nm", strict=strict),
-        medium=choice(args, "medium", ("vacuum", "air"), "vacuum"),
+        from_nm=window["from"],
+        to_nm=window["to"],
+        medium=medium,
         multipoles=multipoles(args),
         min_a=number(args, "min_a", minimum=0.0),
         order=LINE_ORDERS[choice(args, "order", tuple(LINE_ORDERS), "wavelength")],

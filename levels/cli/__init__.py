@@ -277,10 +277,12 @@ def show(obj: Context, spectrum: str, datasets: tuple[str, ...], fmt: str, outpu
 @click.option("--max-derived-lines", type=click.IntRange(min=0), default=None, metavar="N",
               help="Most Ritz (derived) lines one species may imply after this import "
                    "(default 10,000,000 or $LEVELS_MAX_DERIVED_LINES).")
+@click.option("--again", is_flag=True, default=False,
+              help="Import a file whose content is already in the store once more (refused without it).")
 @click.pass_obj
 @reports_errors
 def import_(obj: Context, file: str, sample: str | None, dataset: str | None, kind: str, citation: str,
-            allow_off_ritz: str | None, max_derived_lines: int | None) -> None:
+            allow_off_ritz: str | None, max_derived_lines: int | None, again: bool) -> None:
     """Import measured levels or lines from FILE as a new dataset, all-or-nothing.
 
     The kind is told by the header. A levels file names the columns spectrum,
@@ -305,7 +307,8 @@ def import_(obj: Context, file: str, sample: str | None, dataset: str | None, ki
             raise click.BadParameter(f"{problem}; name the dataset with --dataset", param_hint="'--dataset'")
     check_text_option(allow_off_ritz, "--allow-off-ritz")
     report = obj.catalog.import_file(file, sample=sample, dataset=dataset, kind=kind, citation=citation,
-                                     allow_off_ritz=allow_off_ritz, max_derived_lines=max_derived_lines)
+                                     allow_off_ritz=allow_off_ritz, max_derived_lines=max_derived_lines,
+                                     again=again)
     for warning in report.warnings:
         click.echo(f"note: {warning}")
     what = f"{report.levels} levels" if report.levels else f"{report.lines} lines"
@@ -315,27 +318,44 @@ def import_(obj: Context, file: str, sample: str | None, dataset: str | None, ki
         click.echo(f"derived {report.lines} E1 lines from the levels (Ritz wavelengths; rates unknown until measured)")
 
 
-def _wavelength_option(value: str | None, name: str) -> float | None:
-    """A wavelength option in nm; errors name the option as typed (``--from``)."""
+def _wavelength_option(value: str | None, name: str, medium: str = "vacuum",
+                       air_formula: str | None = None) -> tuple[float, bool] | None:
+    """A window bound in any spectral unit: (wavelength in nm in ``medium``, typed as a length); errors name the option.
+
+    A wavenumber, energy or frequency names a vacuum wavelength; in an air window it is re-expressed in
+    air (above the 200 nm floor) with the query's air formula.
+    """
     from levels.errors import UnitError
-    from levels.units import wavelength_nm
+    from levels.service.vocabulary import DEFAULT_AIR_FORMULA, air_wavelengths
+    from levels.units import spectral_nm
 
     if value is None:
         return None
     try:
-        result = wavelength_nm(value)
+        result = spectral_nm(value)
     except UnitError as exc:
         raise click.BadParameter(str(exc), param_hint=f"'{name}'") from None
-    if result <= 0:
-        raise click.BadParameter(f"{value!r}: a wavelength must be greater than zero", param_hint=f"'{name}'")
-    return result
+    nm = result.nm
+    if medium == "air" and not result.is_length:
+        air = float(air_wavelengths([nm], air_formula or DEFAULT_AIR_FORMULA)[0])
+        nm = air if air == air else nm
+    return nm, result.is_length
 
 
-def _window(from_: str | None, to: str | None) -> tuple[float | None, float | None]:
-    """``--from`` and ``--to`` in nm, checked against each other."""
-    lo, hi = _wavelength_option(from_, "--from"), _wavelength_option(to, "--to")
-    if lo is not None and hi is not None and lo >= hi:
-        raise click.UsageError(f"empty window: --from {from_} is not below --to {to}")
+def _window(from_: str | None, to: str | None, medium: str = "vacuum",
+            air_formula: str | None = None) -> tuple[float | None, float | None]:
+    """``--from`` and ``--to`` (any spectral unit) as a wavelength window in nm, checked against each other.
+
+    Bounds in energy, wavenumber or frequency run the other way; the window is the wavelength range between them.
+    """
+    first = _wavelength_option(from_, "--from", medium, air_formula)
+    second = _wavelength_option(to, "--to", medium, air_formula)
+    lo = first[0] if first else None
+    hi = second[0] if second else None
+    if first is not None and second is not None:
+        if first[1] and second[1] and lo >= hi or lo == hi:
+            raise click.UsageError(f"empty window: --from {from_} is not below --to {to}")
+        lo, hi = min(lo, hi), max(lo, hi)
     return lo, hi
 
 
@@ -354,8 +374,9 @@ def _multipoles_option(value: str) -> tuple[str, ...]:
 
 @main.command()
 @click.argument("spectrum", required=False)
-@click.option("--from", "from_", metavar="WAVELENGTH", help="Window start, with unit (400nm, 4000A).")
-@click.option("--to", metavar="WAVELENGTH", help="Window end, with unit.")
+@click.option("--from", "from_", metavar="POSITION",
+              help="Window start in any spectral unit (400nm, 4000Å, 25000cm-1, 3.1eV, 750THz).")
+@click.option("--to", metavar="POSITION", help="Window end, with unit (wavelength, wavenumber, energy or frequency).")
 @click.option("--medium", type=click.Choice(["vacuum", "air"]), default="air", show_default=True,
               help="Medium of the window (lines below 200 nm are always in vacuum).")
 @click.option("--multipole", default="E1", show_default=True, help="Comma list of E1, M1, E2 (forbidden lines on request).")
@@ -366,37 +387,52 @@ def _multipoles_option(value: str) -> tuple[str, ...]:
 @click.option("--air-formula", type=click.Choice(["iau2000", "edlen1966", "ciddor1996"]), default="iau2000",
               show_default=True)
 @click.option("--limit", type=click.IntRange(min=1), help="At most this many lines.")
+@click.option("--lower", "lower_pattern", metavar="LABEL_OR_PATTERN",
+              help="Only lines from this lower level: a label, a glob ('1s2.2p*') or a series pattern ('np 2P°3/2').")
+@click.option("--series", "series_pattern", metavar="PATTERN",
+              help="Only lines whose upper level is in this series ('np 2P°3/2', n the running number).")
+@click.option("--name", "line_name", metavar="NAME", help="Only the hydrogen line of this name (Hα, H-alpha, Lyβ, Pa9).")
+@click.option("--multiplets", is_flag=True,
+              help="Sum the fine-structure components of each configuration and term pair into one multiplet row.")
 @click.option("--format", "fmt", type=click.Choice(TABLE_FORMATS), default="table", show_default=True)
 @click.option("--output", type=click.Path(dir_okay=False), help="Write to this file (atomically) instead of printing.")
 @click.pass_obj
 @reports_errors
 def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None, medium: str, multipole: str,
           min_a: float | None, max_upper: str | None, datasets: tuple[str, ...], order: str, air_formula: str,
-          limit: int | None, fmt: str, output: str | None) -> None:
+          limit: int | None, lower_pattern: str | None, series_pattern: str | None, line_name: str | None,
+          multiplets: bool, fmt: str, output: str | None) -> None:
     """Line list of SPECTRUM: every line its levels allow, with Ritz wavelengths and known rates.
 
     Without SPECTRUM, search the stored lines of all species in the window (a line finder).
     Air wavelengths are empty below 200 nm (vacuum ultraviolet is quoted in vacuum).
     The last columns give a measured line's observed wavelength, the Ritz
-    wavelength from its levels and observed - Ritz, in the --medium.
+    wavelength from its levels and observed - Ritz, in the --medium, and the
+    customary name of a hydrogen line (H I, D I, T I: Hα, Lyβ, ...).
+    --multiplets sums components of one configuration and term pair
+    (S and g f summed, wavenumber g f-weighted; see
+    levels.service.line_selection) and adds gf, members, weighting.
 
     \b
     Example:
       levels lines "H I" --from 400nm --to 700nm --medium air --format csv
       levels lines "Li I" --multipole E1,M1,E2 --output li-lines.ecsv --format ecsv
       levels lines --from 486nm --to 487nm
+      levels lines "H I" --lower "2p 2P°3/2" --series "nd 2D5/2" --multiplets
     """
-    from levels.catalog import LINE_HEADINGS, LINE_LIST_COLUMNS, LINE_UNITS, LineQuery, add_ritz_columns
+    from levels.catalog import (LINE_COLUMNS, LINE_HEADINGS, LINE_LIST_COLUMNS, LINE_UNITS, LineQuery,
+                                add_ritz_columns)
+    from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
     from levels.service.vocabulary import air_formula_description
 
     require_existing_store(obj)
     output_path(output)
-    from_nm, to_nm = _window(from_, to)
+    from_nm, to_nm = _window(from_, to, medium, air_formula)
     query = LineQuery(spectrum=spectrum, from_nm=from_nm,
                       to_nm=to_nm, medium=medium,
                       multipoles=_multipoles_option(multipole), min_a=min_a,
                       max_upper_cm1=_energy_cm1_option(max_upper), datasets=tuple(datasets) or None,
-                      order=order, limit=limit)
+                      order=order, limit=None if (lower_pattern or series_pattern or line_name) else limit)
     if spectrum is None:
         if query.from_nm is None or query.to_nm is None:
             raise click.UsageError("without SPECTRUM, give a window with --from and --to")
@@ -410,8 +446,19 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     provenance = obj.catalog.provenance(query.describe(), used, air_formula=air_formula_description(air_formula),
                                         lines=f"{len(rows)} of {info['total']}",
                                         rates=f"{info['without_rates']} lines without known rates (A, f, S empty)")
-    add_ritz_columns(rows, medium, air_formula=air_formula)
-    emit(rows, LINE_LIST_COLUMNS, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS)
+    columns = LINE_LIST_COLUMNS
+    if lower_pattern or series_pattern or line_name:
+        rows = filter_lines(rows, lower=lower_pattern, series=series_pattern, name=line_name)[:limit]
+        provenance["selection"] = (f"lower {lower_pattern or 'any'}; upper series {series_pattern or 'any'}; "
+                                   f"name {line_name or 'any'}: {len(rows)} lines")
+    if multiplets:
+        rows = merge_multiplets(rows, medium=medium, air_formula=air_formula)
+        columns = LINE_COLUMNS + MULTIPLET_EXTRA_COLUMNS
+        provenance["multiplets"] = ("components of one configuration and term pair summed: S and g f summed, "
+                                    "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
+    else:
+        add_ritz_columns(rows, medium, air_formula=air_formula)
+    emit(rows, columns, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS)
     if fmt == "table" and info["without_rates"]:
         click.echo(f"{info['without_rates']} of {len(rows)} lines have no known rates (A, f, S left empty)", err=True)
 
@@ -586,8 +633,9 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
 @click.option("--tgas", default="300K", show_default=True, metavar="TEMPERATURE", help="Gas temperature (Doppler width).")
 @click.option("--model", type=click.Choice(["lte", "cr"]), default="lte", show_default=True,
               help="Populations: lte (Boltzmann-Saha at Te) or cr (collisional-radiative steady state).")
-@click.option("--from", "from_", metavar="WAVELENGTH", help="Window start (e.g. 380nm).")
-@click.option("--to", metavar="WAVELENGTH", help="Window end (e.g. 780nm).")
+@click.option("--from", "from_", metavar="POSITION",
+              help="Window start in any spectral unit (380nm, 26300cm-1, 3.3eV).")
+@click.option("--to", metavar="POSITION", help="Window end (780nm, 12800cm-1, 1.6eV).")
 @click.option("--medium", type=click.Choice(["air", "vacuum"]), default="air", show_default=True)
 @click.option("--instrument-fwhm", default="0nm", show_default=True, metavar="WAVELENGTH",
               help="Gaussian instrument profile FWHM.")
@@ -647,7 +695,7 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
     output_path(output)
     output_path(plot, "--plot")
     output_path(spectrum_file, "--spectrum")
-    from_nm, to_nm = _window(from_, to)
+    from_nm, to_nm = _window(from_, to, medium)
     result = obj.catalog.emission(
         spectrum, te_k=temperature_k(te), ne_m3=density_m3(ne), tgas_k=temperature_k(tgas),
         from_nm=from_nm, to_nm=to_nm, medium=medium,

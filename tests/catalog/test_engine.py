@@ -122,6 +122,6 @@ def test_cli_lines_bad_filters(invented, store_url):
     runner = CliRunner()
     for args, message in ((["--from", "700nm", "--to", "600nm"], "empty window"),
                           (["--from", "abc"], "not a number"), (["--multipole", "X9"], "unknown multipole"),
-                          (["--from", "-5nm"], "positive wavelength"), (["--from", "5eV"], "unit of energy")):
+                          (["--from", "-5nm"], "must be greater than zero"), (["--from", "5K"], "unit of temperature")):
         result = runner.invoke(main, ["--db", store_url, "lines", "Na I", *args])
         assert result.exit_code != 0 and message in result.output, (args, result.output)
