@@ -726,6 +726,58 @@ def format_configuration(config: Configuration) -> str:
     return ".".join(parts)
 
 
+_SUPERSCRIPTS = str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹")
+
+
+def display_configuration(text: str, superscripts: bool = False) -> str:
+    """A configuration as people read it: subshells separated by spaces, occupancies optionally raised.
+
+    Display only: the stored form (dots between subshells, ``1s2.2s2.2p6.3s``) does not change and
+    input keeps accepting dots and spaces. Text that does not parse as a configuration is returned as it is.
+
+    Parameters
+    ----------
+    text : str
+        A configuration as stored or typed.
+    superscripts : bool
+        Write occupancies as Unicode superscript digits (the web pages), not as plain digits.
+
+    Returns
+    -------
+    str
+        ``1s2 2s2 2p6 3s`` (or ``1s² 2s² 2p⁶ 3s``); parent terms stay attached (``2p5(2P°3/2) 3p``).
+
+    Examples
+    --------
+    >>> display_configuration("1s2.2s2.2p6.3s")
+    '1s2 2s2 2p6 3s'
+    >>> display_configuration("[Ne].3s", superscripts=True)
+    '[Ne] 3s'
+    >>> display_configuration("2p5(2P°3/2)3p", superscripts=True)
+    '2p⁵(2P°3/2) 3p'
+    >>> display_configuration("not a configuration")
+    'not a configuration'
+    """
+    if not isinstance(text, str):
+        return "" if text is None else str(text)
+    try:
+        config = parse_configuration(text)
+    except NotationError:
+        return text
+    parts = [f"[{config.core}]"] if config.core else []
+    parents = {index: (term, two_j) for index, term, two_j in config.parents}
+    for index, (n, l, k) in enumerate(config.subshells):
+        occupancy = "" if k == 1 else str(k)
+        if superscripts:
+            occupancy = occupancy.translate(_SUPERSCRIPTS)
+        shell = f"{n}{l_letter(l)}{occupancy}"
+        if index in parents:
+            term, two_j = parents[index]
+            shell += f"({format_term(term)}{'' if two_j is None else format_j(two_j)})"
+        parts.append(shell)
+    return " ".join(parts)
+
+
 def level_label(configuration: str, term: str, two_j: int) -> str:
     """Level label ``<configuration> <term><J>``, e.g. ``'3d 2D5/2'``."""
     j_text = format_j(two_j)
@@ -752,3 +804,95 @@ def label_pattern_to_regex(pattern: str) -> re.Pattern[str]:
     if rest:
         regex += re.escape(" " + rest)
     return re.compile("^" + regex + "$")
+
+
+# ----------------------------------------------------------------- customary hydrogen line names
+
+#: series of one-electron hydrogen lines by lower principal number, with the customary short prefix.
+#: Lyman (n=1), Balmer (2), Paschen (3), Brackett (4), Pfund (5) and Humphreys (6) are the names in common
+#: use (e.g. Herzberg, *Atomic Spectra and Atomic Structure*, 1944, ch. I, for the first five; Humphreys
+#: 1953, J. Res. NBS 50, 1 for n = 6); the short prefixes Ly, H, Pa, Br, Pf, Hu are common practice, no source.
+HYDROGEN_SERIES: dict[int, tuple[str, str]] = {
+    1: ("Lyman", "Ly"), 2: ("Balmer", "H"), 3: ("Paschen", "Pa"),
+    4: ("Brackett", "Br"), 5: ("Pfund", "Pf"), 6: ("Humphreys", "Hu"),
+}
+#: Greek letters for n_upper - n_lower = 1, 2, ... (common practice, no source)
+HYDROGEN_GREEK = ("α", "β", "γ", "δ", "ε")
+#: spectra whose lines carry these names: hydrogen and its isotopes, neutral
+HYDROGEN_SPECTRA = ("H I", "D I", "T I")
+
+
+def hydrogen_line_name(spectrum: str, n_lower: int | None, n_upper: int | None) -> str | None:
+    """The customary name of a hydrogen line (``Hα``, ``Lyβ``, ``Pa9``), or None.
+
+    Lines of H I, D I and T I whose lower shell is n = 1..6 get the series prefix
+    and a Greek letter for n_upper - n_lower = 1..5 (α..ε); higher members get the
+    prefix and the upper principal number (``H8`` for 8 -> 2). Other spectra, and
+    He II (whose Pickering-type names this module does not give), get None.
+
+    Parameters
+    ----------
+    spectrum : str
+        Spectrum name (``"H I"``, ``"D I"``; ion notation is accepted).
+    n_lower, n_upper : int or None
+        Principal quantum numbers of the lower and upper level.
+
+    Returns
+    -------
+    str or None
+
+    Examples
+    --------
+    >>> hydrogen_line_name("H I", 2, 3), hydrogen_line_name("D I", 1, 3), hydrogen_line_name("H I", 2, 8)
+    ('Hα', 'Lyβ', 'H8')
+    >>> hydrogen_line_name("He II", 3, 4) is None
+    True
+    """
+    if n_lower is None or n_upper is None or n_upper <= n_lower or n_lower not in HYDROGEN_SERIES:
+        return None
+    try:
+        spec = parse_spectrum(spectrum)
+    except NotationError:
+        return None
+    if spec.z != 1 or spec.charge != 0:
+        return None
+    prefix = HYDROGEN_SERIES[n_lower][1]
+    step = n_upper - n_lower
+    return prefix + (HYDROGEN_GREEK[step - 1] if step <= len(HYDROGEN_GREEK) else str(n_upper))
+
+
+def hydrogen_series_of_name(name: str) -> tuple[int, int] | None:
+    """(n_lower, n_upper) of a customary hydrogen line name, accepting ``H-alpha`` or ``Ly-beta`` spellings too.
+
+    >>> hydrogen_series_of_name("Hα"), hydrogen_series_of_name("H-alpha"), hydrogen_series_of_name("Ly-beta")
+    ((2, 3), (2, 3), (1, 3))
+    >>> hydrogen_series_of_name("Pa9"), hydrogen_series_of_name("X1") is None
+    ((3, 9), True)
+    """
+    words = {"alpha": "α", "beta": "β", "gamma": "γ", "delta": "δ", "epsilon": "ε"}
+    text = name.strip().replace("-", "").replace(" ", "")
+    for word, letter in words.items():
+        if text.lower().endswith(word):
+            text = text[: -len(word)] + letter
+            break
+    for n_lower, (_, prefix) in sorted(HYDROGEN_SERIES.items(), key=lambda kv: -len(kv[1][1])):
+        if text[: len(prefix)].lower() == prefix.lower() and len(text) > len(prefix):
+            rest = text[len(prefix):]
+            if rest in HYDROGEN_GREEK:
+                return n_lower, n_lower + 1 + HYDROGEN_GREEK.index(rest)
+            if rest.isdigit() and int(rest) > n_lower + len(HYDROGEN_GREEK):
+                return n_lower, int(rest)
+    return None
+
+
+def principal_number(label: str) -> int | None:
+    """Principal quantum number of a level label's last subshell (``'3d 2D5/2'`` -> 3), or None.
+
+    >>> principal_number("3d 2D5/2"), principal_number("1s2.10p 2P°1/2"), principal_number("?")
+    (3, 10, None)
+    """
+    try:
+        config = parse_configuration(label.split(" ")[0])
+    except NotationError:
+        return None
+    return config.subshells[-1][0] if config.subshells else None

@@ -64,6 +64,13 @@ def unc(value) -> str:
     return format_uncertainty(value)
 
 
+def configuration(value) -> str:
+    """A configuration with spaces between subshells and superscript occupancies (display only)."""
+    from levels.notation import display_configuration
+
+    return display_configuration(value, superscripts=True)
+
+
 def parity_word(value) -> str:
     return {1: "even", -1: "odd"}.get(value, "")
 
@@ -89,7 +96,7 @@ def query_string(mapping: dict) -> str:
 def init_app(app: Flask) -> None:
     """Register the helpers on ``app``'s Jinja environment."""
     app.jinja_env.filters.update(fixed=fixed, sci=sci, sig=sig, plain=plain, parity_word=parity_word, num=num, pm=pm,
-                                 unc=unc)
+                                 unc=unc, configuration=configuration)
     app.jinja_env.globals.update(with_query=with_query, query_string=query_string, tool_version=__version__,
                                  all_multipoles=MULTIPOLE_CODES)
     app.jinja_env.autoescape = True

@@ -140,6 +140,10 @@ def emit(rows: Sequence[dict], columns: Sequence[str], fmt: str, provenance: dic
     if fmt == "table":
         if output:
             raise click.UsageError("--output needs --format csv, json or ecsv")
+        if "configuration" in columns:  # people read spaces between subshells; files keep the stored dots
+            from levels.notation import display_configuration
+
+            rows = [{**r, "configuration": display_configuration(r.get("configuration"))} for r in rows]
         click.echo(format_text_table(rows, columns, headings=headings), nl=False)
         return
     text = format_table(rows, columns, fmt, provenance, units=units)
