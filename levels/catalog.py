@@ -29,7 +29,7 @@ from levels.errors import (
 )
 from levels.io import records as level_io
 from levels.io.tables import read_delimited
-from levels.notation import Spectrum, format_j, parse_spectrum
+from levels.notation import Spectrum, format_j, hydrogen_line_name, parse_spectrum, principal_number
 from levels.store import database, queries
 from levels.store.schema import Dataset, IonizationLimit, Level, Sample, Species
 
@@ -44,14 +44,15 @@ EMISSION_COLUMNS = LINE_COLUMNS + ("rel_intensity", "photon_share")
 #: Ritz wavelength from its two levels, and observed - Ritz; all in the listing's medium (air above 200 nm
 #: when the medium is air, else vacuum), empty where the line has no observed wavelength
 RITZ_COLUMNS = ("obs_nm", "ritz_nm", "obs_minus_ritz_nm")
-LINE_LIST_COLUMNS = LINE_COLUMNS + RITZ_COLUMNS
+#: and the customary name of a hydrogen line (H I, D I, T I: "Hα", "Lyβ"; empty otherwise)
+LINE_LIST_COLUMNS = LINE_COLUMNS + RITZ_COLUMNS + ("line_name",)
 LINE_UNITS = {"lower_cm1": "cm-1", "upper_cm1": "cm-1", "wavenumber_cm1": "cm-1", "vacuum_nm": "nm", "air_nm": "nm",
               "a_per_s": "s-1", "line_strength_au": "e2 a0^2", "unc_nm": "nm", "obs_nm": "nm", "ritz_nm": "nm",
               "obs_minus_ritz_nm": "nm"}
 LINE_HEADINGS = {"lower_cm1": "lower [cm-1]", "upper_cm1": "upper [cm-1]", "wavenumber_cm1": "σ [cm-1]",
                  "vacuum_nm": "λ vac [nm]", "air_nm": "λ air [nm]", "a_per_s": "A [s-1]", "f_abs": "f",
                  "line_strength_au": "S [au]", "unc_nm": "unc [nm]", "obs_nm": "observed [nm]",
-                 "ritz_nm": "Ritz [nm]", "obs_minus_ritz_nm": "obs - Ritz [nm]"}
+                 "ritz_nm": "Ritz [nm]", "obs_minus_ritz_nm": "obs - Ritz [nm]", "line_name": "name"}
 MULTIPOLE_CODES = ("E1", "M1", "E2", "M2", "E3", "2E1")
 #: default refusal limit of a computed dataset's rows (2 GB)
 DEFAULT_MAX_STORE_BYTES = 2_000_000_000
@@ -1039,7 +1040,8 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
 
 
 def add_ritz_columns(rows: Sequence[dict], medium: str, *, air_formula: str = "iau2000") -> Sequence[dict]:
-    """Fill :data:`RITZ_COLUMNS` (``obs_nm``, ``ritz_nm``, ``obs_minus_ritz_nm``) of line rows, in place.
+    """Fill :data:`RITZ_COLUMNS` (``obs_nm``, ``ritz_nm``, ``obs_minus_ritz_nm``) and ``line_name`` of line
+    rows, in place (``line_name``: :func:`levels.notation.hydrogen_line_name`, None but for H I, D I, T I).
 
     The Ritz wavelength follows from the two levels (vacuum 1e7 / (E_upper - E_lower) nm, in air by
     ``air_formula`` above 200 nm); the observed one is a measured line's own wavelength (a stored row
@@ -1087,6 +1089,8 @@ def add_ritz_columns(rows: Sequence[dict], medium: str, *, air_formula: str = "i
         row["ritz_nm"] = ritz
         row["obs_nm"] = obs
         row["obs_minus_ritz_nm"] = obs - ritz if obs is not None and ritz is not None else None
+        row["line_name"] = hydrogen_line_name(row["spectrum"], principal_number(row["lower"]),
+                                              principal_number(row["upper"])) if "spectrum" in row else None
     return rows
 
 

@@ -13,6 +13,8 @@ from collections.abc import Sequence
 
 import numpy as np
 
+from levels.notation import hydrogen_line_name, principal_number
+
 #: our palette (invented for this project): ink, slate, and an accent per multipole
 INK = "#1d2633"
 GRID = "#d8dee6"
@@ -30,7 +32,9 @@ def spectrum_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[di
         x = row["air_nm"] if (medium == "air" and row.get("air_nm") is not None) else row["vacuum_nm"]
         xs.extend([x, x, None])
         ys.extend([0.0, peak * row["rel_intensity"] * 1.05, None])
-        label = (f"{_escape(row['spectrum'])} {_escape(row['lower'])} – {_escape(row['upper'])}"
+        name = hydrogen_line_name(row["spectrum"], principal_number(row["lower"]), principal_number(row["upper"]))
+        label = (f"{_escape(row['spectrum'])} {_escape(name) + ' ' if name else ''}"
+                 f"{_escape(row['lower'])} – {_escape(row['upper'])}"
                  f"<br>{x:.4f} nm ({medium})"
                  f"<br>rel. intensity {row['rel_intensity']:.3g}<br>A {row['a_per_s']:.3e} s⁻¹")
         text.extend([label, label, None])

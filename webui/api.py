@@ -17,10 +17,11 @@ import math
 from flask import Blueprint, current_app, request, url_for
 
 from levels.catalog import LEVEL_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS, add_ritz_columns
-from levels.errors import AlreadyExistsError, InputFileError, NotFoundError, Problem, StoreError
+from levels.errors import AlreadyExistsError, InputFileError, LevelsError, NotFoundError, Problem, StoreError
 from levels.io.limits import text_problem
 from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
 from levels.io.records import LINE_FILE_COLUMNS, validate_levels, validate_lines
+from levels.service.line_selection import filter_lines
 
 from webui import params, services
 from webui.downloads import json_response, json_table
@@ -99,7 +100,21 @@ def lines(spectrum: str):
     except params.BadParameter as exc:
         return error(400, "bad_parameter", exc.message, exc.field)
     cat = services.catalog()
-    rows, total = cat.line_rows(flt.query(ref.name, limit=limit, offset=offset)) if ref.lines_reachable else ([], 0)
+    chosen = {k: (request.args.get(k) or "").strip() or None for k in ("lower", "series", "line_name")}
+    for key, value in chosen.items():
+        if value is not None and len(value) > 200:
+            return error(400, "bad_parameter", f"{key} is longer than 200 characters", key)
+    if not any(chosen.values()):
+        rows, total = (cat.line_rows(flt.query(ref.name, limit=limit, offset=offset)) if ref.lines_reachable
+                       else ([], 0))
+    else:  # selections by level label or line name: filter the whole window, then page
+        try:
+            every = cat.line_rows(flt.query(ref.name))[0] if ref.lines_reachable else []
+            every = filter_lines(every, lower=chosen["lower"], series=chosen["series"], name=chosen["line_name"])
+        except LevelsError as exc:
+            field = "line_name" if "line name" in str(exc) else ("series" if chosen["series"] else "lower")
+            return error(400, "bad_parameter", str(exc), field)
+        rows, total = every[offset:offset + limit], len(every)
     add_ritz_columns(rows, flt.medium)
     used = sorted({r["dataset"] for r in rows})
     provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium)

@@ -171,6 +171,7 @@ def _line(spectrum: str, line_id: int) -> tuple[services.SpeciesRef, dict]:
     in_vacuum = add_ritz_columns([dict(row)], "vacuum")[0]
     in_air = add_ritz_columns([dict(row)], "air")[0]
     row["ritz_vacuum_nm"] = in_vacuum["ritz_nm"]
+    row["line_name"] = in_vacuum["line_name"]
     row["ritz_air_nm"] = in_air["ritz_nm"] if row.get("air_nm") is not None else None
     row["obs_minus_ritz_nm"] = (in_air if row.get("medium") == "air" else in_vacuum)["obs_minus_ritz_nm"]
     return ref, row
@@ -296,7 +297,8 @@ def diagram_json(spectrum: str):
                 # every line's hover text (JSON-encoded) and level rows, built once per store revision
                 every = services.cached(("diagram-hover", ref.spectrum, flt.medium), lambda: np.array(
                     [json.dumps(text, ensure_ascii=False)
-                     for text in line_hover(LineArrays.from_columns(stored.columns), flt.medium)], dtype=object))
+                     for text in line_hover(LineArrays.from_columns(stored.columns), flt.medium, ref.name)],
+                    dtype=object))
                 hover_json = every[index]
                 rows_of = services.cached(("diagram-level-rows", ref.spectrum), lambda: (
                     level_rows_of(layer_of("cm-1"), stored.columns["lower"]),

@@ -200,13 +200,18 @@ class LineArrays:
                    a_per_s=floats("a_per_s"))
 
 
-def line_hover(lines: LineArrays, medium: str) -> list[str]:
-    """Hover text of each line: its levels, wavelength (``medium`` first), wavenumber, A and multipole."""
+def line_hover(lines: LineArrays, medium: str, spectrum: str | None = None) -> list[str]:
+    """Hover text of each line: its levels, wavelength (``medium`` first), wavenumber, A and multipole;
+    with ``spectrum``, a hydrogen line's customary name (Hα, Lyβ) first."""
+    from levels.service.line_selection import hydrogen_names
+
     air = medium == "air"
     out = []
-    for lower, upper, vac, air_nm, sigma, a, code in zip(
+    names = (hydrogen_names(spectrum, lines.lower.tolist(), lines.upper.tolist()) if spectrum
+             else [None] * len(lines.lower))
+    for lower, upper, vac, air_nm, sigma, a, code, name in zip(
             lines.lower.tolist(), lines.upper.tolist(), lines.vacuum_nm.tolist(), lines.air_nm.tolist(),
-            lines.wavenumber_cm1.tolist(), lines.a_per_s.tolist(), lines.multipole.tolist()):
+            lines.wavenumber_cm1.tolist(), lines.a_per_s.tolist(), lines.multipole.tolist(), names):
         has_air = air_nm == air_nm
         if air and has_air:
             where = f"air {air_nm:.5f} nm (vacuum {vac:.5f} nm)"
@@ -214,7 +219,8 @@ def line_hover(lines: LineArrays, medium: str) -> list[str]:
             where = f"vacuum {_fmt(vac, '.5f')} nm"
         else:
             where = f"vacuum {_fmt(vac, '.5f')} nm" + (f" (air {air_nm:.5f} nm)" if has_air else "")
-        out.append(f"<b>{html.escape(str(lower))} – {html.escape(str(upper))}</b><br>λ {where}"
+        title = f"{html.escape(name)}: " if name else ""
+        out.append(f"<b>{title}{html.escape(str(lower))} – {html.escape(str(upper))}</b><br>λ {where}"
                    f"<br>σ = {_fmt(sigma, '.4f')} cm⁻¹<br>A = {_fmt(a, '.3e')} s⁻¹ · {html.escape(code or '?')}")
     return out
 

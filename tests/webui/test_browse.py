@@ -265,8 +265,8 @@ def test_line_record_json_and_page(reader, shared):
     row = shared["catalog"].line_rows(LineQuery(spectrum="Li I", order="a", limit=1))[0][0]
     payload = reader.get(f"/species/Li_I/lines/{row['id']}.json",
                          query_string={"nm": repr(row["vacuum_nm"])}).get_json()
-    # the stored row, plus the Ritz value in both media and observed - Ritz (issue 18 item 3)
-    extra = {"ritz_vacuum_nm", "ritz_air_nm", "obs_minus_ritz_nm"}
+    # the stored row, plus the Ritz value in both media, observed - Ritz and the hydrogen name (issue 18 items 3, 5)
+    extra = {"ritz_vacuum_nm", "ritz_air_nm", "obs_minus_ritz_nm", "line_name"}
     assert {k: v for k, v in payload["line"].items() if k not in extra} == json.loads(json.dumps(row))
     assert set(payload["line"]) >= extra
     assert payload["provenance"]["datasets"] == row["dataset"]
