@@ -7,6 +7,7 @@ a 400 page that says which field is wrong, never a server error.
 from __future__ import annotations
 
 import json
+from collections.abc import Sequence
 
 import numpy as np
 from flask import Blueprint, abort, current_app, render_template, request, url_for
@@ -24,7 +25,15 @@ from levels.errors import NotFoundError, PhysicsInputError
 
 from webui import params, security, services
 from webui.downloads import GzipPrefix, json_response, spliced_json_response, table_download
-from webui.figures import LineArrays, diagram_json_rest, diagram_json_start, level_layer, level_rows_of, line_hover
+from webui.figures import (
+    DIAGRAM_AXES,
+    LineArrays,
+    diagram_json_rest,
+    diagram_json_start,
+    level_layer,
+    level_rows_of,
+    line_hover,
+)
 from webui.params import BadParameter, LevelFilter, LineFilter, Page
 
 bp = Blueprint("browse", __name__)
@@ -208,6 +217,23 @@ def _diagram_options():
     return unit, max_lines
 
 
+def _diagram_axis() -> str:
+    """The energy axis asked for (``axis``): linear, limit (log of the distance below the limit) or broken."""
+    return params.choice(request.args, "axis", DIAGRAM_AXES, "linear")
+
+
+def panel_title(listed: Sequence[dict]) -> str:
+    """Title of the list beside the diagram, true to the rates of the lines it lists."""
+    known = sum(1 for ln in listed if ln.get("a_per_s") is not None)
+    if not listed:
+        return "Lines drawn"
+    if known == 0:
+        return "Lines drawn, no rates known"
+    if known < len(listed):
+        return f"Strongest lines drawn (by A; {len(listed) - known} without a known A)"
+    return "Strongest lines drawn (by A)"
+
+
 def _engine_flag() -> bool:
     """Whether the diagram draws the lines implied by the levels (``engine=1``) instead of the stored ones."""
     return params.choice(request.args, "engine", ("0", "1"), "0") == "1"
@@ -243,9 +269,11 @@ def diagram(spectrum: str):
     errors: dict[str, str] = {}
     flt, unit, max_lines = LineFilter(), "cm-1", int(current_app.config["LEVELS_DIAGRAM_MAX_LINES"])
     engine = False
+    axis = "linear"
     try:
         flt = params.line_filter(request.args)
         unit, max_lines = _diagram_options()
+        axis = _diagram_axis()
         engine = _engine_flag()
         if engine:
             _engine_multipoles(flt)
@@ -254,7 +282,7 @@ def diagram(spectrum: str):
     security.allow_plot_styles()
     return render_template("diagram.html", ref=ref, errors=errors, line_filter=flt, unit=unit, engine=engine,
                            max_lines=max_lines, multipoles=params.MULTIPOLE_CODES,
-                           units=params.ENERGY_UNITS), 400 if errors else 200
+                           units=params.ENERGY_UNITS, axis=axis, axes=DIAGRAM_AXES), 400 if errors else 200
 
 
 @bp.get("/species/<spectrum>/diagram.json")
@@ -273,13 +301,15 @@ def diagram_json(spectrum: str):
     without_rates = None
     hover_json = level_index = None
 
-    def layer_of(energy_unit: str):
-        return services.cached(("diagram-levels", ref.spectrum, energy_unit),
-                               lambda: level_layer(services.species_levels(ref), energy_unit))
+    def layer_of(energy_unit: str, axis: str = "linear"):
+        return services.cached(("diagram-levels", ref.spectrum, energy_unit, axis),
+                               lambda: level_layer(services.species_levels(ref), energy_unit, axis,
+                                                   ref.row["ionization_cm1"]))
 
     try:
         flt = params.line_filter(request.args)
         unit, max_lines = _diagram_options()
+        axis = _diagram_axis()
         engine = _engine_flag()
         if engine:
             rows, total, without_rates = engine_lines(cat, ref, flt, max_lines)
@@ -308,7 +338,7 @@ def diagram_json(spectrum: str):
         return json_response({"error": {"code": "bad_parameter", "message": exc.message, "field": exc.field}}, 400)
     except PhysicsInputError as exc:
         return json_response({"error": {"code": "bad_parameter", "message": str(exc), "field": None}}, 400)
-    layer = layer_of(unit)
+    layer = layer_of(unit, axis)
     figure_rest, unplaced = diagram_json_rest(layer, arrays, medium=flt.medium,
                                               ionization_cm1=ref.row["ionization_cm1"],
                                               title=f"{ref.name} level diagram", hover_json=hover_json,
@@ -321,7 +351,8 @@ def diagram_json(spectrum: str):
         "lines_reachable": ref.lines_reachable, "engine": engine, "lines_without_rates": without_rates,
         "ionization_cm1": ref.row["ionization_cm1"],
         "record_base": url_for("browse.species", spectrum=ref.url_name) + "/lines/",
-        "strongest": listed,
+        "strongest": listed, "panel_title": panel_title(listed),
+        "axis": layer.axis["axis"], "axis_note": layer.axis["note"],
     }, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
     # the figure first: its start (the level traces) is the same for every request until the store changes,
     # so it is written, and its gzip encoding begun, once and kept
@@ -329,7 +360,7 @@ def diagram_json(spectrum: str):
         text = '{"figure":' + diagram_json_start(layer)
         return text, GzipPrefix(text.encode("utf-8"))
 
-    prefix, packed = services.cached(("diagram-start", ref.spectrum, unit), start)
+    prefix, packed = services.cached(("diagram-start", ref.spectrum, unit, axis), start)
     return spliced_json_response(prefix, figure_rest + "," + head[1:], gzip_prefix=packed)
 
 

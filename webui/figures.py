@@ -23,7 +23,7 @@ from typing import Any
 import numpy as np
 
 from levels.errors import NotationError
-from levels.notation import l_letter, parse_term
+from levels.notation import l_letter, parse_jk_term, parse_term
 from levels.units import CM1_EV
 
 #: colour of each multipole's lines (our own palette)
@@ -42,25 +42,103 @@ OPACITIES = np.linspace(0.22, 0.95, A_STEPS)
 BAR_HALF_WIDTH = 0.36
 
 
+#: first element of the column key of jK-coupled terms (after every LS term) and of unknown terms (last)
+JK_COLUMNS = 10**5
+OTHER_COLUMNS = 10**6
+#: energy axes of the diagram: linear; log10 of the distance below the ionization limit (the crowded top
+#: spread out, the ground state low); linear with the largest empty energy gap cut out (a broken axis)
+DIAGRAM_AXES = ("linear", "limit", "broken")
+#: a gap is cut out of a broken axis when it spans more than this share of the energy range
+BREAK_MIN_SHARE = 0.25
+#: height of the cut, as a share of the drawn energy range
+BREAK_SHOWN_SHARE = 0.06
+
+
 @functools.lru_cache(maxsize=4096)
 def term_key(term: str, parity: int) -> tuple:
-    """Sort key and identity of a level's column: (multiplicity, L, parity); unknown terms last."""
+    """Sort key and identity of a level's column: (multiplicity, L, parity) of an LS term; jK-coupled terms
+    (``2[5/2]``) after them, grouped by parity, then K (numerically), then 2s+1; unknown terms last."""
+    odd = 0 if parity == 1 else 1
     try:
         parsed = parse_term(term) if term else None
     except NotationError:
         parsed = None
-    if parsed is None:
-        return (10**6, 10**6, 0 if parity == 1 else 1, term or "")
-    return (parsed.multiplicity, parsed.L, 0 if parsed.parity == 1 else 1, "")
+    if parsed is not None and hasattr(parsed, "L"):
+        return (parsed.multiplicity, parsed.L, 0 if parsed.parity == 1 else 1, "")
+    try:
+        jk = parse_jk_term(term) if term else None
+    except NotationError:
+        jk = None
+    if jk is not None:
+        return (JK_COLUMNS, odd, jk.two_k, str(jk.multiplicity))
+    return (OTHER_COLUMNS, OTHER_COLUMNS, odd, term or "")
 
 
 def term_tick(key: tuple) -> str:
-    """Axis label of a column: ``<sup>2</sup>P°`` (plotly's subset of HTML)."""
-    multiplicity, big_l, odd, raw = key
-    if multiplicity == 10**6:
-        text = html.escape(raw) if raw else "no LS term"
-        return f"{text}{' °' if odd else ''}"
-    return f"<sup>{multiplicity}</sup>{html.escape(l_letter(big_l, upper=True))}{'°' if odd else ''}"
+    """Axis label of a column: ``<sup>2</sup>P°``, ``<sup>2</sup>[5/2]°`` (plotly's subset of HTML)."""
+    first, second, third, raw = key
+    if first == JK_COLUMNS:
+        two_k = third
+        k_text = f"{two_k // 2}" if two_k % 2 == 0 else f"{two_k}/2"
+        return f"<sup>{html.escape(raw)}</sup>[{k_text}]{'°' if second else ''}"
+    if first == OTHER_COLUMNS:
+        text = html.escape(raw.rstrip("°o*")) if raw else "no LS term"
+        return f"{text}{'°' if third else ''}"
+    return f"<sup>{first}</sup>{html.escape(l_letter(second, upper=True))}{'°' if third else ''}"
+
+
+def energy_axis(energy_cm1: np.ndarray, axis: str, *, limit_cm1: float | None = None,
+                scale: float = 1.0) -> tuple[np.ndarray, dict]:
+    """Plot coordinate of each level energy on the chosen axis, and the axis settings.
+
+    Parameters
+    ----------
+    energy_cm1 : numpy.ndarray
+        Level energies, cm-1.
+    axis : {"linear", "limit", "broken"}
+        ``limit``: log10 of (limit - E) in the unit, on a reversed log axis (levels at or above the limit get
+        NaN: not drawn); ``broken``: the largest gap between consecutive levels, when it spans more than
+        :data:`BREAK_MIN_SHARE` of the range, shrunk to :data:`BREAK_SHOWN_SHARE` of the drawn range, with
+        ticks in true energies.
+    limit_cm1 : float, optional
+        Ionization limit (needed by ``limit``; without it the axis falls back to linear).
+    scale : float
+        Unit per cm-1 (1, or eV per cm-1).
+
+    Returns
+    -------
+    (y, info)
+        ``info`` has ``axis`` (the axis used), ``note`` (a sentence or ""), and for ``broken`` the cut
+        ``break`` = (low, high) in the unit and ``ticks`` (values, texts); for ``limit`` ``limit`` in the unit.
+
+    Examples
+    --------
+    >>> y, info = energy_axis(np.array([0.0, 100.0, 101.0, 102.0]), "broken")
+    >>> info["axis"], info["break"], float(y[1] - y[0]) < 100
+    ('broken', (0.0, 100.0), True)
+    """
+    e = np.asarray(energy_cm1, dtype=float) * scale
+    if axis == "limit":
+        if limit_cm1 is None or not np.isfinite(limit_cm1):
+            y, info = energy_axis(energy_cm1, "linear", scale=scale)
+            info["note"] = "no ionization limit known: linear axis"
+            return y, info
+        limit = limit_cm1 * scale
+        distance = limit - e
+        return np.where(distance > 0, distance, np.nan), {"axis": "limit", "note": "", "limit": limit}
+    if axis == "broken" and len(e) > 2:
+        order = np.sort(e[np.isfinite(e)])
+        gaps = np.diff(order)
+        span = order[-1] - order[0] if len(order) else 0.0
+        k = int(np.argmax(gaps)) if len(gaps) else 0
+        if span > 0 and gaps[k] > BREAK_MIN_SHARE * span:
+            low, high = float(order[k]), float(order[k + 1])
+            kept = span - (high - low)
+            shown = BREAK_SHOWN_SHARE * kept / (1 - BREAK_SHOWN_SHARE)
+            y = np.where(e > low, e - (high - low) + shown, e)
+            return y, {"axis": "broken", "note": "", "break": (low, high), "shift": (high - low) - shown}
+        return e, {"axis": "linear", "note": "no large empty gap between levels: linear axis"}
+    return e, {"axis": "linear", "note": ""}
 
 
 def _nan_to_none(values: np.ndarray, digits: int) -> list:
@@ -102,6 +180,10 @@ class LevelLayer:
         ``traces`` serialised (strict JSON), for splicing into a response without re-encoding.
     top : float
         The highest level energy, cm-1 (0 without levels).
+    level_y : numpy.ndarray
+        Plot coordinate of each level on the energy axis (:func:`energy_axis`; NaN: not drawn).
+    axis : dict
+        The energy axis used (``info`` of :func:`energy_axis`).
     """
 
     unit: str
@@ -112,6 +194,8 @@ class LevelLayer:
     traces: list
     traces_json: str
     top: float
+    level_y: np.ndarray | None = None
+    axis: dict | None = None
 
     @property
     def count(self) -> int:
@@ -122,18 +206,21 @@ def _scale(unit: str) -> tuple[float, int]:
     return (CM1_EV, 7) if unit == "eV" else (1.0, 4)
 
 
-def level_layer(levels: Sequence[dict], unit: str = "cm-1") -> LevelLayer:
-    """Build the level bars of a diagram (see :func:`grotrian_figure` for ``levels``)."""
+def level_layer(levels: Sequence[dict], unit: str = "cm-1", axis: str = "linear",
+                limit_cm1: float | None = None) -> LevelLayer:
+    """Build the level bars of a diagram (see :func:`grotrian_figure` for ``levels``) on the energy ``axis``
+    (:data:`DIAGRAM_AXES`; ``limit_cm1`` the ionization limit for ``"limit"``). Only term columns that hold a
+    level exist, so no column is empty."""
     scale, digits = _scale(unit)
     level_keys = [term_key(lv["term"], lv["parity"]) for lv in levels]
     keys = sorted(set(level_keys))
     column_of = {key: i for i, key in enumerate(keys)}
     level_x = np.array([column_of[key] for key in level_keys], dtype=float)
     level_e = np.array([lv["energy_cm1"] for lv in levels], dtype=float)
+    level_y, axis_info = energy_axis(level_e, axis, limit_cm1=limit_cm1, scale=scale)
     traces: list[dict] = []
     if len(levels):
-        xs, ys = _segments(level_x - BAR_HALF_WIDTH, level_x + BAR_HALF_WIDTH, level_e * scale, level_e * scale,
-                           digits)
+        xs, ys = _segments(level_x - BAR_HALF_WIDTH, level_x + BAR_HALF_WIDTH, level_y, level_y, digits)
         traces.append({"type": "scatter", "mode": "lines", "x": xs, "y": ys, "hoverinfo": "skip",
                        "line": {"color": LEVEL_COLOUR, "width": 1.6}, "name": "levels", "showlegend": False})
         hover = [
@@ -143,13 +230,14 @@ def level_layer(levels: Sequence[dict], unit: str = "cm-1") -> LevelLayer:
             for lv in levels
         ]
         traces.append({"type": "scatter", "mode": "markers", "x": _nan_to_none(level_x, 3),
-                       "y": _nan_to_none(level_e * scale, digits), "hovertext": hover, "hoverinfo": "text",
+                       "y": _nan_to_none(level_y, digits), "hovertext": hover, "hoverinfo": "text",
                        "marker": {"symbol": "line-ew", "size": 22, "opacity": 0,
                                   "line": {"width": 0, "color": LEVEL_COLOUR}},
                        "name": "level", "showlegend": False, "meta": "levels"})
     return LevelLayer(unit=unit, keys=keys, level_x=level_x, level_e=level_e,
                       index_of={lv["label"]: i for i, lv in enumerate(levels)}, traces=traces,
-                      traces_json=_dumps(traces)[1:-1], top=float(level_e.max()) if len(levels) else 0.0)
+                      traces_json=_dumps(traces)[1:-1], top=float(level_e.max()) if len(levels) else 0.0,
+                      level_y=level_y, axis=axis_info)
 
 
 @dataclass(frozen=True)
@@ -261,7 +349,8 @@ def _line_traces(layer: LevelLayer, lines: LineArrays, *, medium: str, hover: np
     direction = np.sign(ux - lx)
     x0 = np.where(same, lx - 0.18, lx + 0.22 * direction)
     x1 = np.where(same, ux + 0.18, ux - 0.22 * direction)
-    y0, y1 = layer.level_e[lower_i] * scale, layer.level_e[upper_i] * scale
+    level_y = layer.level_y if layer.level_y is not None else layer.level_e * scale
+    y0, y1 = level_y[lower_i], level_y[upper_i]
     a = lines.a_per_s[placed]
     log_a = np.where(a > 0, np.log10(np.where(a > 0, a, 1.0)), np.nan)
     has_a = np.isfinite(log_a)
@@ -312,14 +401,42 @@ def diagram_layout(layer: LevelLayer, *, ionization_cm1: float | None = None, ti
     scale, digits = _scale(layer.unit)
     unit_text = "eV" if layer.unit == "eV" else "cm⁻¹"
     shapes, annotations = [], []
-    if ionization_cm1 is not None:
-        y = round(ionization_cm1 * scale, digits)
+    axis = layer.axis or {"axis": "linear", "note": ""}
+    if ionization_cm1 is not None and axis["axis"] != "limit":
+        y = ionization_cm1 * scale
+        if axis["axis"] == "broken" and y > axis["break"][0]:
+            y -= axis["shift"]
+        y = round(y, digits)
         shapes.append({"type": "line", "xref": "paper", "x0": 0, "x1": 1, "yref": "y", "y0": y, "y1": y,
                        "line": {"color": LIMIT_COLOUR, "width": 1.4, "dash": "dash"}})
         annotations.append({"xref": "paper", "x": 1, "xanchor": "right", "yref": "y", "y": y, "yanchor": "bottom",
                             "showarrow": False, "font": {"color": LIMIT_COLOUR, "size": 12},
                             "text": f"ionization limit {_fmt(ionization_cm1 * scale, '.6g')} {unit_text}"})
     top = max([layer.top] + ([ionization_cm1] if ionization_cm1 else []))
+    yaxis: dict[str, Any] = {"title": {"text": f"energy [{unit_text}]"}, "zeroline": False, "gridcolor": "#e6e2d8",
+                             "range": [-0.03 * top * scale, 1.06 * top * scale] if top > 0 else None}
+    if axis["axis"] == "broken":
+        low, high = axis["break"]
+        shift = axis["shift"]
+        top_y = top * scale - shift
+        yaxis["range"] = [-0.03 * top_y, 1.06 * top_y]
+        below = np.linspace(0, low, 4) if low > 0 else np.array([0.0])
+        above = np.linspace(high, top * scale, 5)
+        values = np.concatenate([below, above])
+        yaxis["tickmode"] = "array"
+        yaxis["tickvals"] = [round(float(v - (shift if v > low else 0)), digits) for v in values]
+        yaxis["ticktext"] = [format(float(v), ".6g") for v in values]
+        yaxis["title"]["text"] = f"energy [{unit_text}], axis broken between {low:.6g} and {high:.6g}"
+        shown = high - shift - low  # the cut's height on the drawn axis
+        shapes.append({"type": "rect", "xref": "paper", "x0": 0, "x1": 1, "yref": "y",
+                       "y0": round(low + 0.25 * shown, digits), "y1": round(low + 0.75 * shown, digits),
+                       "fillcolor": "#e6e2d8", "opacity": 0.7, "line": {"width": 0}, "layer": "below"})
+        annotations.append({"xref": "paper", "x": 0.01, "xanchor": "left", "yref": "y",
+                            "y": round(low + 0.5 * shown, digits), "showarrow": False, "font": {"size": 11},
+                            "text": f"≈ axis broken: {low:.6g}–{high:.6g} {unit_text} left out"})
+    elif axis["axis"] == "limit":
+        yaxis = {"title": {"text": f"distance below the ionization limit [{unit_text}] (log)"}, "type": "log",
+                 "autorange": "reversed", "zeroline": False, "gridcolor": "#e6e2d8", "exponentformat": "power"}
     layout: dict[str, Any] = {
         "paper_bgcolor": PAPER, "plot_bgcolor": PAPER,
         "font": {"family": "DejaVu Sans, Verdana, sans-serif", "size": 12, "color": "#222"},
@@ -329,12 +446,11 @@ def diagram_layout(layer: LevelLayer, *, ionization_cm1: float | None = None, ti
                   "ticktext": [term_tick(k) for k in layer.keys], "range": [-0.7, max(len(layer.keys), 1) - 0.3],
                   "showgrid": False, "zeroline": False, "title": {"text": "term (2S+1, L, parity)"},
                   "fixedrange": False},
-        "yaxis": {"title": {"text": f"energy [{unit_text}]"}, "zeroline": False, "gridcolor": "#e6e2d8",
-                  "range": [-0.03 * top * scale, 1.06 * top * scale] if top > 0 else None},
+        "yaxis": yaxis,
         "legend": {"title": {"text": "multipole"}, "orientation": "h", "y": -0.14, "x": 0},
         "shapes": shapes, "annotations": annotations, "meta": {"title": title},
     }
-    if layout["yaxis"]["range"] is None:
+    if layout["yaxis"].get("range", 0) is None:
         del layout["yaxis"]["range"]
     return layout
 

@@ -11,6 +11,7 @@
   var recordHint = document.getElementById("record-hint");
   var recordLink = document.getElementById("record-link");
   var strongest = document.getElementById("strongest");
+  var strongestTitle = document.getElementById("strongest-title");
   var download = document.getElementById("download-lines");
   var site = window.levelsSite || { busy: function () {} };
   var recordBase = null;
@@ -76,7 +77,8 @@
 
   function describe(body) {
     var text = body.lines_shown.toLocaleString() + " of " + body.lines_total.toLocaleString() +
-      " lines drawn (strongest A first)";
+      (body.panel_title === "Lines drawn, no rates known" ? " lines drawn (no rates known: order not by strength)"
+        : " lines drawn (strongest A first)");
     if (body.lines_omitted > 0) { text += "; " + body.lines_omitted.toLocaleString() + " left out"; }
     if (body.lines_unplaced > 0) { text += "; " + body.lines_unplaced + " have a level not in the level list"; }
     text += " · " + body.levels.toLocaleString() + " levels in " + body.columns + " term columns";
@@ -85,6 +87,7 @@
       if (body.lines_without_rates) { text += ", " + body.lines_without_rates.toLocaleString() + " without a known A"; }
     }
     if (!body.lines_reachable) { text += " · lines of this isotope cannot be listed yet"; }
+    if (body.axis_note) { text += " · " + body.axis_note; }
     return text;
   }
 
@@ -126,6 +129,7 @@
       status.textContent = describe(body);
       status.classList.remove("is-error");
       listStrongest(body.strongest);
+      if (strongestTitle && body.panel_title) { strongestTitle.textContent = body.panel_title; }
       plot.setAttribute("data-lines-shown", String(body.lines_shown));
       plot.setAttribute("data-lines-total", String(body.lines_total));
       plot.setAttribute("data-state", "ready");
