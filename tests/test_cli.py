@@ -44,7 +44,7 @@ def test_init_import_show_species(run):
     assert payload["columns"] == list(SPECIES_COLUMNS)
     assert payload["rows"][0]["spectrum"] == "Li I" and payload["rows"][0]["levels"] == 53
     table = run("species")
-    assert "Li I" in table.output and "ionization [cm-1]" in table.output
+    assert "Li I" in table.output and "ionization [cm⁻¹]" in table.output
 
 
 def test_ecsv_output_file(run, tmp_path):

@@ -134,19 +134,65 @@ def _non_negative_finite(ctx, param, value):
     return value
 
 
+def text_table(rows: Sequence[dict], columns: Sequence[str], headings: dict | None = None,
+               max_rows: int | None = None) -> str:
+    """A table for people: headings from the one vocabulary (``levels.service.vocabulary.LABELS``, which wins
+    over ``headings``), parity as even/odd, configurations with spaces, numbers per ``levels.io.display``."""
+    from levels.notation import display_configuration
+    from levels.service.vocabulary import LABELS, PARITY_WORDS
+
+    if "parity" in columns or "configuration" in columns:
+        rows = [{**r, **({"parity": PARITY_WORDS.get(r.get("parity"), r.get("parity"))} if "parity" in r else {}),
+                 **({"configuration": display_configuration(r.get("configuration"))} if "configuration" in r else {})}
+                for r in rows]
+    return format_text_table(rows, columns, headings={**(headings or {}), **LABELS}, max_rows=max_rows)
+
+
+#: what an export's header says where no air formula was applied to its values
+NO_AIR_FORMULA = "none applied (no air wavelengths computed for these rows)"
+
+
+def complete_provenance(provenance: dict, rows: Sequence[dict]) -> dict:
+    """The provenance header with every key an export names: tool, store, datasets, query, air_formula.
+
+    ``datasets`` not given (or ``(none)``) is filled with exactly the datasets the rows name
+    (their ``dataset`` or ``datasets`` cells, in first-seen order); ``store`` with the open store.
+    """
+    out = dict(provenance)
+    out.setdefault("tool", f"levels {__version__}")
+    if "store" not in out:
+        ctx = click.get_current_context(silent=True)
+        obj = ctx.find_object(Context) if ctx is not None else None
+        out["store"] = obj.catalog.display_url if obj is not None and obj._catalog is not None else "(not used)"
+    if out.get("datasets") in (None, "", "(none)"):
+        seen: dict[str, None] = {}
+        for row in rows:
+            for name in [row.get("dataset")] + str(row.get("datasets") or "").split("; "):
+                if name:
+                    seen.setdefault(str(name), None)
+        out["datasets"] = "; ".join(seen) if seen else "none (no stored rows)"
+    out.setdefault("query", "")
+    out.setdefault("air_formula", NO_AIR_FORMULA)
+    order = ("tool", "store", "datasets", "query", "air_formula")
+    return {**{k: out[k] for k in order}, **{k: v for k, v in out.items() if k not in order}}
+
+
 def emit(rows: Sequence[dict], columns: Sequence[str], fmt: str, provenance: dict, *,
-         output: str | None = None, units: dict | None = None, headings: dict | None = None) -> None:
-    """Print or write rows in the chosen format (files are written atomically)."""
+         output: str | None = None, units: dict | None = None, headings: dict | None = None,
+         rows_key: str | Sequence[str] = "rows") -> None:
+    """Print or write rows in the chosen format (files are written atomically).
+
+    The provenance is completed by :func:`complete_provenance`; ``rows_key`` names the rows in
+    JSON (``"lines"`` for line rows).
+    """
+    provenance = complete_provenance(provenance, rows)
     if fmt == "table":
         if output:
             raise click.UsageError("--output needs --format csv, json or ecsv")
-        if "configuration" in columns:  # people read spaces between subshells; files keep the stored dots
-            from levels.notation import display_configuration
-
-            rows = [{**r, "configuration": display_configuration(r.get("configuration"))} for r in rows]
-        click.echo(format_text_table(rows, columns, headings=headings), nl=False)
+        # people read spaces between subshells, even/odd and the vocabulary's labels; files keep the stored forms
+        click.echo(text_table(rows, columns, headings=headings), nl=False)
         return
-    text = format_table(rows, columns, fmt, provenance, units=units)
+    text = format_table(rows, columns, fmt, provenance, units=units, rows_key=rows_key)
     if output:
         output_path(output)
         write_atomic(output, text)
@@ -462,7 +508,12 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
                                     "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
     else:
         add_ritz_columns(rows, medium, air_formula=air_formula)
-    emit(rows, columns, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS)
+    # exactly the datasets whose rows are listed, in their precedence
+    contributed = {r.get("dataset") for r in rows}
+    provenance["datasets"] = "; ".join(name for name in used if name in contributed) or "(none)"
+    # one JSON shape for line rows (the emission report's "lines"); "rows" stays as an alias for older readers
+    emit(rows, columns, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS,
+         rows_key=("lines", "rows"))
     if fmt == "table" and info["without_rates"]:
         click.echo(f"{info['without_rates']} of {len(rows)} lines have no known rates (A, f, S left empty)", err=True)
 
@@ -566,11 +617,11 @@ def optimize(obj: Context, dataset: str, fix: str | None, fmt: str, output: str 
     if fmt == "json" or output:
         _echo_json(report, output)
     else:
-        click.echo(format_text_table(report["levels"], ("label", "energy_cm1", "unc_cm1", "n_lines", "stored_cm1", "flag"),
+        click.echo(text_table(report["levels"], ("label", "energy_cm1", "unc_cm1", "n_lines", "stored_cm1", "flag"),
                                      headings={"energy_cm1": "energy [cm-1]", "unc_cm1": "unc [cm-1]",
                                                "stored_cm1": "stored [cm-1]"}), nl=False)
         click.echo()
-        click.echo(format_text_table(report["lines"], ("lower", "upper", "observed_nm", "medium", "residual_cm1", "flag"),
+        click.echo(text_table(report["lines"], ("lower", "upper", "observed_nm", "medium", "residual_cm1", "flag"),
                                      headings={"observed_nm": "observed [nm]", "residual_cm1": "obs-Ritz [cm-1]"}),
                    nl=False)
         click.echo(f"chi2 {report['chi2']:.3f} for {report['dof']} degrees of freedom; fixed level {report['fixed']}")
@@ -622,8 +673,11 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
                                       max_candidates=candidates, window=window, n_sigma=n_sigma)
     rule = (f"window |peak - line| <= {tolerance}" if window == "tolerance"
             else f"window max({tolerance}, {n_sigma:g} combined uncertainties)")
+    from levels.service.vocabulary import air_formula_description
+
     provenance = obj.catalog.provenance(f"identify {', '.join(names)} in {peaks_file}; {rule}; "
-                                        "delta_nm = peak - line")
+                                        "delta_nm = peak - line",
+                                        air_formula=air_formula_description("iau2000"))
     emit(rows, IDENTIFY_COLUMNS, fmt, provenance, output=output,
          units={"peak_nm": "nm", "line_nm": "nm", "delta_nm": "nm", "a_per_s": "s-1"},
          headings={"peak_nm": "peak [nm]", "line_nm": "line [nm]", "delta_nm": "peak - line [nm]",
@@ -666,15 +720,15 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
 @click.option("--output", type=click.Path(dir_okay=False), help="Write the line list (csv/ecsv/json) to this file.")
 @click.option("--plot", type=click.Path(dir_okay=False), help="Write an interactive spectrum (HTML) to this file.")
 @click.option("--spectrum", "spectrum_file", type=click.Path(dir_okay=False), help="Write the sampled spectrum (CSV).")
-@click.option("--points", type=click.IntRange(2, 10_000_001), default=20001, show_default=True,
-              help="Points of the sampled spectrum.")
+@click.option("--points", type=click.IntRange(2, 10_000_001), default=None,
+              help="Points of the sampled spectrum (default: automatic, step <= FWHM/5 of the narrowest line).")
 @click.pass_obj
 @reports_errors
 def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: str, from_: str | None, to: str | None,
              medium: str, instrument_fwhm: str, path_length: str | None, geometry: str, loss_rate: str,
              forbidden_omega: float | None, broadening: str, perturber: str | None, pressure: str | None,
              cool_layer: str | None, element_density: str | None, cutoff_method: str, top: int, fmt: str,
-             output: str | None, plot: str | None, spectrum_file: str | None, points: int) -> None:
+             output: str | None, plot: str | None, spectrum_file: str | None, points: int | None) -> None:
     """Predicted emission of SPECTRUM in a discharge: line intensities, spectrum, colour, UV shares.
 
     --model lte (default): populations follow Boltzmann at the electron
@@ -693,6 +747,7 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
       levels emission "H I" --te 1eV --ne 1e17m-3 --model cr --length 0.01m --loss-rate 1e4 --format json
     """
     from levels.catalog import EMISSION_COLUMNS, LINE_HEADINGS, LINE_UNITS
+    from levels.service.vocabulary import air_formula_description
     from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 
     require_existing_store(obj)
@@ -713,7 +768,9 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
     provenance = obj.catalog.provenance(
         f"emission {spectrum}; model {model}; te {te}; ne {ne}; tgas {tgas}; window {from_ or '-'}..{to or '-'} "
         f"{medium}; length {path_length or 'none (optically thin)'}",
-        result.conditions["datasets"], model=result.conditions["model"], cutoff=result.conditions["cutoff"])
+        result.conditions["datasets"], model=result.conditions["model"], cutoff=result.conditions["cutoff"],
+        air_formula=air_formula_description("iau2000"))
+    provenance = complete_provenance(provenance, result.lines)
     if result.warnings and any(w.startswith("CAUTION") for w in result.warnings):
         provenance["caution"] = result.warnings[0]
     if fmt == "json":
@@ -738,7 +795,7 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
         click.echo(f"validity: {result.validity['text']}")
         click.echo(f"cutoff: {c['cutoff']}")
         shown = result.lines[:top]
-        click.echo(format_text_table(shown, ("lower", "upper", "air_nm", "vacuum_nm", "a_per_s", "rel_intensity",
+        click.echo(text_table(shown, ("lower", "upper", "air_nm", "vacuum_nm", "a_per_s", "rel_intensity",
                                              "photon_share"),
                                      headings={**LINE_HEADINGS, "rel_intensity": "rel. intensity",
                                                "photon_share": "photon share"}), nl=False)
@@ -749,10 +806,12 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
         click.echo(f"luminous efficacy of radiation {m['efficacy_lm_per_w']:.1f} lm/W; power shares: "
                    f"UV-C {m['share_uv_c']:.2%}, UV-B {m['share_uv_b']:.2%}, UV-A {m['share_uv_a']:.2%}, "
                    f"visible {m['share_visible']:.2%}, IR {m['share_ir']:.2%}")
+        click.echo("  (bands as defined: UV-A 315-400 nm and visible 380-780 nm overlap at 380-400 nm, so the shares "
+                   "can add up to more than 100 %)")
         if model == "cr":
             rows = [p for p in result.populations if p["departure"] is not None][:top]
             click.echo("populations per ground-level population (lowest levels):")
-            click.echo(format_text_table(rows, ("label", "energy_cm1", "population_rel", "departure"),
+            click.echo(text_table(rows, ("label", "energy_cm1", "population_rel", "departure"),
                                          headings={"label": "level", "energy_cm1": "energy [cm-1]",
                                                    "population_rel": "n/n(ground)", "departure": "departure b"}),
                        nl=False)
@@ -762,13 +821,15 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
         title = (f"{spectrum} at Te {result.conditions['te_k']:.0f} K, ne {result.conditions['ne_m3']:.2g} m⁻³, "
                  f"{model.upper()} populations")
         output_path(plot, "--plot")
-        write_html(spectrum_figure(result.grid_nm, result.spectrum, result.lines, medium=medium, title=title), plot, title)
+        write_html(spectrum_figure(result.grid_nm, result.spectrum, result.lines, medium=medium, title=title,
+                                   quantity=result.spectrum_quantity, unit=result.spectrum_unit), plot, title)
         click.echo(f"wrote the interactive spectrum to {plot}", err=True)
     if spectrum_file:
-        rows = [{"wavelength_nm": float(x), "spectral_radiance": float(y)} for x, y in zip(result.grid_nm, result.spectrum)]
+        column = result.spectrum_quantity.replace(" ", "_")  # emission_coefficient or spectral_radiance
+        rows = [{"wavelength_nm": float(x), column: float(y)} for x, y in zip(result.grid_nm, result.spectrum)]
         output_path(spectrum_file, "--spectrum")
-        write_atomic(spectrum_file, format_table(rows, ("wavelength_nm", "spectral_radiance"), "csv",
-                                                 {**provenance, "units": "spectral_radiance in W m-3 sr-1 nm-1; "
+        write_atomic(spectrum_file, format_table(rows, ("wavelength_nm", column), "csv",
+                                                 {**provenance, "units": f"{column} in {result.spectrum_unit}; "
                                                                          f"wavelength in {medium}"}))
         click.echo(f"wrote {len(rows)} spectrum points to {spectrum_file}", err=True)
     for text in result.warnings:

@@ -6,8 +6,8 @@ import json
 
 import click
 
-from levels.cli import Context, emit, main, output_path, reports_errors
-from levels.io.tables import format_text_table, write_atomic
+from levels.cli import Context, emit, main, output_path, reports_errors, text_table
+from levels.io.tables import write_atomic
 
 
 @main.command()
@@ -65,12 +65,12 @@ def rates(obj: Context, spectrum: str, method: str, datasets: tuple[str, ...], f
         click.echo(f"ionization limit {report.ionization_cm1:.3f} cm-1 ({report.ionization_source})")
         click.echo(f"stored as computed dataset {report.saved_as!r}")
         shown = sorted(report.lines, key=lambda r: -r["a_per_s"])[:top]
-        click.echo(format_text_table(shown, RATES_COLUMNS, headings={
+        click.echo(text_table(shown, RATES_COLUMNS, headings={
             "vacuum_nm": "λ vac [nm]", "a_per_s": "A [s-1]", "a_rel_unc": "rel. unc.", "f_abs": "f",
             "line_strength_au": "S [au]"}), nl=False)
         if len(report.lines) > top:
             click.echo(f"... {len(report.lines) - top} weaker lines (--format csv lists all)")
-        click.echo(format_text_table(report.levels, LIFETIME_COLUMNS,
+        click.echo(text_table(report.levels, LIFETIME_COLUMNS,
                                      headings={"lifetime_s": "lifetime [s]", "lifetime_rel_unc": "rel. unc."}),
                    nl=False)
     for item in report.skipped:

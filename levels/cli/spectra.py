@@ -7,8 +7,18 @@ from __future__ import annotations
 
 import click
 
-from levels.cli import TABLE_FORMATS, Context, _echo_json, _warnings, emit, main, output_path, reports_errors
-from levels.io.tables import format_table, format_text_table, write_atomic
+from levels.cli import (
+    TABLE_FORMATS,
+    Context,
+    _echo_json,
+    _warnings,
+    emit,
+    main,
+    output_path,
+    reports_errors,
+    text_table,
+)
+from levels.io.tables import format_table, write_atomic
 
 LAMP_CAUTION = (
     "CAUTION: spectral lamps and discharge tubes run at high voltage and many emit ultraviolet light; "
@@ -213,7 +223,7 @@ def calibrate(
             dict(r, state="rejected") for r in report["rejected"]
         ]
         click.echo(
-            format_text_table(
+            text_table(
                 sorted(rows, key=lambda r: r["pixel"]),  # type: ignore[arg-type,return-value]
                 ("pixel", "line_nm", "residual_nm", "spectrum", "lower", "upper", "components", "state"),
                 headings={"line_nm": "line [nm]", "residual_nm": "residual [nm]"},
@@ -319,7 +329,7 @@ def diagnose(
             holds = {True: "holds", False: "does not hold", None: "cannot be judged without ne"}[v["lte_holds"]]
             click.echo(f"LTE (McWhirter): needs ne >= {v['lte_min_ne_m3']:.3g} m-3; {holds}")
         click.echo(
-            format_text_table(
+            text_table(
                 report["boltzmann"],
                 ("spectrum", "peak_nm", "lower", "upper", "upper_cm1", "ln_y", "components", "outlier"),
                 headings={"peak_nm": "peak [nm]", "upper_cm1": "upper [cm-1]", "ln_y": "ln(Iλ/gA)"},

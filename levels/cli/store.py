@@ -13,9 +13,9 @@ from pathlib import Path
 import click
 from sqlalchemy.engine import make_url
 
-from levels.cli import Context, _progress, main, reports_errors
+from levels.cli import Context, _progress, main, reports_errors, text_table
 from levels.errors import StoreError
-from levels.io.tables import format_text_table, printable
+from levels.io.tables import printable
 from levels.store import database
 
 
@@ -55,7 +55,7 @@ def check(obj: Context, fmt: str) -> None:
         click.echo(f"store {obj.catalog.display_url} ({report.backend}), schema {report.revision or 'none'} "
                    f"(this levels: {report.head})")
         rows = [{"table": name, "rows": "missing" if n < 0 else n} for name, n in report.counts.items()]
-        click.echo(format_text_table(rows, ("table", "rows")), nl=False)
+        click.echo(text_table(rows, ("table", "rows")), nl=False)
         for item in report.checks:
             click.echo(f"checked: {item}")
         for problem in report.problems:
@@ -146,7 +146,7 @@ def history(obj: Context, limit: int, action: str | None, target: str | None, fm
         click.echo(json.dumps(rows, indent=1, ensure_ascii=False))
         return
     shown = [{**r, "detail": json.dumps(r["detail"], ensure_ascii=False, sort_keys=True)} for r in rows]
-    click.echo(format_text_table(shown, maintenance.HISTORY_COLUMNS), nl=False)
+    click.echo(text_table(shown, maintenance.HISTORY_COLUMNS), nl=False)
 
 
 def _print_state_change(result: dict, verb: str) -> None:

@@ -34,6 +34,87 @@ ENGINE_MULTIPOLES: tuple[str, ...] = ("E1", "M1", "E2")
 AirRangeWarning = _air.AirRangeWarning
 
 
+#: the display label of each column key, one per quantity, for people: CLI table headings, web headings, docs.
+#: The keys are the contract keys of CSV/JSON/ECSV (unchanged; users script against them). Units in brackets.
+#: "A" alone is never used: the Einstein coefficient is "Einstein A", the isotope is "mass number", the unit is Å.
+#: Statistical weights are "weight g", the magnetic factor is "Landé g"; parity is shown as even/odd.
+LABELS: dict[str, str] = {
+    "spectrum": "spectrum",
+    "mass_number": "mass number",
+    "z": "Z",
+    "charge": "charge",
+    "levels": "levels",
+    "lines": "lines",
+    "datasets": "datasets",
+    "ionization_cm1": "ionization [cm⁻¹]",
+    "ionization_unc_cm1": "unc [cm⁻¹]",
+    "label": "level",
+    "configuration": "configuration",
+    "term": "term",
+    "j": "J",
+    "parity": "parity",
+    "energy_cm1": "energy [cm⁻¹]",
+    "unc_cm1": "unc [cm⁻¹]",
+    "g": "weight g",
+    "n": "n",
+    "l": "l",
+    "lifetime_s": "lifetime [s]",
+    "lande_g": "Landé g",
+    "dataset": "dataset",
+    "lower": "lower level",
+    "upper": "upper level",
+    "lower_cm1": "lower [cm⁻¹]",
+    "upper_cm1": "upper [cm⁻¹]",
+    "wavenumber_cm1": "σ [cm⁻¹]",
+    "vacuum_nm": "λ vacuum [nm]",
+    "air_nm": "λ air [nm]",
+    "multipole": "multipole",
+    "a_per_s": "Einstein A [s⁻¹]",
+    "f_abs": "f (absorption)",
+    "line_strength_au": "S [e² a₀²]",
+    "g_lower": "weight g lower",
+    "g_upper": "weight g upper",
+    "unc_nm": "unc [nm]",
+    "rel_intensity": "rel. intensity",
+    "photon_share": "photon share",
+    "obs_nm": "observed [nm]",
+    "ritz_nm": "Ritz [nm]",
+    "obs_minus_ritz_nm": "observed - Ritz [nm]",
+    "line_name": "name",
+    "n_lines": "lines used",
+    "n_used": "levels used",
+    "stored_cm1": "stored [cm⁻¹]",
+    "residual_cm1": "observed - Ritz [cm⁻¹]",
+    "observed_nm": "observed [nm]",
+    "medium": "medium",
+    "peak_nm": "peak [nm]",
+    "peak_unc_nm": "peak unc [nm]",
+    "fwhm_nm": "FWHM [nm]",
+    "line_nm": "line [nm]",
+    "delta_nm": "peak - line [nm]",
+    "a_rel_unc": "Einstein A rel. unc.",
+    "lifetime_rel_unc": "lifetime rel. unc.",
+    "population_rel": "population / ground",
+    "departure": "departure b",
+    "limit_cm1": "limit [cm⁻¹]",
+    "limit_unc_cm1": "unc [cm⁻¹]",
+}
+
+#: how a stored parity (+1/-1) is shown to people (files keep +1/-1)
+PARITY_WORDS: dict[int, str] = {1: "even", -1: "odd"}
+
+
+def label(key: str) -> str:
+    """The display label of a column key (the key itself when it has none).
+
+    Examples
+    --------
+    >>> label("a_per_s"), label("mass_number"), label("no_such_key")
+    ('Einstein A [s⁻¹]', 'mass number', 'no_such_key')
+    """
+    return LABELS.get(key, key)
+
+
 def air_formula_description(formula: str) -> str:
     """The one-line citation of an air formula, for export headers.
 

@@ -67,7 +67,7 @@ def web(bench):
 def expected(cat: Catalog, **over):
     """The Catalog's own result for the VISIBLE conditions (in SI units)."""
     kwargs = dict(te_k=temperature_k("1eV"), ne_m3=1e19, tgas_k=600.0, from_nm=380.0, to_nm=780.0, medium="air",
-                  instrument_fwhm_nm=0.05, grid_points=4001)
+                  instrument_fwhm_nm=0.05, grid_points=None)  # the sampling rule's grid, as the page uses
     kwargs.update(over)
     return cat.emission("H I", **kwargs)
 
@@ -101,7 +101,7 @@ def test_result_page_shows_metrics_swatch_lines_and_assumptions(web, bench):
         assert f"{m['cct_k']:.0f} K" in text
     assert f'data-swatch="{srgb_swatch(m["cie_x"], m["cie_y"])}"' in text
     assert 'style="' not in text  # the CSP of other pages forbids style attributes; the swatch is painted by JS
-    for head in ("λ air [nm]", "λ vac [nm]", "rel. intensity", "photon share", "A [s⁻¹]"):
+    for head in ("λ air [nm]", "λ vacuum [nm]", "rel. intensity", "photon share", "Einstein A [s⁻¹]"):
         assert f">{head}</th>" in text
     table = text.split('id="emission-lines"')[1].split("</table>")[0]
     first = re.search(r"<tbody>\s*<tr><td class=\"label\">(.*?)</td><td class=\"label\">(.*?)</td>", table)
@@ -180,9 +180,10 @@ def test_spectrum_csv_download_samples_the_result(web, bench):
     assert response.status_code == 200 and response.mimetype == "text/csv"
     text = response.get_data(as_text=True)
     head = [ln for ln in text.splitlines() if ln.startswith("#")]
-    assert any("spectral_radiance in W m-3 sr-1 nm-1" in ln for ln in head)
+    # optically thin: the spectrum is an emission coefficient (issue 18 item 6)
+    assert any("emission_coefficient in W m-3 sr-1 nm-1" in ln for ln in head)
     rows = list(csv.reader(io.StringIO("\n".join(ln for ln in text.splitlines() if not ln.startswith("#")))))
-    assert rows[0] == ["wavelength_nm", "spectral_radiance"]
+    assert rows[0] == ["wavelength_nm", "emission_coefficient"]
     ref = expected(bench["catalog"])
     assert len(rows) - 1 == len(ref.grid_nm)
     assert float(rows[1][0]) == pytest.approx(float(ref.grid_nm[0]))
