@@ -51,12 +51,15 @@ from levels.catalog import (
     EMISSION_COLUMNS,
     LEVEL_COLUMNS,
     LINE_COLUMNS,
+    LINE_LIST_COLUMNS,
     SPECIES_COLUMNS,
     Catalog,
     ImportReport,
     LineQuery,
+    add_ritz_columns,
 )
 from levels.errors import LevelsError, UnitError
+from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
 from levels.service.vocabulary import DEFAULT_AIR_FORMULA, air_formula_description, air_wavelengths
 from levels.units import parse_quantity, spectral_nm
 
@@ -76,9 +79,11 @@ COLUMN_UNITS: dict[str, u.UnitBase] = {
     "lande_g": u.dimensionless_unscaled, "rel_intensity": u.dimensionless_unscaled,
     "photon_share": u.dimensionless_unscaled,
     "a_rel_unc": u.dimensionless_unscaled, "lifetime_rel_unc": u.dimensionless_unscaled,
+    "obs_nm": u.nm, "ritz_nm": u.nm, "obs_minus_ritz_nm": u.nm, "gf": u.dimensionless_unscaled,
 }
 #: columns that hold whole numbers (kept as integers; missing ones become -1)
-INTEGER_COLUMNS = ("z", "charge", "mass_number", "levels", "lines", "g", "n", "l", "parity", "g_lower", "g_upper")
+INTEGER_COLUMNS = ("z", "charge", "mass_number", "levels", "lines", "g", "n", "l", "parity", "g_lower", "g_upper",
+                   "members")
 #: spectral radiance unit of the sampled emission spectrum
 RADIANCE_UNIT = u.W / u.m ** 3 / u.sr / u.nm
 
@@ -138,7 +143,8 @@ def _window_bound(value: Any, name: str, medium: str) -> tuple[float, bool] | No
             bound = spectral_nm(value)
         except UnitError as exc:
             raise UnitError(f"{name}: {exc}") from None
-        nm, is_length = bound.nm, bound.is_length
+        nm: float | None = bound.nm
+        is_length = bound.is_length
     else:
         nm = _wavelength_nm(value, name)
         is_length = isinstance(value, u.Quantity) and value.unit.physical_type == "length"
@@ -168,7 +174,7 @@ def _window(window: Any, medium: str = "vacuum") -> tuple[float | None, float | 
     second = _window_bound(window[1], "window[1]", medium)
     lo = first[0] if first else None
     hi = second[0] if second else None
-    if first and second and not (first[1] and second[1]) and lo > hi:
+    if lo is not None and hi is not None and first and second and not (first[1] and second[1]) and lo > hi:
         lo, hi = hi, lo
     return lo, hi
 
@@ -455,7 +461,8 @@ class Store:
     def lines(self, spectrum: str | None = None, window: Any = None, medium: str = "air",
               multipoles: Sequence[str] = ("E1",), min_a: Any = None, *, max_upper: Any = None,
               datasets: Sequence[str] | None = None, order: str = "wavelength", limit: int | None = None,
-              air_formula: str = DEFAULT_AIR_FORMULA) -> QTable:
+              air_formula: str = DEFAULT_AIR_FORMULA, lower: str | None = None, series: str | None = None,
+              name: str | None = None, multiplets: bool = False) -> QTable:
         """A line list (``levels lines``).
 
         With ``spectrum``, every line the selection rules allow between the species'
@@ -487,13 +494,21 @@ class Store:
             At most this many lines.
         air_formula : {"iau2000", "edlen1966", "ciddor1996"}
             Formula of the air wavelengths.
+        lower, series, name : str, optional
+            Keep lines whose lower level matches ``lower``, whose upper level matches the series
+            pattern ``series`` (``"np 2P°3/2"``), whose customary name is ``name`` (as ``levels lines
+            --lower/--series/--name``).
+        multiplets : bool
+            Sum fine-structure components into multiplets (``--multiplets``).
 
         Returns
         -------
         QTable
-            The line-list columns (``spectrum, lower, upper, lower_cm1 [1/cm], upper_cm1,
+            The columns of ``levels lines`` (``spectrum, lower, upper, lower_cm1 [1/cm], upper_cm1,
             wavenumber_cm1, vacuum_nm [nm], air_nm [nm], multipole, a_per_s [1/s], f_abs,
-            line_strength_au [(e a0)^2], g_lower, g_upper, unc_nm [nm], dataset``).
+            line_strength_au [(e a0)^2], g_lower, g_upper, unc_nm [nm], dataset``, then ``obs_nm,
+            ritz_nm, obs_minus_ritz_nm`` [nm] and ``line_name``; with ``multiplets`` the line-list
+            columns and ``gf, members, weighting``).
 
         Raises
         ------
@@ -507,7 +522,8 @@ class Store:
                           multipoles=tuple(m.strip().upper() for m in multipoles), min_a=_per_second(min_a, "min_a"),
                           max_upper_cm1=None if max_upper is None else _quantity(
                               max_upper, "max_upper", u.cm ** -1, "energy", equivalencies=u.spectral()),
-                          datasets=tuple(datasets) if datasets else None, order=order, limit=limit)
+                          datasets=tuple(datasets) if datasets else None, order=order,
+                          limit=None if (lower or series or name) else limit)
         if spectrum is None:
             if from_nm is None or to_nm is None:
                 raise UnitError("without a spectrum, give a window with both ends (a line finder)")
@@ -521,7 +537,21 @@ class Store:
         provenance = self._catalog.provenance(
             query.describe(), used, air_formula=air_formula_description(air_formula),
             lines=f"{len(rows)} of {total}", rates=f"{without} lines without known rates (A, f, S empty)")
-        return rows_to_table(rows, LINE_COLUMNS, provenance)
+        columns: tuple[str, ...] = LINE_LIST_COLUMNS
+        if lower or series or name:
+            rows = filter_lines(rows, lower=lower, series=series, name=name)[:limit]
+            provenance["selection"] = (f"lower {lower or 'any'}; upper series {series or 'any'}; "
+                                       f"name {name or 'any'}: {len(rows)} lines")
+        if multiplets:
+            rows = merge_multiplets(rows, medium=medium, air_formula=air_formula)
+            columns = LINE_COLUMNS + MULTIPLET_EXTRA_COLUMNS
+            provenance["multiplets"] = ("components of one configuration and term pair summed: S and g f summed, "
+                                        "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
+        else:
+            add_ritz_columns(rows, medium, air_formula=air_formula)
+        contributed = {r.get("dataset") for r in rows}
+        provenance["datasets"] = "; ".join(n for n in used if n in contributed) or "(none)"
+        return rows_to_table(rows, columns, provenance)
 
     def emission(self, spectrum: str, *, te: Any, ne: Any, tgas: Any = "300K", window: Any = None,
                  medium: str = "air", instrument_fwhm: Any = None, path_length: Any = None,

@@ -15,9 +15,10 @@ from click.testing import CliRunner
 
 import levels
 from levels.api import COLUMN_UNITS, LINE_STRENGTH_AU, RatesUnavailableError
-from levels.catalog import EMISSION_COLUMNS, LEVEL_COLUMNS, LINE_COLUMNS, SPECIES_COLUMNS
+from levels.catalog import EMISSION_COLUMNS, LEVEL_COLUMNS, LINE_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS
 from levels.cli import main
 from levels.errors import InputFileError, PhysicsInputError, UnitError
+from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS
 
 DEMO = Path(__file__).resolve().parents[1] / "seed_data" / "demo" / "sample-li-cell.csv"
 
@@ -68,14 +69,23 @@ def _assert_same(table: QTable, rows: list[dict], columns):
     (("--from", "300nm", "--to", "1000nm", "--air-formula", "ciddor1996"),
      dict(window=(3000 * u.AA, "1000nm"), air_formula="ciddor1996")),
     (("H I", "--min-a", "1e7", "--max-upper", "12eV"), dict(spectrum="H I", min_a=1e7 / u.s, max_upper="12eV")),
+    (("H I", "--series", "np 2P°3/2", "--lower", "1s 2S1/2"), dict(spectrum="H I", series="np 2P°3/2",
+                                                                    lower="1s 2S1/2")),
 ])
 def test_lines_match_the_cli_csv(store, args, kwargs):
     header, rows = _cli_csv(store.url, "lines", *args)
     table = store.lines(**kwargs)
-    _assert_same(table, rows, LINE_COLUMNS)
+    _assert_same(table, rows, LINE_LIST_COLUMNS)
     provenance = table.meta["provenance"]
     for key in ("datasets", "query", "air_formula", "lines"):
         assert provenance[key] == header[key], key
+
+
+def test_multiplets_match_the_cli_csv(store):
+    header, rows = _cli_csv(store.url, "lines", "H I", "--from", "400nm", "--to", "700nm", "--multiplets")
+    table = store.lines("H I", window=("400nm", "700nm"), multiplets=True)
+    _assert_same(table, rows, LINE_COLUMNS + MULTIPLET_EXTRA_COLUMNS)
+    assert table.meta["provenance"]["multiplets"] == header["multiplets"]
 
 
 def test_line_table_units_and_pandas(store):
@@ -91,7 +101,7 @@ def test_line_table_units_and_pandas(store):
     np.testing.assert_allclose((table["wavenumber_cm1"]).to_value(u.nm ** -1) * table["vacuum_nm"].value, 1.0,
                                rtol=1e-9)
     frame = table.to_pandas()
-    assert list(frame.columns) == list(LINE_COLUMNS) and len(frame) == len(table)
+    assert list(frame.columns) == list(LINE_LIST_COLUMNS) and len(frame) == len(table)
 
 
 def test_species_and_levels_match_the_cli(store):
