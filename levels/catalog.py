@@ -703,7 +703,7 @@ class Catalog:
                  from_nm: float | None = None, to_nm: float | None = None, medium: str = "air",
                  instrument_fwhm_nm: float = 0.0, path_length_m: float | None = None,
                  element_density_m3: float | None = None, cutoff_method: str = "debye",
-                 datasets: Sequence[str] | None = None, grid_points: int = 20001, **model_options):
+                 datasets: Sequence[str] | None = None, grid_points: int | None = None, **model_options):
         """Relative line intensities, synthetic spectrum and lamp metrics of a discharge (see levels.emission).
 
         ``model_options`` go to :func:`levels.emission.compute_emission`: ``model`` ("lte" or "cr"),

@@ -74,6 +74,10 @@ class EmissionResult:
     model: str = "lte"
     populations: list[dict] = field(default_factory=list)
     validity: dict = field(default_factory=dict)
+    #: what ``spectrum`` is: "emission coefficient" (W m-3 sr-1 nm-1, optically thin) or "spectral radiance"
+    #: (W m-2 sr-1 nm-1, through the given path length)
+    spectrum_quantity: str = "emission coefficient"
+    spectrum_unit: str = "W m-3 sr-1 nm-1"
 
     def report(self) -> dict:
         """The JSON report of the design (conditions, lines, metrics, warnings, model, populations, validity)."""
@@ -134,7 +138,7 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
                      te_k: float, ne_m3: float, tgas_k: float, window: tuple[float | None, float | None],
                      medium: str, instrument_fwhm_nm: float, path_length_m: float | None,
                      element_density_m3: float | None, cutoff_method: str = "debye",
-                     grid_points: int = 20001, model: str = "lte", loss_rate_per_s: float = 0.0,
+                     grid_points: int | None = None, model: str = "lte", loss_rate_per_s: float = 0.0,
                      geometry: str = "slab", broadening: str = "thermal", perturber: str | None = None,
                      pressure_pa: float | None = None, cool_layer_m: float | None = None,
                      forbidden_omega: float | None = None) -> EmissionResult:
@@ -304,16 +308,24 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
         warnings.insert(0, UV_CAUTION)
     grid_lo = lo if lo is not None else float(shown_nm[in_window].min()) * 0.98
     grid_hi = hi if hi is not None else float(shown_nm[in_window].max()) * 1.02
-    grid = spectra.make_grid(grid_lo, grid_hi, points=grid_points)
     widths = spectra.voigt_widths(doppler, natural, instrument_fwhm_nm, extra_lorentz_fwhm_nm=pressure)
+    narrowest = float(np.min(np.asarray(widths.voigt_fwhm_nm)[in_window])) if in_window.any() else None
+    points, sampling_warning = spectrum_grid_points(grid_lo, grid_hi, narrowest, grid_points)
+    if sampling_warning:
+        warnings.append(sampling_warning)
+    grid = spectra.make_grid(grid_lo, grid_hi, points=points)
     spectrum_note = ""
+    quantity, unit = "emission coefficient", "W m-3 sr-1 nm-1"
     if path_length_m is None:
         density = spectra.synthetic_spectrum(grid, shown_nm, emissivity, widths.gauss_fwhm_nm,
                                              widths.lorentz_fwhm_nm)
     else:
-        density, spectrum_note = _self_absorbed_spectrum(
+        per_depth, spectrum_note = _self_absorbed_spectrum(
             grid, shown_nm, vacuum, thin_emissivity, f_abs, n_lower, n_upper, with_rates, doppler, natural, pressure,
             instrument_fwhm_nm, path_length_m, cool_layer_m, levels, pop_by_id, energy, tgas_k, mass_u)
+        density = per_depth * path_length_m  # radiance leaving the slab, W m-2 sr-1 nm-1
+        quantity, unit = "spectral radiance", "W m-2 sr-1 nm-1"
+        spectrum_note = spectrum_note.replace(" per unit depth", "")
     description = ("LTE Boltzmann populations at te, two-stage Saha balance" if model == "lte" else
                    "collisional-radiative steady state at te, ne (" + cr_note + ")")
     description += ("; optically thin" if path_length_m is None else
@@ -327,7 +339,8 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
         "instrument_fwhm_nm": instrument_fwhm_nm, "path_length_m": path_length_m, "geometry": geometry,
         "loss_rate_per_s": loss_rate_per_s, "broadening": broadening, "perturber": perturber,
         "pressure_pa": pressure_pa, "cool_layer_m": cool_layer_m, "model_name": model,
-        "model": description,
+        "model": description, "spectrum_quantity": quantity, "spectrum_unit": unit,
+        "grid_step_nm": float(grid[1] - grid[0]) if grid.size > 1 else None, "narrowest_fwhm_nm": narrowest,
     }
     pop_rows = [{"label": lv.label, "energy_cm1": float(lv.energy_cm1), "population_rel": float(pop_rel[i]),
                  "departure": float(departure[i]) if included[i] else None}
@@ -335,7 +348,64 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
     pop_rows.sort(key=lambda r: r["energy_cm1"])
     return EmissionResult(conditions=conditions, lines=rows, metrics=metrics, warnings=warnings, grid_nm=grid,
                           spectrum=density, medium=medium, model=model, populations=pop_rows,
-                          validity=validity_report)
+                          validity=validity_report, spectrum_quantity=quantity, spectrum_unit=unit)
+
+
+#: the sampling rule: grid step <= the narrowest line's FWHM / SAMPLES_PER_FWHM (common practice, no source)
+SAMPLES_PER_FWHM = 5
+#: points of an automatic grid: at least, and at most (beyond it, a warning)
+MIN_AUTO_POINTS = 2001
+MAX_AUTO_POINTS = 400_001
+
+
+def spectrum_grid_points(lo_nm: float, hi_nm: float, narrowest_fwhm_nm: float | None,
+                         requested: int | None = None) -> tuple[int, str]:
+    """Points of the spectrum grid so that its step is at most FWHM/5 of the narrowest line; and a warning.
+
+    With ``requested`` None (the CLI's and the web workbench's default) the grid has the points the rule
+    needs (at least :data:`MIN_AUTO_POINTS`), capped at :data:`MAX_AUTO_POINTS` with a warning; so equal
+    inputs give equal grids and equal peaks everywhere. A ``requested`` count is kept, with a warning when
+    its step is coarser than the rule.
+
+    Parameters
+    ----------
+    lo_nm, hi_nm : float
+        Grid ends, nm.
+    narrowest_fwhm_nm : float or None
+        FWHM of the narrowest line profile in the window (Voigt, with the instrument), nm.
+    requested : int, optional
+        Points asked for.
+
+    Returns
+    -------
+    (points, warning)
+
+    Examples
+    --------
+    >>> spectrum_grid_points(400.0, 700.0, 0.05)
+    (30001, '')
+    >>> spectrum_grid_points(400.0, 700.0, 1.0)
+    (2001, '')
+    >>> spectrum_grid_points(400.0, 700.0, 0.05, 4001)[1][:40]
+    'spectrum grid: 4001 points give a step o'
+    """
+    span = hi_nm - lo_nm
+    needed = MIN_AUTO_POINTS
+    if narrowest_fwhm_nm and narrowest_fwhm_nm > 0 and span > 0:
+        needed = int(math.ceil(span * SAMPLES_PER_FWHM / narrowest_fwhm_nm)) + 1
+    if requested is not None:
+        if needed > requested:
+            return requested, (f"spectrum grid: {requested} points give a step of {span / (requested - 1):.3g} nm, "
+                               f"coarser than FWHM/5 of the narrowest line ({narrowest_fwhm_nm:.3g} nm); "
+                               f"peaks are under-sampled (ask {needed} points or leave the grid automatic)")
+        return requested, ""
+    points = max(MIN_AUTO_POINTS, needed)
+    if points > MAX_AUTO_POINTS:
+        return MAX_AUTO_POINTS, (f"spectrum grid capped at {MAX_AUTO_POINTS} points (step "
+                                 f"{span / (MAX_AUTO_POINTS - 1):.3g} nm): coarser than FWHM/5 of the narrowest line "
+                                 f"({narrowest_fwhm_nm:.3g} nm), so its peak is under-sampled; narrow the window or "
+                                 "give an instrument width")
+    return points, ""
 
 
 def _examples(rows: list[dict]) -> str:

@@ -22,9 +22,20 @@ ACCENT = {"E1": "#c2410c", "M1": "#0f766e", "E2": "#6d28d9"}
 SPECTRUM_LINE = "#0b4f8a"
 
 
+def unit_html(unit: str) -> str:
+    """'W m-3 sr-1 nm-1' with superscript minus signs, for axis titles.
+
+    >>> unit_html("W m-2 sr-1 nm-1")
+    'W m⁻² sr⁻¹ nm⁻¹'
+    """
+    return unit.replace("-1", "⁻¹").replace("-2", "⁻²").replace("-3", "⁻³")
+
+
 def spectrum_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[dict], *, medium: str,
-                    title: str, max_marked: int = 40) -> dict:
-    """Synthetic spectrum with the strongest lines marked and labelled on hover."""
+                    title: str, max_marked: int = 40, quantity: str = "emission coefficient",
+                    unit: str = "W m-3 sr-1 nm-1") -> dict:
+    """Synthetic spectrum with the strongest lines marked and labelled on hover; the y axis names the
+    ``quantity`` (emission coefficient when optically thin, spectral radiance through a path) and its ``unit``."""
     marked = sorted(lines, key=lambda r: -r["rel_intensity"])[:max_marked]
     peak = float(np.max(density)) if len(density) else 1.0
     xs, ys, text = [], [], []
@@ -47,7 +58,7 @@ def spectrum_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[di
     layout = {
         "title": {"text": title, "font": {"color": INK}},
         "xaxis": {"title": {"text": f"wavelength in {medium} [nm]"}, "gridcolor": GRID},
-        "yaxis": {"title": {"text": "spectral radiance [W m⁻³ sr⁻¹ nm⁻¹]"}, "gridcolor": GRID, "rangemode": "tozero"},
+        "yaxis": {"title": {"text": f"{quantity} [{unit_html(unit)}]"}, "gridcolor": GRID, "rangemode": "tozero"},
         "plot_bgcolor": "#fbfcfd", "paper_bgcolor": "#ffffff", "hovermode": "closest",
         "legend": {"orientation": "h", "y": -0.2},
     }
@@ -116,7 +127,8 @@ def model_comparison_figure(primary: dict, primary_model: str, other: dict | Non
         "paper_bgcolor": base.get("paper_bgcolor", "#ffffff"), "plot_bgcolor": base.get("plot_bgcolor", "#fbfcfd"),
         "font": base.get("font", {}), "hovermode": "closest", "margin": {"l": 80, "r": 20, "t": 40, "b": 60},
         "xaxis": {"title": {"text": axis_title}, "domain": list(panels["x"]), "anchor": "y", "gridcolor": GRID},
-        "yaxis": {"title": {"text": "spectral radiance [W m⁻³ sr⁻¹ nm⁻¹]"}, "domain": [0.45, 1.0], "anchor": "x",
+        "yaxis": {"title": {"text": primary.get("layout", {}).get("yaxis", {}).get("title", {}).get(
+                      "text", "emission coefficient [W m⁻³ sr⁻¹ nm⁻¹]")}, "domain": [0.45, 1.0], "anchor": "x",
                   "rangemode": "tozero", "exponentformat": "power", "gridcolor": GRID},
         "xaxis2": {"title": {"text": axis_title}, "domain": list(panels["x2"]), "anchor": "y2", "gridcolor": GRID,
                    "matches": "x"},

@@ -23,6 +23,7 @@ from typing import Any
 import numpy as np
 
 from levels.errors import NotationError
+from levels.figures import unit_html
 from levels.notation import l_letter, parse_jk_term, parse_term
 from levels.units import CM1_EV
 
@@ -539,7 +540,8 @@ MARKED_LINES = 40
 
 
 def emission_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[dict], *, medium: str = "air",
-                    title: str = "", max_marked: int = MARKED_LINES) -> dict:
+                    title: str = "", max_marked: int = MARKED_LINES, quantity: str = "emission coefficient",
+                    unit: str = "W m-3 sr-1 nm-1") -> dict:
     """The synthetic spectrum of the emission workbench as a plotly figure dict.
 
     Parameters
@@ -547,7 +549,8 @@ def emission_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[di
     grid_nm : array
         Wavelength grid, nm (in ``medium``).
     density : array
-        Spectral radiance on the grid, W m-3 sr-1 nm-1.
+        The spectrum on the grid: ``quantity`` in ``unit`` (emission coefficient, W m-3 sr-1 nm-1, when
+        optically thin; spectral radiance, W m-2 sr-1 nm-1, through a path length).
     lines : sequence of dict
         Emission rows (``rel_intensity``, ``air_nm``, ``vacuum_nm``, ``a_per_s``, ``lower``, ``upper``),
         strongest first or in any order.
@@ -597,7 +600,7 @@ def emission_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[di
         "margin": {"l": 80, "r": 20, "t": 20, "b": 60}, "hovermode": "closest",
         "xaxis": {"title": {"text": f"wavelength in {'air' if medium == 'air' else 'vacuum'} [nm]"},
                   "gridcolor": "#e6e2d8", "zeroline": False},
-        "yaxis": {"title": {"text": "spectral radiance [W m⁻³ sr⁻¹ nm⁻¹]"}, "gridcolor": "#e6e2d8",
+        "yaxis": {"title": {"text": f"{quantity} [{unit_html(unit)}]"}, "gridcolor": "#e6e2d8",
                   "rangemode": "tozero", "exponentformat": "power"},
         "legend": {"orientation": "h", "y": -0.18, "x": 0},
         "meta": {"title": title},

@@ -44,7 +44,9 @@ from webui.figures import emission_figure
 bp = Blueprint("workbench", __name__)
 
 #: points of the sampled spectrum (the figure and the CSV)
-GRID_POINTS = 4001
+#: None: the grid the sampling rule needs (step <= FWHM/5 of the narrowest line), as the CLI uses, so equal
+#: inputs give equal spectra on the page and from `levels emission` (levels.emission.spectrum_grid_points)
+GRID_POINTS = None
 #: lines listed on the page and in the JSON
 LISTED_LINES = 25
 #: seconds a computed result is reused by the figure request and the downloads
@@ -364,8 +366,10 @@ def figure_json():
     metrics = {k: clean(v) for k, v in result.metrics.items()}
     other, other_note = compare(req, result)
     primary = emission_figure(result.grid_nm, result.spectrum, result.lines, medium=req.medium,
-                              title=_title(ref, result))
-    second = (emission_figure(other.grid_nm, other.spectrum, other.lines, medium=req.medium, title=_title(ref, other))
+                              title=_title(ref, result), quantity=result.spectrum_quantity,
+                              unit=result.spectrum_unit)
+    second = (emission_figure(other.grid_nm, other.spectrum, other.lines, medium=req.medium, title=_title(ref, other),
+                              quantity=other.spectrum_quantity, unit=other.spectrum_unit)
               if other is not None else None)
     populations = {req.model: result.populations}
     if other is not None:
@@ -412,11 +416,11 @@ def lines_download(fmt: str):
 def spectrum_download():
     """The sampled synthetic spectrum as CSV with the provenance header."""
     req, ref, result = _download_result()
-    rows = [{"wavelength_nm": float(x), "spectral_radiance": float(y)}
-            for x, y in zip(result.grid_nm, result.spectrum)]
+    column = result.spectrum_quantity.replace(" ", "_")  # emission_coefficient or spectral_radiance
+    rows = [{"wavelength_nm": float(x), column: float(y)} for x, y in zip(result.grid_nm, result.spectrum)]
     head = {**provenance(req, result),
-            "units": f"wavelength_nm in nm ({req.medium}); spectral_radiance in W m-3 sr-1 nm-1"}
-    text = format_table(rows, ("wavelength_nm", "spectral_radiance"), "csv", head)
+            "units": f"wavelength_nm in nm ({req.medium}); {column} in {result.spectrum_unit}"}
+    text = format_table(rows, ("wavelength_nm", column), "csv", head)
     response = Response(text, mimetype="text/csv")
     response.charset = "utf-8"
     response.headers["Content-Disposition"] = (
