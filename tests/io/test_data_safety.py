@@ -215,7 +215,8 @@ def test_schema_finite_bound_is_the_table_bound():
     ("levels", "label", "x" * 5000, "is 5000 characters long; at most 200 are stored"),
     ("samples", "name", "a\x1bb", "holds the control character U+001B; terminal control characters are refused"),
     ("datasets", "description", "two\nlines\tand a tab", None),
-    ("datasets", "description", "bell\x07", "holds the control character U+0007; terminal control characters are refused"),
+    ("datasets", "description", "bell\x07",
+     "holds the control character U+0007; terminal control characters are refused"),
     ("levels", "lifetime_s", float("inf"), None),
     ("levels", "lifetime_s", 0.0, "is 0; it must be greater than zero"),
 ])

@@ -10,11 +10,18 @@ store is compared before and after.
 
 from __future__ import annotations
 
+import hashlib
+import json
+import os
+import re
+import stat
 from pathlib import Path
 
 import pytest
 from click.testing import CliRunner
 
+from levels import maintenance
+from levels.catalog import Catalog
 from levels.cli import main
 from levels.errors import InputFileError, LevelsError
 from levels.store.database import dump
@@ -125,14 +132,6 @@ def test_bad_api_body_is_refused(seeded, client, name, expected):
 # checksum recomputed, so they follow the schema revision; command-line cases are argument lists with
 # placeholders; desk cases are form posts. Every expected message is exact (paths replaced by placeholders).
 
-import hashlib
-import json
-import os
-import re
-import stat
-
-from levels import maintenance
-from levels.catalog import Catalog
 
 
 def _kind_cases(kind: str) -> list[tuple[str, str]]:

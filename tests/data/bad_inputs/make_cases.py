@@ -94,7 +94,8 @@ js("desk", "level_lande_below_range.json", {"form": "level", "data": {**FORM, "l
 js("desk", "level_new_dataset_with_escape.json", {"form": "level", "data": {**FORM, "new_dataset": f"d{ESC}c"}})
 js("desk", "level_sample_too_long.json", {"form": "level", "data": {**FORM, "sample": "s" * 201}})
 js("desk", "sample_name_with_escape.json", {"form": "sample", "data": {"name": f"cell{ESC}[2J"}})
-js("desk", "sample_instrument_with_c1.json", {"form": "sample", "data": {"name": "cell-x", "instrument": "grating\u009b"}})
+js("desk", "sample_instrument_with_c1.json",
+   {"form": "sample", "data": {"name": "cell-x", "instrument": "grating\u009b"}})
 js("desk", "sample_description_with_escape.json",
    {"form": "sample", "data": {"name": "cell-y", "description": f"fill{ESC}[8m"}})
 js("desk", "sample_pressure_fullwidth.json", {"form": "sample", "data": {"name": "cell-z", "pressure": "１００Pa"}})
