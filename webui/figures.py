@@ -539,6 +539,36 @@ MARK_COLOUR = "#c9822b"
 MARKED_LINES = 40
 
 
+#: points of the drawn spectrum at most; a finer grid is drawn as its min-max envelope (every peak kept)
+DISPLAY_POINTS = 20_000
+
+
+def envelope(x: np.ndarray, y: np.ndarray, max_points: int) -> tuple[np.ndarray, np.ndarray]:
+    """At most ``max_points`` samples of (x, y) that keep each bucket's minimum and maximum, in order, so the
+    drawn curve has the same peaks and troughs as the full grid (a display reduction, not a resampling).
+
+    >>> x = np.arange(10.0); y = np.array([0, 5, 0, 0, 0, 0, 0, 9, 0, 0.0])
+    >>> ex, ey = envelope(x, y, 6)
+    >>> float(ey.max()), 5.0 in ey.tolist(), len(ex) <= 6
+    (9.0, True, True)
+    """
+    n = len(x)
+    if n <= max_points or max_points < 4:
+        return x, y
+    buckets = (max_points - 2) // 2  # two samples per bucket, and both ends
+    size = -(-n // buckets)
+    padded = np.full(buckets * size, np.nan)
+    padded[:n] = y
+    blocks = padded.reshape(buckets, size)
+    filled = ~np.all(np.isnan(blocks), axis=1)
+    base = np.arange(buckets) * size
+    lo = base + np.nanargmin(np.where(np.isnan(blocks), np.inf, blocks), axis=1)
+    hi = base + np.nanargmax(np.where(np.isnan(blocks), -np.inf, blocks), axis=1)
+    keep = np.unique(np.concatenate([lo[filled], hi[filled], [0, n - 1]]))
+    keep = keep[keep < n]
+    return x[keep], y[keep]
+
+
 def emission_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[dict], *, medium: str = "air",
                     title: str = "", max_marked: int = MARKED_LINES, quantity: str = "emission coefficient",
                     unit: str = "W m-3 sr-1 nm-1") -> dict:
@@ -566,8 +596,7 @@ def emission_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[di
     dict
         ``{"data": [...], "layout": {...}}``. Text from the store is HTML-escaped.
     """
-    grid = np.asarray(grid_nm, dtype=float)
-    dens = np.asarray(density, dtype=float)
+    grid, dens = envelope(np.asarray(grid_nm, dtype=float), np.asarray(density, dtype=float), DISPLAY_POINTS)
     peak = float(np.nanmax(dens)) if dens.size else 1.0
     peak = peak if peak > 0 and math.isfinite(peak) else 1.0
     marked = sorted(lines, key=lambda r: -r["rel_intensity"])[:max_marked]
