@@ -60,7 +60,12 @@ from levels.catalog import (
 )
 from levels.errors import LevelsError, UnitError
 from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
-from levels.service.vocabulary import DEFAULT_AIR_FORMULA, air_formula_description, air_wavelengths
+from levels.service.vocabulary import (
+    DEFAULT_AIR_FORMULA,
+    air_formula_code,
+    air_formula_description,
+    air_wavelengths,
+)
 from levels.units import parse_quantity, spectral_nm
 
 __all__ = ["open_store", "Store", "EmissionReport", "RatesResult", "LINE_STRENGTH_AU", "RatesUnavailableError",
@@ -492,8 +497,8 @@ class Store:
             Sort order.
         limit : int, optional
             At most this many lines.
-        air_formula : {"iau2000", "edlen1966", "ciddor1996"}
-            Formula of the air wavelengths.
+        air_formula : {"morton2000", "edlen1966", "ciddor1996"}
+            Formula of the air wavelengths (``"iau2000"`` is accepted as an alias of ``"morton2000"``).
         lower, series, name : str, optional
             Keep lines whose lower level matches ``lower``, whose upper level matches the series
             pattern ``series`` (``"np 2P°3/2"``), whose customary name is ``name`` (as ``levels lines
@@ -517,6 +522,7 @@ class Store:
         UnitError
             A quantity without a unit or of the wrong kind.
         """
+        air_formula = air_formula_code(air_formula)
         from_nm, to_nm = _window(window, medium)
         query = LineQuery(spectrum=spectrum, from_nm=from_nm, to_nm=to_nm, medium=medium,
                           multipoles=tuple(m.strip().upper() for m in multipoles), min_a=_per_second(min_a, "min_a"),

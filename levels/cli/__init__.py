@@ -328,7 +328,8 @@ def show(obj: Context, spectrum: str, datasets: tuple[str, ...], fmt: str, outpu
               help="Most Ritz (derived) lines one species may imply after this import "
                    "(default 10,000,000 or $LEVELS_MAX_DERIVED_LINES).")
 @click.option("--again", is_flag=True, default=False,
-              help="Import a file whose content is already in the store once more (refused without it).")
+              help="Import a file whose content is already in the store once more (refused without it, "
+                   "unless --dataset names the copy).")
 @click.pass_obj
 @reports_errors
 def import_(obj: Context, file: str, sample: str | None, dataset: str | None, kind: str, citation: str,
@@ -434,8 +435,10 @@ def _multipoles_option(value: str) -> tuple[str, ...]:
 @click.option("--max-upper", metavar="ENERGY", help="Highest upper-level energy (50000cm-1, 6.2eV).")
 @click.option("--dataset", "datasets", multiple=True, metavar="NAME", help="Datasets in order of precedence (repeat).")
 @click.option("--sort", "order", type=click.Choice(["wavelength", "strength", "a"]), default="wavelength", show_default=True)
-@click.option("--air-formula", type=click.Choice(["iau2000", "edlen1966", "ciddor1996"]), default="iau2000",
-              show_default=True)
+@click.option("--air-formula", type=click.Choice(["morton2000", "edlen1966", "ciddor1996", "iau2000"]),
+              default="morton2000", show_default=True,
+              help="Refractive index of air: morton2000 (Morton 2000), edlen1966, ciddor1996; iau2000 is an alias "
+                   "of morton2000.")
 @click.option("--limit", type=click.IntRange(min=1), help="At most this many lines.")
 @click.option("--lower", "lower_pattern", metavar="LABEL_OR_PATTERN",
               help="Only lines from this lower level: a label, a glob ('1s2.2p*') or a series pattern ('np 2P°3/2').")
@@ -475,6 +478,9 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
     from levels.service.vocabulary import air_formula_description
 
+    from levels.service.vocabulary import air_formula_code
+
+    air_formula = air_formula_code(air_formula)  # formulas are named by their authors; old names are aliases
     require_existing_store(obj)
     output_path(output)
     from_nm, to_nm = _window(from_, to, medium, air_formula)

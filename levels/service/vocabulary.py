@@ -115,6 +115,34 @@ def label(key: str) -> str:
     return LABELS.get(key, key)
 
 
+#: air-formula names people type, by the formula's authors -> the code the store records. ``morton2000`` is the
+#: refractive index of air as given by Morton (2000, ApJS 130, 403), which the store records as ``iau2000`` (its
+#: code before formulas were named by their authors; still accepted as an alias).
+AIR_FORMULA_ALIASES: dict[str, str] = {"morton2000": "iau2000"}
+#: the air-formula names offered to people (the old ``iau2000`` stays accepted)
+AIR_FORMULA_CHOICES: tuple[str, ...] = ("morton2000", "edlen1966", "ciddor1996", "iau2000")
+#: the default air formula as people name it
+DEFAULT_AIR_FORMULA_NAME = "morton2000"
+
+
+def air_formula_code(name: str) -> str:
+    """The code the store records for an air formula named by people (aliases resolved).
+
+    Raises
+    ------
+    PhysicsInputError
+        An unknown formula name.
+
+    Examples
+    --------
+    >>> air_formula_code("morton2000"), air_formula_code("iau2000"), air_formula_code("edlen1966")
+    ('iau2000', 'iau2000', 'edlen1966')
+    """
+    code = AIR_FORMULA_ALIASES.get(name, name)
+    check_air_formula(code)
+    return code
+
+
 def air_formula_description(formula: str) -> str:
     """The one-line citation of an air formula, for export headers.
 

@@ -33,3 +33,19 @@ def test_cli_tables_use_labels_files_keep_keys(tmp_path):
     csv = runner.invoke(main, ["--db", db, "lines", "H I", "--from", "600nm", "--to", "700nm", "--format", "csv"])
     header = next(line for line in csv.output.splitlines() if not line.startswith("#"))
     assert header.split(",")[: len(LINE_COLUMNS)] == list(LINE_COLUMNS)
+
+
+def test_air_formula_named_by_author_old_name_accepted(tmp_path):
+    from levels.service.vocabulary import air_formula_code
+
+    assert air_formula_code("morton2000") == air_formula_code("iau2000") == "iau2000"
+    db = str(tmp_path / "s.sqlite")
+    runner = CliRunner()
+    runner.invoke(main, ["--db", db, "init"])
+    runner.invoke(main, ["--db", db, "hydrogenic", "H I", "--n-max", "3"])
+    outputs = [runner.invoke(main, ["--db", db, "lines", "H I", "--from", "650nm", "--to", "660nm", "--format", "csv",
+                                    "--air-formula", name]) for name in ("morton2000", "iau2000")]
+    assert all(o.exit_code == 0 for o in outputs)
+    rows = [[line for line in o.output.splitlines() if line.startswith("H I,")] for o in outputs]
+    assert rows[0] and rows[0] == rows[1]
+    assert "morton2000" in runner.invoke(main, ["lines", "--help"]).output
