@@ -61,4 +61,4 @@ def test_engine_bad_options_are_400(h_site, query, field_name):
 def test_diagram_page_offers_the_engine_option(h_site):
     text = h_site["client"].get("/species/H_I/diagram?engine=1").get_data(as_text=True)
     assert 'name="engine" value="1" checked' in text
-    assert "include lines implied by the levels (engine)" in text
+    assert "include lines implied by the levels (Ritz wavelengths from level pairs)" in text
