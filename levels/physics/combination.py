@@ -28,6 +28,7 @@ from __future__ import annotations
 import warnings
 from collections.abc import Iterator, Sequence
 from dataclasses import dataclass
+from typing import cast
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -153,7 +154,8 @@ def build_lines(energy_cm1: ArrayLike, unc_cm1: ArrayLike, two_j: ArrayLike, par
     if two_s is not None and lower.size:
         s_arr = np.asarray(two_s, dtype=np.int64)
         inter = (s_arr[lower] >= 0) & (s_arr[upper] >= 0) & (s_arr[lower] != s_arr[upper])
-    return LineSet(lower=lower, upper=upper, multipole=names, wavenumber_cm1=sigma, wavenumber_unc_cm1=sigma_unc,
+    return LineSet(lower=cast(NDArray[np.int64], lower), upper=cast(NDArray[np.int64], upper), multipole=names,
+                   wavenumber_cm1=sigma, wavenumber_unc_cm1=sigma_unc,
                    vacuum_nm=vacuum, air_nm=air_nm, unc_nm=vacuum * sigma_unc / sigma if sigma.size else sigma.copy(),
                    intercombination=inter)
 

@@ -293,9 +293,9 @@ def ls_flags(
     have_l = l_a is not None and l_b is not None
     if (l_a is None) != (l_b is None):
         raise QuantumNumberError("give both l_a and l_b, or neither")
-    if have_l:
+    if l_a is not None and l_b is not None:
         arrays += [_optional_qn(l_a, "l_a"), _optional_qn(l_b, "l_b")]
-    arrays = np.broadcast_arrays(*arrays)
+    arrays = list(np.broadcast_arrays(*arrays))
     sa, sb, la_tot, lb_tot = arrays[:4]
     s_known = (sa >= 0) & (sb >= 0)
     intercombination = s_known & (sa != sb)
