@@ -64,6 +64,21 @@ def unc(value) -> str:
     return format_uncertainty(value)
 
 
+#: the numeric columns of the web line tables, formatted column by column under the display policy
+LINE_DISPLAY_COLUMNS = ("vacuum_nm", "air_nm", "obs_nm", "ritz_nm", "obs_minus_ritz_nm", "wavenumber_cm1",
+                        "lower_cm1", "upper_cm1", "a_per_s", "f_abs", "line_strength_au", "unc_nm")
+
+
+def display_rows(rows, columns=LINE_DISPLAY_COLUMNS) -> list[dict]:
+    """Text of each row's numeric ``columns`` under the display policy, decided per column (one dict per row)."""
+    from collections.abc import Mapping
+
+    from levels.io.display import format_rows
+
+    plain_rows = [r if isinstance(r, Mapping) else {c: getattr(r, c, None) for c in columns} for r in rows]
+    return [dict(zip(columns, cells)) for cells in format_rows(plain_rows, list(columns))]
+
+
 def configuration(value) -> str:
     """A configuration with spaces between subshells and superscript occupancies (display only)."""
     from levels.notation import display_configuration
@@ -97,7 +112,8 @@ def init_app(app: Flask) -> None:
     """Register the helpers on ``app``'s Jinja environment."""
     app.jinja_env.filters.update(fixed=fixed, sci=sci, sig=sig, plain=plain, parity_word=parity_word, num=num, pm=pm,
                                  unc=unc, configuration=configuration)
-    app.jinja_env.globals.update(with_query=with_query, query_string=query_string, tool_version=__version__,
+    app.jinja_env.globals.update(display_rows=display_rows,
+                                 with_query=with_query, query_string=query_string, tool_version=__version__,
                                  all_multipoles=MULTIPOLE_CODES)
     app.jinja_env.autoescape = True
     app.jinja_env.trim_blocks = True
