@@ -1,4 +1,4 @@
-"""Generate the INVENTED demo sample 'ne-glow-3' (seed_data/demo/sample-ne-glow.csv).
+"""Generate the INVENTED demo sample 'neon glow tube' (seed_data/demo/sample-ne-glow.csv).
 
 Everything here is invented for the demo: the lab, the discharge tube, the
 ionization limit, the quantum defects, the Slater and spin-orbit parameters and
@@ -47,7 +47,7 @@ for n, l in CONFIGS:
             rows.append((value, config, f"2[{two_k}/2]{odd}", j, unc))
 
 print("# INVENTED DEMO DATA - not measurements of any real sample.")
-print("# Sample 'ne-glow-3': a neon glow-discharge tube of the fictional Brightwater Optics Lab; levels from")
+print("# Sample 'neon glow tube': a neon glow-discharge tube of the fictional Brightwater Optics Lab; levels from")
 print("# the project's own open-core-plus-one-electron model with invented parameters and invented noise")
 print("# (seed_data/demo/generate_ne_glow.py); jK (Racah) labels, parent term in the configuration.")
 print("# Caution: glow-discharge tubes run at high voltage; follow local electrical codes and licensed practice.")

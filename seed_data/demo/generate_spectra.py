@@ -1,7 +1,7 @@
 """Generate the INVENTED demo spectra of the spectrum-analysis commands (not measurements of anything).
 
-* ``frame-hd-lamp.csv``: a pixel frame of the invented HD-2 hydrogen-deuterium lamp
-  (lamp-hd-calibration.json) on the fictional Kestrel SP-300 spectrometer, for ``levels calibrate``;
+* ``frame-hd-lamp.csv``: a pixel frame of the invented hydrogen-deuterium lamp
+  (lamp-hd-calibration.json) on the fictional bench grating spectrometer, for ``levels calibrate``;
 * ``frame-h-arc.csv``: a pixel frame of an invented hydrogen arc 'arc-5' on the same spectrometer,
   for ``levels peaks --calibration`` and ``levels diagnose``.
 
@@ -72,8 +72,8 @@ p, y, unc = frame(
 )
 write(
     "frame-hd-lamp.csv",
-    "# INVENTED DEMO DATA - not a measurement. Pixel frame of the invented HD-2 lamp (lamp-hd-calibration.json)\n"
-    "# on the fictional Kestrel SP-300 spectrometer; made by seed_data/demo/generate_spectra.py.\n",
+    "# INVENTED DEMO DATA - not a measurement. Pixel frame of the invented hydrogen-deuterium lamp (lamp-hd-calibration.json)\n"
+    "# on the fictional bench grating spectrometer; made by seed_data/demo/generate_spectra.py.\n",
     p,
     y,
     unc,
@@ -87,7 +87,7 @@ p, y, unc = frame(a_nm, a_pow, width, 30000.0, 150.0, 3000.0, 1.008)
 write(
     "frame-h-arc.csv",
     "# INVENTED DEMO DATA - not a measurement. Pixel frame of the invented hydrogen arc 'arc-5' (Te 12000 K,\n"
-    "# ne 2e22 m-3, Tgas 3000 K, invented) on the fictional Kestrel SP-300;\n"
+    "# ne 2e22 m-3, Tgas 3000 K, invented) on the fictional bench grating spectrometer;\n"
     "# made by seed_data/demo/generate_spectra.py.\n",
     p,
     y,
