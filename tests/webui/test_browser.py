@@ -14,7 +14,7 @@ from pathlib import Path
 
 import pytest
 
-from levels.catalog import LINE_COLUMNS, Catalog, LineQuery
+from levels.catalog import LINE_COLUMNS, LINE_LIST_COLUMNS, Catalog, LineQuery
 from levels.store.schema import Level
 from webui import create_app
 
@@ -201,7 +201,9 @@ def test_download_a_line_list_and_read_its_header(page, site):
     assert comments[0].startswith("# tool: levels ")
     assert any(line.startswith("# query: lines Li I; window 600-700 nm air") for line in comments)
     rows = list(csv.reader(io.StringIO("\n".join(l for l in text.splitlines() if not l.startswith("#")))))
-    assert rows[0] == list(LINE_COLUMNS)
+    # the contract columns first, then the documented trailing columns (observed/Ritz, line name)
+    assert rows[0] == list(LINE_LIST_COLUMNS)
+    assert rows[0][:len(LINE_COLUMNS)] == list(LINE_COLUMNS)
     _, total = site["catalog"].line_rows(LineQuery(spectrum="Li I", from_nm=600, to_nm=700, medium="air"))
     assert len(rows) - 1 == total > 0
 
@@ -238,8 +240,9 @@ def test_emission_workbench_draws_the_spectrum_metrics_and_swatch(page, emission
     page.wait_for_url("**species=H+I**")
     plot = page.locator("#emission-plot[data-state=ready]")
     plot.wait_for()
-    # the figure is drawn: plotly put the spectrum trace and the line sticks into the SVG
-    assert page.locator("#emission-plot .scatterlayer .trace").count() == 2
+    # the figure is drawn: plotly put into the SVG the spectrum and line sticks of the model asked for,
+    # the same two of the other model beside it, and the departure coefficients of both models
+    assert page.locator("#emission-plot .scatterlayer .trace").count() == 6
     result = emission_site["catalog"].emission("H I", te_k=temperature_k("1eV"), ne_m3=1e19, tgas_k=600.0,
                                                from_nm=380.0, to_nm=700.0, medium="air",
                                                instrument_fwhm_nm=0.05, grid_points=4001)
