@@ -8,6 +8,7 @@ audit entry. Neither the CLI nor the web site talks to SQL or to each other.
 
 from __future__ import annotations
 
+import hashlib
 import json
 import math
 import os
@@ -26,6 +27,7 @@ from levels.errors import (
     PhysicsInputError,
     Problem,
     ReservedNameError,
+    StoreError,
 )
 from levels.io import records as level_io
 from levels.io.tables import read_delimited
@@ -149,6 +151,10 @@ class Catalog:
         """Refuse to work on an uninitialised or outdated store (checked once per Catalog, then remembered)."""
         if getattr(self, "_ready", False):
             return
+        missing = _missing_sqlite_file(self.url)
+        if missing is not None:  # connecting would leave an empty file behind
+            raise StoreError(f"no store file at {missing} (create one with 'levels init', "
+                             "or check --db / LEVELS_DB); nothing was created")
         database.require_current(self.engine)
         self._ready = True
 
@@ -314,6 +320,13 @@ class Catalog:
             for end in ("lower", "upper"):
                 if row[f"{end}_lifetime_s"] is None and row[f"{end}_id"] in computed:
                     row[f"{end}_lifetime_s"] = computed[row[f"{end}_id"]]
+        # which datasets a row draws on: its own (stored line) and its two levels' (not a column; for provenance)
+        names_by_id = {d.id: d.name for d in chosen}
+        level_set = {lv.id: names_by_id.get(lv.dataset_id, "") for lv in levels}
+        for row in rows:
+            row["source_datasets"] = tuple(dict.fromkeys(
+                n for n in (row.get("dataset"), level_set.get(row.get("lower_id")), level_set.get(row.get("upper_id")))
+                if n))
         if query.min_a is not None:
             rows = [r for r in rows if r["a_per_s"] is not None and r["a_per_s"] >= query.min_a]
         rows = _sort_rows(rows, query.order)
@@ -521,7 +534,8 @@ class Catalog:
                     kind: str = "measured", citation: str = "", description: str = "",
                     sample_conditions: Mapping[str, object] | None = None,
                     content: bytes | None = None, source: str | None = None,
-                    allow_off_ritz: str | None = None, max_derived_lines: int | None = None) -> ImportReport:
+                    allow_off_ritz: str | None = None, max_derived_lines: int | None = None,
+                    again: bool = False) -> ImportReport:
         """Import a levels file as a new dataset, all-or-nothing.
 
         The whole file is validated first; any problem raises
@@ -536,10 +550,16 @@ class Catalog:
             (recorded in the dataset's options and the audit log); without it they are refused.
         max_derived_lines : int, optional
             Most derived lines one species may imply (default :func:`default_max_derived_lines`).
+        again : bool
+            Import a file whose content (header and rows; comments and blank lines aside) is
+            already in the store once more under an automatic name; without it (and without an
+            explicit ``dataset`` name, which imports the copy with a warning) such a file is refused
+            (:class:`~levels.errors.AlreadyExistsError` naming the dataset that holds it).
         """
         name = source or Path(path).name
         raw = content if content is not None else path
         table = read_delimited(raw, source=name)
+        digest = table_content_sha256(table)
         kind_of_file = detect_file_kind(table.columns, name, table.header_line)
         if kind_of_file == "lines":
             line_records = level_io.validate_lines(
@@ -548,20 +568,21 @@ class Catalog:
             return self.import_line_records(line_records, source=name, sample=sample, dataset=dataset, kind=kind,
                                             citation=citation, description=description,
                                             sample_conditions=sample_conditions, allow_off_ritz=allow_off_ritz,
-                                            max_derived_lines=max_derived_lines)
+                                            max_derived_lines=max_derived_lines, content_sha256=digest, again=again)
         records = level_io.validate_levels(
             _checked_columns(table, level_io.LEVEL_COLUMNS, level_io.LEVEL_REQUIRED),
             source=name, default_dataset=dataset)
         del table  # the raw rows (about half a kilobyte per level) are not needed for the write
         return self.import_level_records(records, source=name, sample=sample, kind=kind, citation=citation,
                                          description=description, sample_conditions=sample_conditions,
-                                         max_derived_lines=max_derived_lines)
+                                         max_derived_lines=max_derived_lines, content_sha256=digest, again=again)
 
     def import_line_records(self, records: Sequence[level_io.LineRecord], *, source: str, sample: str | None = None,
                             dataset: str | None = None, kind: str = "measured", citation: str = "",
                             description: str = "", sample_conditions: Mapping[str, object] | None = None,
                             air_formula: str = "iau2000", allow_off_ritz: str | None = None,
-                            max_derived_lines: int | None = None) -> ImportReport:
+                            max_derived_lines: int | None = None, content_sha256: str | None = None,
+                            again: bool = False) -> ImportReport:
         """Write validated measured lines as one new dataset; labels resolve to stored levels.
 
         Each line is checked against its levels (selection rules of its multipole, Ritz
@@ -578,6 +599,7 @@ class Catalog:
         warnings: list[str] = []
 
         def work(session: Session) -> ImportReport:
+            _refuse_same_content(session, content_sha256, again, source, warnings, named=bool(dataset))
             name = dataset or _free_dataset_name(session, source, sample, kind, warnings)
             sample_row = None
             if sample:
@@ -585,7 +607,7 @@ class Catalog:
             ds = queries.create_dataset(session, name=name, kind=kind, citation=citation, author=self.actor,
                                         description=description or f"lines imported from {source}",
                                         method="file import", sample=sample_row,
-                                        options={"air_formula": air_formula})
+                                        options={"air_formula": air_formula}, content_sha256=content_sha256)
             checked: dict = {}
             count = lab.store_measured_lines(session, records, ds.id, source, air_formula,
                                              allow_off_ritz=allow_off_ritz, report=checked)
@@ -748,7 +770,8 @@ class Catalog:
                              sample: str | None = None, kind: str = "measured", citation: str = "",
                              description: str = "",
                              sample_conditions: Mapping[str, object] | None = None,
-                             max_derived_lines: int | None = None) -> ImportReport:
+                             max_derived_lines: int | None = None, content_sha256: str | None = None,
+                             again: bool = False) -> ImportReport:
         """Write validated level records as one new dataset (one transaction)."""
         if kind not in ("measured", "imported"):
             raise ValueError("imports make measured or imported datasets")
@@ -757,16 +780,18 @@ class Catalog:
         explicit_name = records[0].dataset
         if explicit_name:
             _refuse_reserved(explicit_name, source, records[0].line, "dataset")
+        _precheck_derived_lines(records, source, max_derived_lines)
         warnings: list[str] = []
 
         def work(session: Session) -> ImportReport:
+            _refuse_same_content(session, content_sha256, again, source, warnings, named=bool(explicit_name))
             dataset_name = explicit_name or _free_dataset_name(session, source, sample, kind, warnings)
             sample_row = None
             if sample:
                 sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
             ds = queries.create_dataset(session, name=dataset_name, kind=kind, citation=citation,
                                         author=self.actor, description=description or f"imported from {source}",
-                                        method="file import", sample=sample_row)
+                                        method="file import", sample=sample_row, content_sha256=content_sha256)
             species_ids, n_levels = _insert_level_records(session, records, ds.id)
             derived = sum(_rebuild_derived_lines(session, species_ids, self.actor, max_lines=max_derived_lines,
                                                  source=source).values())
@@ -890,12 +915,7 @@ def _store_derived_lines(session: Session, species: Species, actor: str, *, max_
     limit = default_max_derived_lines() if max_lines is None else max_lines
     bound = selection.count_candidate_pairs(levels["two_j"], levels["parity"], ("E1",))
     if bound > limit:
-        where = f"{source}: " if source else ""
-        raise TooLargeError(
-            f"{where}the {levels['id'].size:,} levels of {species.name} imply up to {bound:,} derived E1 lines "
-            f"(Ritz combinations), above the limit of {limit:,} (about {bound * 250 / 1e9:.1f} GB of store); "
-            f"to store them, pass --max-derived-lines {bound} to 'levels import' (or set {MAX_DERIVED_ENV}="
-            f"{bound} for every command that rebuilds them); nothing was written")
+        raise TooLargeError(_too_many_lines(source, int(levels["id"].size), species.name, bound, limit))
     computed = queries.stored_pair_keys(session, species.id, chosen, "E1", observed=False)
     observed = queries.stored_pair_keys(session, species.id, chosen, "E1", observed=True)
     ids = levels["id"]
@@ -929,6 +949,35 @@ def _store_derived_lines(session: Session, species: Species, actor: str, *, max_
         queries.insert_line_columns(session, columns, 0, n)
         count += n
     return count
+
+
+def _too_many_lines(source: str | None, n_levels: int, species_name: str, bound: int, limit: int) -> str:
+    where = f"{source}: " if source else ""
+    return (f"{where}the {n_levels:,} levels of {species_name} imply up to {bound:,} derived E1 lines "
+            f"(Ritz combinations), above the limit of {limit:,} (about {bound * 250 / 1e9:.1f} GB of store); "
+            f"to store them, pass --max-derived-lines {bound} to 'levels import' (or set {MAX_DERIVED_ENV}="
+            f"{bound} for every command that rebuilds them); nothing was written")
+
+
+def _precheck_derived_lines(records: Sequence[level_io.LevelRecord], source: str, max_lines: int | None) -> None:
+    """Refuse before writing when a file's own levels of one species already imply too many derived lines.
+
+    The stored levels can only add pairs, so this is a lower bound of what the rebuild would
+    refuse; it spares writing (and rolling back) a million levels first.
+    """
+    from levels.errors import TooLargeError
+    from levels.physics import selection
+
+    limit = default_max_derived_lines() if max_lines is None else max_lines
+    by_species: dict[Spectrum, list[tuple[int, int]]] = {}
+    for rec in records:
+        if rec.two_j is not None:
+            by_species.setdefault(rec.spectrum, []).append((rec.two_j, rec.parity))
+    for spectrum, pairs in by_species.items():
+        columns = np.array(pairs, dtype=np.int64)
+        bound = selection.count_candidate_pairs(columns[:, 0], columns[:, 1], ("E1",))
+        if bound > limit:
+            raise TooLargeError(_too_many_lines(source, len(pairs), spectrum.name, bound, limit))
 
 
 def _sorted_member(keys: np.ndarray, sorted_keys: np.ndarray) -> np.ndarray:
@@ -1242,15 +1291,64 @@ def _record_off_ritz(ds: Dataset, reason: str | None, checked: Mapping, warnings
                         f"wavenumber accepted ({reason}); each carries a note")
 
 
+def _missing_sqlite_file(url: str) -> str | None:
+    """The path of a SQLite store file that does not exist (None for other stores or an existing file)."""
+    from sqlalchemy.engine import make_url
+
+    parsed = make_url(url)
+    name = parsed.database
+    if parsed.get_backend_name() != "sqlite" or name in (None, "", ":memory:") or name.startswith("file:"):
+        return None
+    return None if Path(name).exists() else name
+
+
+def table_content_sha256(table) -> str:
+    """SHA-256 (hex) of a read table's content: its columns and rows in order, without
+    comments, blank lines or line numbers, so a copy of a file with other comments or
+    line ends has the same digest."""
+    digest = hashlib.sha256(json.dumps(list(table.columns), ensure_ascii=False).encode("utf-8"))
+    for _, row in table.rows:
+        digest.update(b"\n")
+        digest.update(json.dumps([row.get(c, "") for c in table.columns], ensure_ascii=False).encode("utf-8"))
+    return digest.hexdigest()
+
+
+def _refuse_same_content(session: Session, content_sha256: str | None, again: bool, source: str,
+                         warnings: list[str], named: bool = False) -> None:
+    """Refuse a file whose content a dataset already holds, unless ``again`` or the new dataset is
+    ``named`` explicitly (a deliberate second copy under a chosen name); then note it."""
+    if content_sha256 is None:
+        return
+    earlier = queries.datasets_with_content(session, content_sha256)
+    if not earlier:
+        return
+    names = ", ".join(repr(ds.name) for ds in earlier)
+    if named and not again:
+        warnings.append(f"{source}: the same content is already in the store as dataset {names}; imported "
+                        "under the name given")
+        return
+    if not again:
+        raise AlreadyExistsError(f"{source}: the same content was already imported as dataset {names}; "
+                                 "nothing was written (import it once more with --again)")
+    warnings.append(f"{source}: the same content was already imported as dataset {names}; imported again "
+                    "as asked")
+
+
 def _refuse_reserved(name: str, source: str, line: int | None, field_name: str) -> None:
     """Raise :class:`ReservedNameError` naming ``field_name`` when a user dataset name has a reserved form."""
     if queries.is_reserved_dataset_name(name):
         raise ReservedNameError([Problem(source, line, field_name, queries.reserved_name_message(name))])
+    problem = queries.dataset_name_problem(name)
+    if problem is not None:
+        raise InputFileError([Problem(source, line, field_name, f"dataset name {name!r} {problem}")])
 
 
 def _free_dataset_name(session: Session, source: str, sample: str | None, kind: str = "measured",
                        warnings: list[str] | None = None) -> str:
-    """``sample/file-stem``, with ``#2``, ``#3`` ... appended when taken.
+    """``sample/file-stem``, with `` (2)``, `` (3)`` ... appended when taken.
+
+    The name is made plain first (:func:`levels.store.queries.plain_dataset_name`): no
+    ``#``, no leading formula character, no control character.
 
     A file stem of a reserved form (``derived lines Na I A=23.csv``) is prefixed by the
     dataset's kind (``measured derived lines Na I A=23``), with a warning: the name was
@@ -1263,9 +1361,9 @@ def _free_dataset_name(session: Session, source: str, sample: str | None, kind: 
             warnings.append(f"{source}: the file name {stem!r} has the form of a computed dataset's name; "
                             f"the dataset is named {renamed!r} (give --dataset to choose another)")
         stem = renamed
-    base = f"{sample + '/' if sample else ''}{stem}"
+    base = queries.plain_dataset_name(f"{sample + '/' if sample else ''}{stem}")
     name, number = base, 1
     while queries.find_dataset(session, name) is not None:
         number += 1
-        name = f"{base}#{number}"
+        name = queries.numbered_dataset_name(base, number)
     return name

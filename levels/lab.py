@@ -413,7 +413,9 @@ def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict],
             row = candidates[i]
             out.append({"peak_nm": peak.peak_nm, "medium": peak.medium, "rank": rank, "spectrum": row["spectrum"],
                         "lower": row["lower"], "upper": row["upper"], "line_nm": float(values[i]),
-                        "delta_nm": float(delta[k]), "a_per_s": row["a_per_s"], "note": note})
+                        "delta_nm": float(delta[k]), "a_per_s": row["a_per_s"], "note": note,
+                        # not a column of the report: names the dataset in the export's provenance
+                        "dataset": row.get("dataset")})
     return out
 
 

@@ -111,6 +111,7 @@ COLUMNS: dict[str, dict[str, Column]] = {
         "citation": _text(None, multiline=True), "author": _text(200), "description": _text(None, multiline=True),
         "options_json": _text(None, multiline=True), "created_at": _WHEN, "sample_id": _FK_NULL,
         "retracted": _int(0, 1), "role": _text(32), "owner_species_id": _FK_NULL,
+        "content_sha256": _text(64),
     },
     "levels": {
         "id": _ID, "dataset_id": _FK, "species_id": _FK, "label": _text(200), "configuration": _text(200),
@@ -244,8 +245,8 @@ def row_problems(table: str, row: Mapping[str, object]) -> list[tuple[str, str]]
     return out
 
 
-#: room left for the ``#2``, ``#3`` ... the catalog appends to a taken automatic dataset name
-NAME_SUFFIX_ROOM = 4
+#: room left for the `` (2)``, `` (3)`` ... the catalog appends to a taken automatic dataset name
+NAME_SUFFIX_ROOM = 6
 
 
 def automatic_dataset_name_problem(sample: str | None, file_name: str) -> str | None:

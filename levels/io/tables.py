@@ -29,6 +29,8 @@ from collections.abc import Iterable, Mapping, Sequence
 from dataclasses import dataclass
 from pathlib import Path
 
+import scipy.constants as _sc
+
 from levels.errors import InputFileError, LevelsError, Problem
 
 MAX_LINE_BYTES = 1 << 20
@@ -251,6 +253,87 @@ def _check_header(name: str, line: int, header: list[str], known: Sequence[str] 
 
 # ----------------------------------------------------------------- writing
 
+#: the atomic unit of line strength, (e a0)^2, in C2 m2 (CODATA via scipy.constants): an ECSV unit
+#: string astropy parses (a scaled unit), where a spelling like "e2 a0^2" is not a unit it knows
+LINE_STRENGTH_UNIT = f"{(_sc.e * _sc.physical_constants['Bohr radius'][0]) ** 2!r} C2 m2"
+
+_CM1, _NM = "cm-1", "nm"
+
+#: the column contract (design section 3): every column of every export, its type and its unit,
+#: fixed whatever the rows hold, so that an export whose rows happen to leave a column empty has
+#: the same types as any other (CSV cells, JSON values, ECSV ``datatype``/``unit``).
+#: Types: ``string``, ``int64`` (a count or a quantum number; empty when unknown), ``float64``.
+COLUMN_CONTRACT: dict[str, tuple[str, str | None]] = {
+    # texts
+    **{name: ("string", None) for name in (
+        "spectrum", "lower", "upper", "multipole", "dataset", "datasets", "label", "configuration", "term", "j",
+        "medium", "note", "flag", "pattern", "name", "created_at", "method", "kind", "description", "gas_fill",
+        "instrument", "sample", "citation", "line_name", "weighting")},
+    # integers
+    **{name: ("int64", None) for name in (
+        "z", "charge", "mass_number", "levels", "lines", "g", "n", "l", "parity", "g_lower", "g_upper", "rank",
+        "n_lines", "n_used", "id", "members")},
+    # wavenumbers and energies
+    **{name: ("float64", _CM1) for name in (
+        "lower_cm1", "upper_cm1", "wavenumber_cm1", "energy_cm1", "unc_cm1", "ionization_cm1",
+        "ionization_unc_cm1", "residual_cm1", "stored_cm1", "limit_cm1", "limit_unc_cm1")},
+    # wavelengths
+    **{name: ("float64", _NM) for name in (
+        "vacuum_nm", "air_nm", "unc_nm", "obs_nm", "ritz_nm", "obs_minus_ritz_nm", "peak_nm", "peak_unc_nm",
+        "fwhm_nm", "fwhm_unc_nm", "line_nm", "delta_nm", "wavelength_nm", "observed_nm")},
+    # rates and the rest
+    "a_per_s": ("float64", "s-1"), "lifetime_s": ("float64", "s"), "line_strength_au": ("float64", LINE_STRENGTH_UNIT),
+    **{name: ("float64", None) for name in (
+        "f_abs", "gf", "lande_g", "rel_intensity", "photon_share", "a_rel_unc", "lifetime_rel_unc", "area", "area_unc",
+        "snr", "intensity", "intensity_unc")},
+    "pressure_pa": ("float64", "Pa"), "current_a": ("float64", "A"), "te_k": ("float64", "K"),
+    "tgas_k": ("float64", "K"), "ne_m3": ("float64", "m-3"), "path_length_m": ("float64", "m"),
+}
+
+
+def column_type(column: str) -> str | None:
+    """The contract type of an export column (``string``, ``int64``, ``float64``), or None if not in it.
+
+    Examples
+    --------
+    >>> column_type("unc_nm"), column_type("g_upper"), column_type("dataset"), column_type("nonsense")
+    ('float64', 'int64', 'string', None)
+    """
+    entry = COLUMN_CONTRACT.get(column)
+    return entry[0] if entry else None
+
+
+def column_unit(column: str, given: Mapping[str, str] | None = None) -> str | None:
+    """The unit of an export column: the contract's, else the caller's (``given``)."""
+    if column in COLUMN_CONTRACT:
+        return COLUMN_CONTRACT[column][1]
+    return (given or {}).get(column) or None
+
+
+def contract_value(value, dtype: str | None):
+    """A cell value as its contract type: None for missing/NaN, int for ``int64``, float for ``float64``.
+
+    A value that does not convert is returned as it is (the writer never hides data).
+
+    Examples
+    --------
+    >>> contract_value(13000, "float64"), contract_value(2.0, "int64"), contract_value(float("nan"), "float64")
+    (13000.0, 2, None)
+    """
+    if hasattr(value, "item") and not isinstance(value, (str, bytes)):
+        value = value.item()
+    if value is None or (isinstance(value, float) and math.isnan(value)):
+        return None
+    if dtype == "float64" and isinstance(value, (int, float)) and not isinstance(value, bool):
+        return float(value)
+    if (dtype == "int64" and isinstance(value, (int, float)) and not isinstance(value, bool)
+            and float(value).is_integer()):
+        return int(value)
+    if dtype == "string" and not isinstance(value, str):
+        return str(value)
+    return value
+
+
 def _cell(value) -> str:
     if value is None:
         return ""
@@ -275,8 +358,13 @@ def provenance_lines(provenance: Mapping[str, object]) -> list[str]:
 
 
 def format_table(rows: Iterable[Mapping[str, object]], columns: Sequence[str], fmt: str,
-                 provenance: Mapping[str, object], units: Mapping[str, str] | None = None) -> str:
+                 provenance: Mapping[str, object], units: Mapping[str, str] | None = None,
+                 rows_key: str | Sequence[str] = "rows") -> str:
     """Render rows in CSV, JSON or ECSV with the provenance header.
+
+    Every column of the contract (:data:`COLUMN_CONTRACT`) is written with its
+    contract type and unit whatever the rows hold (integers as integers, floats
+    as floats, a column empty in every row keeps its numeric type in ECSV).
 
     Parameters
     ----------
@@ -289,9 +377,13 @@ def format_table(rows: Iterable[Mapping[str, object]], columns: Sequence[str], f
         Tool version, store, datasets, query, air formula ...: written as ``#``
         lines (CSV), a ``provenance`` object (JSON) or ECSV ``meta``.
     units : mapping, optional
-        Unit per column, written into the ECSV header.
+        Unit per column not in the contract, written into the ECSV header.
+    rows_key : str or sequence of str
+        Key of the rows in JSON (``"lines"`` for line lists, as in the emission report); with
+        several keys the same rows appear under each (an old key kept as an alias).
     """
     rows = list(rows)
+    types = [column_type(c) for c in columns]
     if fmt == "csv":
         out = io.StringIO()
         for line in provenance_lines(provenance):
@@ -299,14 +391,13 @@ def format_table(rows: Iterable[Mapping[str, object]], columns: Sequence[str], f
         writer = csv.writer(out, lineterminator="\n")
         writer.writerow(columns)
         for row in rows:
-            writer.writerow([_cell(row.get(c)) for c in columns])
+            writer.writerow([_cell(contract_value(row.get(c), t)) for c, t in zip(columns, types)])
         return out.getvalue()
     if fmt == "json":
-        payload = {
-            "provenance": {k: _json_value(v) for k, v in provenance.items()},
-            "columns": list(columns),
-            "rows": [{c: _json_value(row.get(c)) for c in columns} for row in rows],
-        }
+        listed = [{c: _json_value(contract_value(row.get(c), t)) for c, t in zip(columns, types)} for row in rows]
+        keys = (rows_key,) if isinstance(rows_key, str) else tuple(rows_key)
+        payload = {"provenance": {k: _json_value(v) for k, v in provenance.items()}, "columns": list(columns),
+                   **{key: listed for key in keys}}
         return json.dumps(payload, ensure_ascii=False, indent=1) + "\n"
     if fmt == "ecsv":
         return _format_ecsv(rows, columns, provenance, units or {})
@@ -332,9 +423,10 @@ def _format_ecsv(rows: list, columns: Sequence[str], provenance: Mapping[str, ob
                  units: Mapping[str, str]) -> str:
     out = io.StringIO()
     out.write("# %ECSV 1.0\n# ---\n# delimiter: ','\n# datatype:\n")
-    for col in columns:
-        dtype = _ecsv_type([row.get(col) for row in rows])
-        unit = units.get(col)
+    types = [column_type(c) for c in columns]
+    for col, contract in zip(columns, types):
+        dtype = contract or _ecsv_type([row.get(col) for row in rows])
+        unit = column_unit(col, units)
         entry = f"# - {{name: {col}, datatype: {dtype}"
         if unit:
             entry += f", unit: {_yaml_scalar(unit)}"
@@ -345,7 +437,7 @@ def _format_ecsv(rows: list, columns: Sequence[str], provenance: Mapping[str, ob
     writer = csv.writer(out, lineterminator="\n")
     writer.writerow(columns)
     for row in rows:
-        writer.writerow([_cell(row.get(c)) for c in columns])
+        writer.writerow([_cell(contract_value(row.get(c), t)) for c, t in zip(columns, types)])
     return out.getvalue()
 
 

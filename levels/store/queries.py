@@ -17,7 +17,14 @@ import numpy as np
 from sqlalchemy import delete, func, insert, select
 from sqlalchemy.orm import Session
 
-from levels.errors import AlreadyExistsError, DatasetInUseError, NotFoundError, Problem, ReservedNameError
+from levels.errors import (
+    AlreadyExistsError,
+    DatasetInUseError,
+    InputFileError,
+    NotFoundError,
+    Problem,
+    ReservedNameError,
+)
 from levels.isotopes import default_isotope, isotope
 from levels.notation import Spectrum
 from levels.store.schema import (
@@ -77,6 +84,16 @@ def require_species(session: Session, spectrum: Spectrum) -> Species:
     """Like :func:`find_species` but raise :class:`NotFoundError`."""
     species = find_species(session, spectrum)
     if species is None:
+        others = session.scalars(select(Species).where(Species.z == spectrum.z, Species.charge == spectrum.charge)
+                                 .order_by(Species.mass_number)).all()
+        if others:
+            stored = ", ".join(f"A = {s.mass_number}" for s in others)
+            ask = Spectrum(spectrum.z, spectrum.charge).name
+            wanted = (f"with mass number {spectrum.mass_number}" if spectrum.mass_number is not None
+                      else "without a mass number (several isotopes, none the most abundant)")
+            example = Spectrum(spectrum.z, spectrum.charge, others[0].mass_number).isotope_name
+            raise NotFoundError(f"no {ask} {wanted} in the store; stored isotopes of {ask}: {stored} "
+                                f"(name one, e.g. '{example}')")
         raise NotFoundError(f"no species {spectrum.isotope_name} in the store")
     return species
 
@@ -108,6 +125,12 @@ def find_dataset(session: Session, name: str) -> Dataset | None:
     return session.scalars(select(Dataset).where(Dataset.name == name)).one_or_none()
 
 
+def datasets_with_content(session: Session, content_sha256: str) -> list[Dataset]:
+    """Datasets made from a file of this content (SHA-256 hex), oldest first."""
+    return list(session.scalars(select(Dataset).where(Dataset.content_sha256 == content_sha256)
+                                .order_by(Dataset.id)))
+
+
 def require_dataset(session: Session, name_or_id: str | int) -> Dataset:
     """A dataset by name or numeric id, or :class:`NotFoundError`."""
     dataset = None
@@ -123,7 +146,8 @@ def require_dataset(session: Session, name_or_id: str | int) -> Dataset:
 def create_dataset(session: Session, *, name: str, kind: str, method: str = "", method_version: str = "",
                    citation: str = "", author: str | None = None, description: str = "",
                    options: dict | None = None, sample: Sample | None = None,
-                   role: str | None = None, owner_species_id: int | None = None) -> Dataset:
+                   role: str | None = None, owner_species_id: int | None = None,
+                   content_sha256: str | None = None) -> Dataset:
     """Add a dataset; its name must be new.
 
     A user dataset (``role`` None) may not take a reserved name
@@ -132,6 +156,9 @@ def create_dataset(session: Session, *, name: str, kind: str, method: str = "", 
     """
     if role is None and is_reserved_dataset_name(name):
         raise ReservedNameError([Problem("<store>", None, "name", reserved_name_message(name))])
+    problem = dataset_name_problem(name)
+    if problem is not None:
+        raise InputFileError([Problem("<store>", None, "name", f"dataset name {name!r} {problem}")])
     if role is not None and role not in COMPUTED_ROLES:
         raise ValueError(f"unknown computed-dataset role {role!r}; known: {', '.join(COMPUTED_ROLES)}")
     if find_dataset(session, name) is not None:
@@ -139,7 +166,8 @@ def create_dataset(session: Session, *, name: str, kind: str, method: str = "", 
     dataset = Dataset(name=name, kind=kind, method=method, method_version=method_version, citation=citation,
                       author=author or current_actor(), description=description,
                       options_json=json.dumps(options or {}, sort_keys=True), created_at=utcnow(),
-                      sample=sample, retracted=0, role=role, owner_species_id=owner_species_id)
+                      sample=sample, retracted=0, role=role, owner_species_id=owner_species_id,
+                      content_sha256=content_sha256)
     session.add(dataset)
     session.flush()
     return dataset
@@ -167,6 +195,67 @@ def is_reserved_dataset_name(name: str) -> bool:
     """
     text = " ".join(unicodedata.normalize("NFKC", str(name)).split())
     return bool(RESERVED_NAME_PATTERN.match(text))
+
+
+#: characters a dataset name may not start with: spreadsheets run a cell starting with these as a formula
+FORMULA_STARTS = ("=", "+", "-", "@")
+
+
+def dataset_name_problem(name: str) -> str | None:
+    """Why ``name`` cannot name a dataset, or None.
+
+    A dataset name travels into every export's ``dataset`` column, so it may not
+    hold what common readers treat specially: ``#`` (a comment to
+    ``pandas.read_csv(comment="#")``, the reader the exports' header calls for),
+    a leading ``=``, ``+``, ``-`` or ``@`` (a formula to spreadsheets), line
+    breaks or other control characters, nor white space at either end.
+
+    Examples
+    --------
+    >>> dataset_name_problem("k-cell/k-cell-A (2)") is None
+    True
+    >>> dataset_name_problem("k-cell#2")
+    "contains '#', which CSV readers treat as the start of a comment; use a plain form such as 'k-cell (2)'"
+    >>> dataset_name_problem("=1+1")
+    "starts with '=', which spreadsheets run as a formula"
+    """
+    text = str(name)
+    if not text.strip():
+        return "is empty"
+    if text != text.strip():
+        return "starts or ends with white space"
+    if "#" in text:
+        return ("contains '#', which CSV readers treat as the start of a comment; "
+                f"use a plain form such as {plain_dataset_name(text)!r}")
+    if any(unicodedata.category(c) in ("Cc", "Zl", "Zp") for c in text):
+        return "contains a line break or another control character"
+    if text[0] in FORMULA_STARTS:
+        return f"starts with {text[0]!r}, which spreadsheets run as a formula"
+    return None
+
+
+def plain_dataset_name(text: str) -> str:
+    """``text`` made into an acceptable dataset name (see :func:`dataset_name_problem`).
+
+    A trailing ``#<n>`` (the numbering of old stores) becomes `` (<n>)``, any other
+    ``#`` and every control character a space, runs of white space one space, and
+    leading formula characters are dropped.
+
+    Examples
+    --------
+    >>> plain_dataset_name("k-cell/k-cell-A#2"), plain_dataset_name("=run#1 x"), plain_dataset_name("@@")
+    ('k-cell/k-cell-A (2)', 'run 1 x', 'dataset')
+    """
+    text = re.sub(r"\s*#\s*(\d+)\s*$", r" (\1)", str(text))
+    text = "".join(" " if c == "#" or unicodedata.category(c) in ("Cc", "Zl", "Zp") else c for c in text)
+    text = " ".join(text.split())
+    text = text.lstrip("".join(FORMULA_STARTS) + " ")
+    return text or "dataset"
+
+
+def numbered_dataset_name(base: str, number: int) -> str:
+    """The plain numbering form for the ``number``-th dataset of one name: ``base (2)``."""
+    return f"{base} ({number})"
 
 
 def reserved_name_message(name: str) -> str:

@@ -142,6 +142,9 @@ class Dataset(Base):
     #: species it belongs to; NULL for user data, which no rebuild ever touches
     role: Mapped[Optional[str]] = mapped_column(String(32))
     owner_species_id: Mapped[Optional[int]] = mapped_column(ForeignKey("species.id", ondelete="RESTRICT"))
+    #: for an imported file: SHA-256 of its content (header and rows as read), so the same file is
+    #: recognised when it is imported again; NULL for data that did not come from one file
+    content_sha256: Mapped[Optional[str]] = mapped_column(String(64))
 
     sample: Mapped[Optional[Sample]] = relationship(back_populates="datasets")
     levels: Mapped[list["Level"]] = relationship(back_populates="dataset")

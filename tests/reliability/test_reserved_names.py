@@ -102,7 +102,7 @@ def test_user_data_under_reserved_file_names_survives_every_rebuild(catalog, tmp
     cross = catalog.import_file(_file(tmp_path, "derived lines Na I A=23 (li).csv", LEVEL_HEADER, LI),
                                 dataset="li cell")
     lines = catalog.import_file(_file(tmp_path, "derived lines Na I A=23.csv", LINE_HEADER, NA_LINE))
-    assert lines.dataset == "measured derived lines Na I A=23#2"
+    assert lines.dataset == "measured derived lines Na I A=23 (2)"
     before = _user_rows(catalog)
     assert len(before["levels"]) == 7 + 3 * 7 + 2 + 4 and len(before["lines"]) == 1
 

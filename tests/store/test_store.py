@@ -73,8 +73,8 @@ def test_import_derives_the_e1_lines_of_the_new_levels(catalog):
 
 def test_second_import_gets_a_new_dataset_name_and_explicit_clash_is_refused(catalog):
     catalog.import_file(DEMO, sample="s")
-    second = catalog.import_file(DEMO, sample="s")
-    assert second.dataset == "s/sample-li-cell#2"
+    second = catalog.import_file(DEMO, sample="s", again=True)
+    assert second.dataset == "s/sample-li-cell (2)"
     with pytest.raises(AlreadyExistsError, match="already exists"):
         catalog.import_file(DEMO, dataset="s/sample-li-cell")
 
