@@ -629,8 +629,10 @@ class Catalog:
                        sample: str | None = None, kind: str = "measured", citation: str = "",
                        description: str = "", air_formula: str = "iau2000",
                        line_source: str | None = None, allow_off_ritz: str | None = None,
-                       max_derived_lines: int | None = None) -> ImportReport:
+                       max_derived_lines: int | None = None, method: str = "file import") -> ImportReport:
         """One new dataset with levels and/or measured lines, in one transaction.
+
+        ``method`` says how the data came in (``"file import"``; the JSON API records its own).
 
         Line labels resolve against the store's levels with the new levels first
         (the new dataset is the newest measured one), so a body may carry a
@@ -647,7 +649,7 @@ class Catalog:
         def work(session: Session) -> ImportReport:
             sample_row = queries.get_or_create_sample(session, sample) if sample else None
             ds = queries.create_dataset(session, name=name, kind=kind, citation=citation, author=self.actor,
-                                        description=description or f"imported from {source}", method="file import",
+                                        description=description or f"imported from {source}", method=method,
                                         sample=sample_row, options={"air_formula": air_formula})
             species_ids, n_levels = _insert_level_records(session, level_records, ds.id)
             checked: dict = {}

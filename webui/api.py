@@ -36,6 +36,18 @@ DATASET_KEYS = {"name", "kind", "sample", "citation", "description", "levels", "
 LEVEL_KEYS = set(LEVEL_FIELDS) - {"dataset"}
 LINE_KEYS = set(LINE_FILE_COLUMNS)
 LINES_SOURCE = "<api lines>"
+#: the method a dataset posted to the API records (not "file import": no file was read)
+API_METHOD = "JSON API (POST /api/v1/datasets)"
+
+
+@bp.after_app_request
+def _allow_header(response):
+    """A 405 answer names the methods the path does take (RFC 9110, 15.5.6), on every page and API path."""
+    if response.status_code == 405 and "Allow" not in response.headers:
+        methods = current_app.url_map.bind_to_environ(request.environ).allowed_methods(request.path)
+        if methods:
+            response.headers["Allow"] = ", ".join(sorted(methods))
+    return response
 
 
 def error(status: int, code: str, message: str, field: str | None = None, problems: list | None = None,
@@ -257,7 +269,8 @@ def create_dataset():
         report = cat.import_dataset(records, line_records, name=name, source=API_SOURCE, line_source=LINES_SOURCE,
                                     sample=sample, kind=kind,
                                     citation=body.get("citation") or "",
-                                    description=body.get("description") or "posted through the API")
+                                    description=body.get("description") or "posted through the API",
+                                    method=API_METHOD)
     except AlreadyExistsError as exc:
         return error(409, "already_exists", str(exc), "name")
     except InputFileError as exc:
