@@ -114,7 +114,7 @@ def _quantity(value: Any, name: str, unit: u.UnitBase, dimension: str, *, equiva
             raise UnitError(f"{name}: give one value, not an array")
         result = float(converted)
     elif isinstance(value, str) and dimension in _BASE_UNITS:
-        base = parse_quantity(value, dimension)
+        base = parse_quantity(value, "frequency" if dimension == "rate" else dimension)
         result = float((base * _BASE_UNITS[dimension]).to_value(unit, equivalencies=equivalencies or []))
     else:
         raise UnitError(f"{name}: give a quantity with a unit, e.g. an astropy Quantity or text like "
@@ -124,9 +124,11 @@ def _quantity(value: Any, name: str, unit: u.UnitBase, dimension: str, *, equiva
     return result
 
 
-_EXAMPLES = {"length": "460nm", "energy": "5eV", "temperature": "1.2eV", "density": "1e18m-3"}
-#: SI base unit in which levels.units.parse_quantity returns each dimension
-_BASE_UNITS = {"length": u.m, "energy": u.J, "temperature": u.K, "density": u.m ** -3}
+_EXAMPLES = {"length": "460nm", "energy": "5eV", "temperature": "1.2eV", "density": "1e18m-3",
+             "pressure": "1000Pa", "rate": "1e3Hz"}
+#: SI base unit in which levels.units.parse_quantity returns each dimension ("rate" is read as a frequency)
+_BASE_UNITS = {"length": u.m, "energy": u.J, "temperature": u.K, "density": u.m ** -3, "pressure": u.Pa,
+               "rate": u.s ** -1}
 
 
 def _wavelength_nm(value: Any, name: str) -> float | None:
@@ -247,8 +249,9 @@ class EmissionReport:
     lines : QTable
         Line rows of the window with ``rel_intensity`` and ``photon_share`` (dimensionless).
     spectrum : QTable
-        The sampled synthetic spectrum: ``wavelength`` (nm, in ``medium``) and
-        ``spectral_radiance`` (W m-3 sr-1 nm-1).
+        The sampled synthetic spectrum: ``wavelength`` (nm, in ``medium``) and either
+        ``emission_coefficient`` (W m-3 sr-1 nm-1, optically thin) or ``spectral_radiance``
+        (W m-2 sr-1 nm-1, through a slab of the given path length).
     metrics : dict
         Lamp metrics (CIE 1931 x, y; CIE 1976 u', v'; CCT in K and Duv or None; efficacy in lm/W;
         UV-C, UV-B, UV-A, visible and IR power shares).
@@ -263,6 +266,12 @@ class EmissionReport:
     metrics: dict
     conditions: dict
     warnings: list[str] = field(default_factory=list)
+    #: "lte" or "cr"
+    model: str = "lte"
+    #: per level: label, energy_cm1, population_rel (per ground-state population), departure (over Boltzmann)
+    populations: list[dict] = field(default_factory=list)
+    #: the LTE criterion (McWhirter 1965): lte_min_ne_m3 and lte_holds
+    validity: dict = field(default_factory=dict)
 
 
 @dataclass
@@ -562,7 +571,9 @@ class Store:
     def emission(self, spectrum: str, *, te: Any, ne: Any, tgas: Any = "300K", window: Any = None,
                  medium: str = "air", instrument_fwhm: Any = None, path_length: Any = None,
                  element_density: Any = None, cutoff: str = "debye", datasets: Sequence[str] | None = None,
-                 points: int = 20001) -> EmissionReport:
+                 points: int | None = None, model: str = "lte", loss_rate: Any = None, geometry: str = "slab",
+                 broadening: str = "thermal", perturber: str | None = None, pressure: Any = None,
+                 forbidden_omega: float | None = None) -> EmissionReport:
         """Predicted emission of a species in a discharge (``levels emission``).
 
         Populations follow Boltzmann at the electron temperature and Saha with the
@@ -592,8 +603,22 @@ class Store:
             Partition-function cutoff.
         datasets : sequence of str, optional
             Datasets in order of precedence.
-        points : int
-            Points of the sampled spectrum.
+        points : int, optional
+            Points of the sampled spectrum (default: a step of a fifth of the narrowest line width).
+        model : {"lte", "cr"}
+            Populations from local thermodynamic equilibrium or from the collisional-radiative balance.
+        loss_rate : str or Quantity, optional
+            Wall/diffusion loss rate of metastable levels (``"1e3 s-1"``), collisional-radiative model.
+        geometry : {"slab", "cylinder"}
+            Shape of the emitting volume for the escape factors (``path_length`` is its depth or diameter).
+        broadening : str
+            Line broadening beyond Doppler and natural widths (as ``levels emission --broadening``).
+        perturber : str, optional
+            Buffer gas for van der Waals broadening (``"Ar"``).
+        pressure : str or Quantity, optional
+            Its pressure (``"1000Pa"``, ``1 * u.bar``).
+        forbidden_omega : float, optional
+            Collision strength for pairs without an f value (collisional-radiative model).
 
         Returns
         -------
@@ -609,7 +634,11 @@ class Store:
             path_length_m=None if path_length is None else _quantity(path_length, "path_length", u.m, "length"),
             element_density_m3=None if element_density is None else _quantity(element_density, "element_density",
                                                                                u.m ** -3, "density"),
-            cutoff_method=cutoff, datasets=list(datasets) if datasets else None, grid_points=points)
+            cutoff_method=cutoff, datasets=list(datasets) if datasets else None, grid_points=points,
+            model=model, geometry=geometry, broadening=broadening, perturber=perturber,
+            loss_rate_per_s=0.0 if loss_rate is None else _quantity(loss_rate, "loss_rate", u.s ** -1, "rate"),
+            pressure_pa=None if pressure is None else _quantity(pressure, "pressure", u.Pa, "pressure"),
+            forbidden_omega=forbidden_omega)
         provenance = self._catalog.provenance(
             f"emission {spectrum}; te {te_k:.6g} K; ne {ne_m3:.6g} m-3; tgas {tgas_k:.6g} K; "
             f"window {from_nm if from_nm is not None else '-'}..{to_nm if to_nm is not None else '-'} nm {medium}",
@@ -620,11 +649,16 @@ class Store:
                 warnings.warn(text, CautionWarning, stacklevel=2)
         grid = np.asarray(result.grid_nm if result.grid_nm is not None else [], dtype=float)
         density = np.asarray(result.spectrum if result.spectrum is not None else [], dtype=float)
-        sampled = QTable({"wavelength": grid * u.nm, "spectral_radiance": density * RADIANCE_UNIT})
+        # the sampled quantity is named for what it is: an emission coefficient when optically thin,
+        # a spectral radiance through the slab when a path length is given
+        column = result.spectrum_quantity.replace(" ", "_")
+        unit = RADIANCE_UNIT if result.spectrum_quantity == "emission coefficient" else RADIANCE_UNIT * u.m
+        sampled = QTable({"wavelength": grid * u.nm, column: density * unit})
         sampled.meta["provenance"] = {**provenance, "medium": medium}
         return EmissionReport(lines=rows_to_table(result.lines, EMISSION_COLUMNS, provenance), spectrum=sampled,
                               metrics=dict(result.metrics), conditions=dict(result.conditions),
-                              warnings=list(result.warnings))
+                              warnings=list(result.warnings), model=result.model,
+                              populations=list(result.populations), validity=dict(result.validity))
 
     def rates(self, spectrum: str, *, method: str = "auto", datasets: Sequence[str] | None = None,
               save: bool = True) -> RatesResult:

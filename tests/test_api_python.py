@@ -17,7 +17,7 @@ import levels
 from levels.api import COLUMN_UNITS, LINE_STRENGTH_AU, RatesUnavailableError
 from levels.catalog import EMISSION_COLUMNS, LEVEL_COLUMNS, LINE_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS
 from levels.cli import main
-from levels.errors import InputFileError, PhysicsInputError, UnitError
+from levels.errors import InputFileError, LevelsError, PhysicsInputError, UnitError
 from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS
 
 DEMO = Path(__file__).resolve().parents[1] / "seed_data" / "demo" / "sample-li-cell.csv"
@@ -153,7 +153,8 @@ def test_emission_matches_the_cli_json(store):
                                rtol=1e-15)
     assert report.metrics["cie_x"] == pytest.approx(payload["metrics"]["cie_x"], rel=1e-12)
     assert report.spectrum["wavelength"].unit == u.nm and len(report.spectrum) == 2001
-    assert report.spectrum["spectral_radiance"].unit == u.W / u.m ** 3 / u.sr / u.nm
+    # optically thin: an emission coefficient per unit volume (design: the quantity named for what it is)
+    assert report.spectrum["emission_coefficient"].unit == u.W / u.m ** 3 / u.sr / u.nm
     # 1 eV as a temperature is 11604.5 K (CODATA e/k through astropy's equivalency)
     assert report.conditions["te_k"] == pytest.approx(payload["conditions"]["te_k"], rel=1e-9)
 
@@ -207,3 +208,26 @@ def test_import_levels_stays_light():
             "if m in sys.modules]; print(heavy); assert not heavy; assert callable(levels.open_store)")
     done = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True, timeout=60)
     assert done.returncode == 0, done.stdout + done.stderr
+
+
+def test_emission_models_and_spectrum_quantity_through_the_api(tmp_path):
+    """The Python API forwards the discharge model and names the sampled quantity as the CLI does."""
+    import levels
+
+    store = levels.open_store(f"sqlite:///{tmp_path / 'cr.sqlite'}")
+    store.init()
+    store.hydrogenic("H I", n_max=6)
+    thin = store.emission("H I", te="1.5eV", ne="1e17m-3", window=("400nm", "700nm"), model="cr")
+    assert thin.model == "cr"
+    assert thin.validity["lte_holds"] in (True, False) and thin.validity["lte_min_ne_m3"] > 0
+    departures = [p["departure"] for p in thin.populations if p["departure"] is not None]
+    # a low-density discharge: excited levels far below their Boltzmann populations (departure << 1)
+    assert departures and min(departures) < 0.1
+    assert "emission_coefficient" in thin.spectrum.colnames
+    assert thin.spectrum["emission_coefficient"].unit == u.W / u.m ** 3 / u.sr / u.nm
+    slab = store.emission("H I", te="1.5eV", ne="1e17m-3", window=("400nm", "700nm"), path_length=1 * u.cm)
+    assert slab.model == "lte"
+    assert slab.spectrum["spectral_radiance"].unit == u.W / u.m ** 2 / u.sr / u.nm
+    # a negative loss rate is refused with a clear error, not a crash
+    with pytest.raises(LevelsError):
+        store.emission("H I", te="1.5eV", ne="1e17m-3", model="cr", loss_rate="-5Hz")
