@@ -125,19 +125,21 @@ def model_comparison_figure(primary: dict, primary_model: str, other: dict | Non
     base = primary.get("layout", {})
     layout = {
         "paper_bgcolor": base.get("paper_bgcolor", "#ffffff"), "plot_bgcolor": base.get("plot_bgcolor", "#fbfcfd"),
-        "font": base.get("font", {}), "hovermode": "closest", "margin": {"l": 80, "r": 20, "t": 40, "b": 60},
+        "font": base.get("font", {}), "hovermode": "closest", "margin": {"l": 90, "r": 20, "t": 40, "b": 60},
+        "height": 720,
         "xaxis": {"title": {"text": axis_title}, "domain": list(panels["x"]), "anchor": "y", "gridcolor": GRID},
         "yaxis": {"title": {"text": primary.get("layout", {}).get("yaxis", {}).get("title", {}).get(
-                      "text", "emission coefficient [W m⁻³ sr⁻¹ nm⁻¹]")}, "domain": [0.45, 1.0], "anchor": "x",
+                      "text", "emission coefficient [W m⁻³ sr⁻¹ nm⁻¹]").replace(" [", "<br>[")},
+                  "domain": [0.55, 1.0], "anchor": "x",
                   "rangemode": "tozero", "exponentformat": "power", "gridcolor": GRID},
         "xaxis2": {"title": {"text": axis_title}, "domain": list(panels["x2"]), "anchor": "y2", "gridcolor": GRID,
                    "matches": "x"},
-        "yaxis2": {"domain": [0.45, 1.0], "anchor": "x2", "rangemode": "tozero", "exponentformat": "power",
+        "yaxis2": {"domain": [0.55, 1.0], "anchor": "x2", "rangemode": "tozero", "exponentformat": "power",
                    "gridcolor": GRID},
         "xaxis3": {"title": {"text": "level energy [cm⁻¹]"}, "domain": [0.0, 1.0], "anchor": "y3", "gridcolor": GRID},
-        "yaxis3": {"title": {"text": "departure b = n / n(Boltzmann at Te)"}, "type": "log", "domain": [0.0, 0.3],
+        "yaxis3": {"title": {"text": "departure b<br>n / n(Boltzmann at Te)"}, "type": "log", "domain": [0.0, 0.3],
                    "anchor": "x3", "exponentformat": "power", "gridcolor": GRID},
-        "legend": {"orientation": "h", "y": -0.12, "x": 0},
+        "legend": {"orientation": "h", "y": -0.1, "x": 0},
         "annotations": [
             {"text": "LTE populations" + (" (asked for)" if left_is_primary else ""), "xref": "paper",
              "yref": "paper", "x": 0.0, "y": 1.04, "showarrow": False, "xanchor": "left"},
