@@ -557,6 +557,8 @@ class Store:
             rows = filter_lines(rows, lower=lower, series=series, name=name)[:limit]
             provenance["selection"] = (f"lower {lower or 'any'}; upper series {series or 'any'}; "
                                        f"name {name or 'any'}: {len(rows)} lines")
+        # the datasets behind the rows (a line's own and its levels'), before multiplets are summed (as the CLI)
+        contributed = {n for r in rows for n in (r.get("source_datasets") or (r.get("dataset"),))}
         if multiplets:
             rows = merge_multiplets(rows, medium=medium, air_formula=air_formula)
             columns = LINE_COLUMNS + MULTIPLET_EXTRA_COLUMNS
@@ -564,7 +566,6 @@ class Store:
                                         "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
         else:
             add_ritz_columns(rows, medium, air_formula=air_formula)
-        contributed = {r.get("dataset") for r in rows}
         provenance["datasets"] = "; ".join(n for n in used if n in contributed) or "(none)"
         return rows_to_table(rows, columns, provenance)
 

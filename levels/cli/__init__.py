@@ -507,6 +507,10 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
         rows = filter_lines(rows, lower=lower_pattern, series=series_pattern, name=line_name)[:limit]
         provenance["selection"] = (f"lower {lower_pattern or 'any'}; upper series {series_pattern or 'any'}; "
                                    f"name {line_name or 'any'}: {len(rows)} lines")
+    # exactly the datasets behind the listed rows (a line's own and its two levels'), in their precedence;
+    # taken before multiplets are summed, whose rows no longer name their components' datasets
+    contributed = {name for r in rows for name in (r.get("source_datasets") or (r.get("dataset"),))}
+    provenance["datasets"] = "; ".join(name for name in used if name in contributed) or "(none)"
     if multiplets:
         rows = merge_multiplets(rows, medium=medium, air_formula=air_formula)
         columns = LINE_COLUMNS + MULTIPLET_EXTRA_COLUMNS
@@ -514,9 +518,6 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
                                     "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
     else:
         add_ritz_columns(rows, medium, air_formula=air_formula)
-    # exactly the datasets whose rows are listed, in their precedence
-    contributed = {r.get("dataset") for r in rows}
-    provenance["datasets"] = "; ".join(name for name in used if name in contributed) or "(none)"
     # one JSON shape for line rows (the emission report's "lines"); "rows" stays as an alias for older readers
     emit(rows, columns, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS,
          rows_key=("lines", "rows"))
