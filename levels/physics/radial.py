@@ -81,8 +81,6 @@ L. Infeld and T. E. Hull, "The factorization method", Rev. Mod. Phys. 23, 21-68 
 from __future__ import annotations
 
 import math
-import os
-from collections.abc import Callable
 from typing import Any
 
 import numpy as np
@@ -90,6 +88,7 @@ from numpy.typing import ArrayLike, NDArray
 from scipy.special import gammaln
 
 from levels.errors import PhysicsInputError, QuantumNumberError, TooLargeError
+from levels.physics import jit as _jit
 
 __all__ = [
     "radial_dipole",
@@ -113,24 +112,10 @@ _CHUNK_ELEMENTS = 1 << 17
 _PER_ELEMENT_LIMIT = 4096
 
 
-def _load_jit() -> Callable[[Callable[..., Any]], Callable[..., Any]] | None:
-    """``numba.njit(cache=True)`` when numba imports and ``LEVELS_NO_JIT`` is not set, else None."""
-    if os.environ.get("LEVELS_NO_JIT", "").strip() not in ("", "0"):
-        return None
-    try:
-        import numba
-    except ImportError:  # pragma: no cover - numba is a declared dependency
-        return None
-    return numba.njit(cache=True, nogil=True)
-
-
-_JIT = _load_jit()
+_JIT = _jit.JIT
 #: True when the loop kernels are compiled (numba); False: numpy fallback.
-COMPILED = _JIT is not None
-
-
-def _maybe_jit(func: Callable[..., Any]) -> Callable[..., Any]:
-    return _JIT(func) if _JIT is not None else func
+COMPILED = _jit.COMPILED
+_maybe_jit = _jit.maybe_jit
 
 
 # ----------------------------------------------------------------------------

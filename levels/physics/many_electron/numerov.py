@@ -45,14 +45,11 @@ square-root grid, citation from memory).
 
 from __future__ import annotations
 
-import os
-from collections.abc import Callable
-from typing import Any
-
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from levels.errors import PhysicsInputError
+from levels.physics import jit as _jit
 
 __all__ = [
     "square_root_grid",
@@ -71,24 +68,10 @@ _SEED = 1e-30
 _RESCALE_AT = 1e150
 
 
-def _load_jit() -> Callable[[Callable[..., Any]], Callable[..., Any]] | None:
-    """``numba.njit(cache=True)`` when numba imports and ``LEVELS_NO_JIT`` is not set, else None."""
-    if os.environ.get("LEVELS_NO_JIT", "").strip() not in ("", "0"):
-        return None
-    try:
-        import numba
-    except ImportError:  # pragma: no cover - numba is a declared dependency
-        return None
-    return numba.njit(cache=True, nogil=True)
-
-
-_JIT = _load_jit()
+_JIT = _jit.JIT
 #: True when the recurrences run compiled (numba, one column at a time); False: numpy over columns.
-COMPILED = _JIT is not None
-
-
-def _maybe_jit(func: Callable[..., Any]) -> Callable[..., Any]:
-    return _JIT(func) if _JIT is not None else func
+COMPILED = _jit.COMPILED
+_maybe_jit = _jit.maybe_jit
 
 
 @_maybe_jit
