@@ -217,6 +217,29 @@ def _nearest(sorted_values: NDArray, query: NDArray) -> tuple[NDArray, NDArray]:
     return pick, np.abs(sorted_values[pick] - query)
 
 
+def _map_votes(mapped: np.ndarray, lines_sorted: np.ndarray, weight_p: np.ndarray, weight_l: np.ndarray,
+               tolerance_nm: float) -> tuple[np.ndarray, np.ndarray]:
+    """Weighted votes and match counts of candidate maps (rows of ``mapped``: peaks mapped to nm).
+
+    A peak votes for its map when it lands within ``tolerance_nm`` of a line, with weight
+    ``weight_p[peak] * weight_l[line]``; a line reached by several peaks of one map counts
+    once, with its best vote.
+    """
+    near, dist = _nearest(lines_sorted, mapped.ravel())
+    near, dist = near.reshape(mapped.shape), dist.reshape(mapped.shape)
+    hit = dist <= tolerance_nm
+    rows = np.broadcast_to(np.arange(mapped.shape[0])[:, None], mapped.shape)[hit]
+    keys = rows * lines_sorted.size + near[hit]
+    w = (weight_p[None, :] * weight_l[near])[hit]
+    order = np.lexsort((-w, keys))
+    keys, w, rows = keys[order], w[order], rows[order]
+    first = np.ones(keys.size, dtype=bool)
+    first[1:] = keys[1:] != keys[:-1]
+    votes = np.bincount(rows[first], weights=w[first], minlength=mapped.shape[0])
+    count = np.bincount(rows[first], minlength=mapped.shape[0])
+    return votes, count
+
+
 def linear_seed(
     peak_pixel: ArrayLike,
     peak_strength: ArrayLike,
@@ -315,19 +338,7 @@ def linear_seed(
     for s0 in range(0, a.size, chunk):
         aa, bb = a[s0 : s0 + chunk, None], b[s0 : s0 + chunk, None]
         mapped = aa + bb * top_p[None, :]
-        near, dist = _nearest(lines_sorted, mapped.ravel())
-        near, dist = near.reshape(mapped.shape), dist.reshape(mapped.shape)
-        hit = dist <= tolerance_nm
-        # one vote per line and map: a line reached by several peaks counts once (its best vote)
-        rows = np.broadcast_to(np.arange(mapped.shape[0])[:, None], mapped.shape)[hit]
-        keys = rows * lines_sorted.size + near[hit]
-        w = (weight_p[None, :] * weight_l[near])[hit]
-        order = np.lexsort((-w, keys))
-        keys, w, rows = keys[order], w[order], rows[order]
-        first = np.ones(keys.size, dtype=bool)
-        first[1:] = keys[1:] != keys[:-1]
-        votes = np.bincount(rows[first], weights=w[first], minlength=mapped.shape[0])
-        count = np.bincount(rows[first], minlength=mapped.shape[0])
+        votes, count = _map_votes(mapped, lines_sorted, weight_p, weight_l, tolerance_nm)
         top = int(np.argmax(votes))
         if votes[top] > best[1] or best[0] == 0:
             best = (int(count[top]), float(votes[top]), float(aa[top, 0]), float(bb[top, 0]))
@@ -422,18 +433,7 @@ def quadratic_seed(
             continue
         c0, c1, c2 = c0[ok], c1[ok], c2[ok]
         mapped = c0[:, None] + c1[:, None] * top_p[None, :] + c2[:, None] * top_p[None, :] ** 2
-        near, dist = _nearest(top_l, mapped.ravel())
-        near, dist = near.reshape(mapped.shape), dist.reshape(mapped.shape)
-        hit = dist <= tolerance_nm
-        rows = np.broadcast_to(np.arange(mapped.shape[0])[:, None], mapped.shape)[hit]
-        keys = rows * top_l.size + near[hit]
-        w = (wp[None, :] * wl[near])[hit]
-        order = np.lexsort((-w, keys))
-        keys, w, rows = keys[order], w[order], rows[order]
-        first = np.ones(keys.size, dtype=bool)
-        first[1:] = keys[1:] != keys[:-1]
-        votes = np.bincount(rows[first], weights=w[first], minlength=mapped.shape[0])
-        count = np.bincount(rows[first], minlength=mapped.shape[0])
+        votes, count = _map_votes(mapped, top_l, wp, wl, tolerance_nm)
         top = int(np.argmax(votes))
         if votes[top] > best[0]:
             best = (float(votes[top]), np.array([c0[top], c1[top], c2[top]]), int(count[top]))
