@@ -89,11 +89,9 @@ def require_species(session: Session, spectrum: Spectrum) -> Species:
         if others:
             stored = ", ".join(f"A = {s.mass_number}" for s in others)
             ask = Spectrum(spectrum.z, spectrum.charge).name
-            wanted = (f"with mass number {spectrum.mass_number}" if spectrum.mass_number is not None
-                      else "without a mass number (several isotopes, none the most abundant)")
             example = Spectrum(spectrum.z, spectrum.charge, others[0].mass_number).isotope_name
-            raise NotFoundError(f"no {ask} {wanted} in the store; stored isotopes of {ask}: {stored} "
-                                f"(name one, e.g. '{example}')")
+            raise NotFoundError(f"no species {spectrum.isotope_name} in the store; stored isotopes of {ask}: "
+                                f"{stored} (name one, e.g. '{example}')")
         raise NotFoundError(f"no species {spectrum.isotope_name} in the store")
     return species
 

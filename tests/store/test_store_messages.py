@@ -16,7 +16,7 @@ def test_show_names_the_stored_isotopes(catalog):
     assert result.exit_code == 0, result.output
     shown = runner.invoke(main, ["--db", catalog.url, "show", "3He II"])
     assert shown.exit_code != 0
-    assert "no He II with mass number 3" in shown.output and "stored isotopes of He II: A = 4" in shown.output
+    assert "no species He II A=3" in shown.output and "stored isotopes of He II: A = 4" in shown.output
     with pytest.raises(NotFoundError, match="stored isotopes of He II: A = 4"):
         catalog.level_rows("He II A=3")
     assert len(catalog.level_rows("He II")) > 0  # the one stored isotope is still found without a mass number
