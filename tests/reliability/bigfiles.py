@@ -8,6 +8,8 @@ from __future__ import annotations
 
 from pathlib import Path
 
+from fractions import Fraction
+
 import numpy as np
 
 #: (spectrum, core configuration) of the invented atoms
@@ -62,10 +64,12 @@ def write_lines(path: Path, count: int = LINES) -> int:
         labels = [f"{c} {t}{j}" for _, c, t, j, _ in rows]
         energy = np.array([r[4] for r in rows])
         odd = np.array(["°" in r[2] for r in rows])
+        two_j = np.array([round(2 * float(Fraction(r[3]))) for r in rows])
         for i in np.flatnonzero(~odd):
             for k in np.flatnonzero(odd):
                 gap = float(energy[k] - energy[i])
-                if abs(gap) < 1.0:
+                # E1 selection rules (imports check them): |dJ| <= 1, not J = 0 to J = 0
+                if abs(gap) < 1.0 or abs(two_j[k] - two_j[i]) > 2 or two_j[k] == two_j[i] == 0:
                     continue
                 lo, up = (i, k) if gap > 0 else (k, i)
                 out.append(f"{rows[0][0]},{labels[lo]},{labels[up]},{1e7 / abs(gap)!r},vacuum,0.001")
