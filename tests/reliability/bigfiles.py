@@ -22,7 +22,7 @@ RYDBERG = 109737.0  # cm-1, a round invented value for the invented atoms
 LINES = 100_000
 
 
-def atom_levels(index: int, n_max: int = 42) -> list[tuple[str, str, str, str, float]]:
+def atom_levels(index: int, n_max: int = 52) -> list[tuple[str, str, str, str, float]]:
     """(spectrum, configuration, term, j, energy) rows of invented atom ``index``, ground first at 0."""
     spectrum, core = ATOMS[index]
     n0 = 3 + index % 3
