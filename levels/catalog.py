@@ -135,7 +135,7 @@ class Catalog:
         """Release the engine's connections."""
         self.engine.dispose()
 
-    def __enter__(self) -> "Catalog":
+    def __enter__(self) -> Catalog:
         return self
 
     def __exit__(self, *exc) -> None:

@@ -1,12 +1,25 @@
 """Notation: spectrum, J, terms, configurations; round trips over every element and charge."""
 
 import pytest
-from hypothesis import given, strategies as st
+from hypothesis import given
+from hypothesis import strategies as st
 
 from levels.errors import NotationError
 from levels.notation import (
-    ELEMENTS, Z_MAX, Spectrum, format_configuration, format_j, format_term, from_roman, label_pattern_to_regex,
-    level_label, parse_configuration, parse_j, parse_spectrum, parse_term, to_roman,
+    ELEMENTS,
+    Z_MAX,
+    Spectrum,
+    format_configuration,
+    format_j,
+    format_term,
+    from_roman,
+    label_pattern_to_regex,
+    level_label,
+    parse_configuration,
+    parse_j,
+    parse_spectrum,
+    parse_term,
+    to_roman,
 )
 
 

@@ -4,7 +4,7 @@ import pytest
 import scipy.constants as sc
 
 from levels.errors import UnitError
-from levels.units import CODATA_RELEASE, CM1_EV, parse_quantity, temperature_k, wavelength_nm
+from levels.units import CM1_EV, CODATA_RELEASE, parse_quantity, temperature_k, wavelength_nm
 
 
 @pytest.mark.parametrize("text, nm", [("656.3nm", 656.3), ("6563A", 656.3), ("0.6563um", 656.3), ("656300pm", 656.3)])

@@ -473,12 +473,9 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
       levels lines --from 486nm --to 487nm
       levels lines "H I" --lower "2p 2P°3/2" --series "nd 2D5/2" --multiplets
     """
-    from levels.catalog import (LINE_COLUMNS, LINE_HEADINGS, LINE_LIST_COLUMNS, LINE_UNITS, LineQuery,
-                                add_ritz_columns)
+    from levels.catalog import LINE_COLUMNS, LINE_HEADINGS, LINE_LIST_COLUMNS, LINE_UNITS, LineQuery, add_ritz_columns
     from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
-    from levels.service.vocabulary import air_formula_description
-
-    from levels.service.vocabulary import air_formula_code
+    from levels.service.vocabulary import air_formula_code, air_formula_description
 
     air_formula = air_formula_code(air_formula)  # formulas are named by their authors; old names are aliases
     require_existing_store(obj)
@@ -980,9 +977,9 @@ def hydrogenic(obj: Context, spectrum: str, mass_number: int | None, n_max: int,
 
 
 # store maintenance commands (check, export-store, import-store, history, retract, restore)
-from levels.cli import store as _store_commands  # noqa: E402,F401  (registers its commands on ``main``)
-from levels.cli import spectra as _spectra_commands  # noqa: E402,F401  (peaks, calibrate, diagnose)
 from levels.cli import rates as _rates_commands  # noqa: E402,F401  (rates of many-electron species)
+from levels.cli import spectra as _spectra_commands  # noqa: E402,F401  (peaks, calibrate, diagnose)
+from levels.cli import store as _store_commands  # noqa: E402,F401  (registers its commands on ``main``)
 
 
 def run() -> None:  # pragma: no cover - console entry for ``python -m levels``

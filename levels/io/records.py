@@ -24,8 +24,8 @@ from levels.notation import (
     Term,
     format_configuration,
     format_term,
-    level_label,
     jk_term_problem,
+    level_label,
     parse_configuration,
     parse_j,
     parse_level_term,
@@ -287,7 +287,7 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
     return record, []
 
 
-def field_text(row: "_Row", name: str) -> str:
+def field_text(row: _Row, name: str) -> str:
     """The text of a field as given, shortened for a message."""
     text = row.text(name)
     return text if len(text) <= 40 else text[:37] + "..."

@@ -156,7 +156,7 @@ def encode_value(value, kind: str):
         return "NaN" if math.isnan(value) else ("Infinity" if value > 0 else "-Infinity")
     if kind == "datetime":
         if value.tzinfo is not None:
-            value = value.astimezone(dt.timezone.utc).replace(tzinfo=None)
+            value = value.astimezone(dt.UTC).replace(tzinfo=None)
         return value.strftime("%Y-%m-%dT%H:%M:%S.%fZ")
     if kind == "integer":
         return int(value)
@@ -190,7 +190,7 @@ def decode_value(value, kind: str, where: str):
             return value
     elif kind == "datetime":
         if isinstance(value, str) and _DATETIME.match(value):
-            return dt.datetime.strptime(value, "%Y-%m-%dT%H:%M:%S.%fZ").replace(tzinfo=dt.timezone.utc)
+            return dt.datetime.strptime(value, "%Y-%m-%dT%H:%M:%S.%fZ").replace(tzinfo=dt.UTC)
     raise StoreFileError(f"{where}: {json.dumps(value)[:60]} is not a valid {kind} value")
 
 

@@ -53,7 +53,7 @@ def _finite(column: str, nullable: bool = False) -> str:
 
 def utcnow() -> dt.datetime:
     """Timezone-aware current UTC time (stored by every created/at column)."""
-    return dt.datetime.now(dt.timezone.utc)
+    return dt.datetime.now(dt.UTC)
 
 
 class Base(DeclarativeBase):
@@ -79,7 +79,7 @@ class Species(Base):
     mass_number: Mapped[int] = mapped_column(Integer)
     name: Mapped[str] = mapped_column(String(32), index=True)
 
-    levels: Mapped[list["Level"]] = relationship(back_populates="species")
+    levels: Mapped[list[Level]] = relationship(back_populates="species")
 
 
 class Sample(Base):
@@ -108,7 +108,7 @@ class Sample(Base):
     path_length_m: Mapped[Optional[float]] = mapped_column(Float)
     created_at: Mapped[dt.datetime] = mapped_column(DateTime(timezone=True), default=utcnow)
 
-    datasets: Mapped[list["Dataset"]] = relationship(back_populates="sample")
+    datasets: Mapped[list[Dataset]] = relationship(back_populates="sample")
 
 
 class Dataset(Base):
@@ -147,7 +147,7 @@ class Dataset(Base):
     content_sha256: Mapped[Optional[str]] = mapped_column(String(64))
 
     sample: Mapped[Optional[Sample]] = relationship(back_populates="datasets")
-    levels: Mapped[list["Level"]] = relationship(back_populates="dataset")
+    levels: Mapped[list[Level]] = relationship(back_populates="dataset")
 
 
 class Level(Base):

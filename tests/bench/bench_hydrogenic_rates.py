@@ -17,6 +17,7 @@ import numpy as np
 
 from levels.physics.radial import radial_dipole, radial_dipole_array, table_size
 from levels.physics.rates import A_COEFFICIENT, F_COEFFICIENT, hydrogenic_e1_lines
+
 from tests.bench.harness import BenchResult, best_time
 
 _R_INF_CM1 = 109737.31568160  # only sets the scale of the wavenumbers here

@@ -19,6 +19,7 @@ from levels.errors import TooLargeError
 from levels.physics.combination import build_lines
 from levels.store.database import dump
 from levels.store.schema import Level
+
 from tests.bench.bench_memory import write_complex_levels, write_even_odd_levels
 
 

@@ -116,8 +116,8 @@ def test_bad_hydrogenic_requests(store_url, args, message):
 
 
 def test_z_outside_range_is_refused(catalog):
-    from levels.notation import Spectrum
     from levels.errors import NotationError
+    from levels.notation import Spectrum
 
     with pytest.raises(NotationError):
         catalog.compute_hydrogenic(Spectrum(119, 118))

@@ -13,8 +13,10 @@ from click.testing import CliRunner
 from levels.cli import main
 from levels.emission import MAX_AUTO_POINTS, spectrum_grid_points
 from levels.units import temperature_k
-from tests.webui.conftest import make_config
+
 from webui import create_app
+
+from tests.webui.conftest import make_config
 
 CONDITIONS = dict(te_k=temperature_k("1eV"), ne_m3=1e19, tgas_k=600.0, from_nm=650.0, to_nm=662.0, medium="air")
 

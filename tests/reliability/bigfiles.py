@@ -6,9 +6,8 @@ they only have to be valid, distinct and give well-separated pairs.
 
 from __future__ import annotations
 
-from pathlib import Path
-
 from fractions import Fraction
+from pathlib import Path
 
 import numpy as np
 

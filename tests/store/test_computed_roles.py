@@ -72,7 +72,7 @@ def test_one_computed_dataset_per_role_and_species_in_the_schema(catalog):
 def _old_store(engine) -> None:
     """A store at revision 0001 with computed sets of the old code and user sets under their names."""
     database.upgrade(engine, "0001")
-    now = dt.datetime(2026, 12, 1, tzinfo=dt.timezone.utc)
+    now = dt.datetime(2026, 12, 1, tzinfo=dt.UTC)
     with engine.begin() as conn:
         def q(sql, **params):
             return conn.execute(text(sql), params)
@@ -137,8 +137,8 @@ def test_migration_0002_fills_roles_and_renames_user_sets(store_url):
 
 
 def test_migrated_store_passes_check_and_rebuilds_by_role(store_url):
-    from levels.catalog import Catalog
     from levels import maintenance
+    from levels.catalog import Catalog
 
     engine = database.make_engine(store_url)
     _old_store(engine)

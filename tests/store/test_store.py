@@ -4,7 +4,7 @@ import math
 from pathlib import Path
 
 import pytest
-from sqlalchemy import func, insert, select, text
+from sqlalchemy import insert, select
 from sqlalchemy.exc import IntegrityError
 
 from levels.catalog import LEVEL_COLUMNS, SPECIES_COLUMNS, Catalog, LineQuery

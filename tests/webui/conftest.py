@@ -18,11 +18,13 @@ import pytest
 from sqlalchemy import select
 
 from levels.catalog import Catalog
-from tests.conftest import BACKENDS
 from levels.physics.air import vacuum_to_air
 from levels.store import database, queries
 from levels.store.schema import IonizationLimit, Level, Line
+
 from webui import create_app, make_server, stop_server
+
+from tests.conftest import BACKENDS
 
 ROOT = Path(__file__).resolve().parents[2]
 DEMO = ROOT / "seed_data" / "demo" / "sample-li-cell.csv"

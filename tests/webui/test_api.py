@@ -10,6 +10,7 @@ from sqlalchemy import func, select
 
 from levels.catalog import LEVEL_COLUMNS, LINE_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS, LineQuery
 from levels.store.schema import Level
+
 from webui.openapi import openapi_document
 
 from tests.webui.conftest import TOKEN, dataset_names

@@ -14,6 +14,7 @@ from hypothesis import strategies as st
 from schemathesis import GenerationMode, checks
 
 from levels.catalog import Catalog
+
 from webui import create_app
 from webui.openapi import openapi_document
 

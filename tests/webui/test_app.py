@@ -5,6 +5,7 @@ from __future__ import annotations
 import pytest
 
 from levels.errors import LevelsError
+
 from webui import DEFAULTS, UnsafeBindError, check_bind, create_app, is_loopback, make_server
 
 from tests.webui.conftest import LiveServer

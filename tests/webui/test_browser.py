@@ -16,6 +16,7 @@ import pytest
 
 from levels.catalog import LINE_COLUMNS, LINE_LIST_COLUMNS, Catalog, LineQuery
 from levels.store.schema import Level
+
 from webui import create_app
 
 from tests.webui.conftest import (

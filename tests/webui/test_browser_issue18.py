@@ -11,8 +11,10 @@ from pathlib import Path
 import pytest
 
 from levels.catalog import Catalog
-from tests.webui.conftest import SCREENSHOTS, LiveServer, make_config
+
 from webui import create_app
+
+from tests.webui.conftest import SCREENSHOTS, LiveServer, make_config
 
 CHROMIUM = "/usr/bin/chromium"
 DEMO = Path(__file__).resolve().parents[2] / "seed_data" / "demo"

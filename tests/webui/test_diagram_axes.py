@@ -9,10 +9,11 @@ from pathlib import Path
 import numpy as np
 import pytest
 
-from tests.webui.conftest import make_config
 from webui import create_app
 from webui.browse import panel_title
 from webui.figures import energy_axis, level_layer, term_key, term_tick
+
+from tests.webui.conftest import make_config
 
 DEMO = Path(__file__).resolve().parents[2] / "seed_data" / "demo"
 

@@ -8,6 +8,7 @@ from __future__ import annotations
 import pytest
 
 from levels.catalog import Catalog, LineQuery
+
 from webui import create_app
 
 from tests.webui.conftest import make_config

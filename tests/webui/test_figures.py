@@ -7,6 +7,7 @@ import json
 import pytest
 
 from levels.units import CM1_EV
+
 from webui.figures import A_STEPS, OPACITIES, WIDTHS, grotrian_figure, term_key, term_tick
 
 

@@ -4,8 +4,9 @@ from __future__ import annotations
 
 import pytest
 
-from tests.webui.conftest import make_config
 from webui import create_app
+
+from tests.webui.conftest import make_config
 
 
 @pytest.fixture

@@ -8,6 +8,7 @@ from urllib.parse import quote
 
 import pytest
 from markupsafe import escape
+
 from levels.store.schema import Level
 
 from tests.webui.conftest import TOKEN, XSS_DATASET, XSS_LABEL, count_rows, csrf_token, dataset_names
