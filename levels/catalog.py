@@ -399,7 +399,7 @@ class Catalog:
             Highest principal quantum number (1..1000).
         fine_structure : bool
             Levels n l j (True) or nl terms (False).
-        corrections : levels.physics.dirac.Corrections, optional
+        corrections : levels.physics.one_electron.dirac.Corrections, optional
             Corrections applied (default all).
         max_store_bytes : int
             Refuse a computation whose rows would need more than this.
@@ -412,8 +412,7 @@ class Catalog:
             dataset name and id, counts of levels and lines, ionization energy (cm-1), corrections.
         """
         from levels.isotopes import isotope
-        from levels.physics import dirac, hydrogenic
-
+        from levels.physics.one_electron import dirac, hydrogenic
         spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
         if spec.electrons != 1:
             raise PhysicsInputError(
@@ -448,7 +447,7 @@ class Catalog:
                 session, species.id, "hydrogenic" if fine_structure else "hydrogenic-nl", name=name,
                 method=hydrogenic.METHOD, method_version=f"{hydrogenic.METHOD_VERSION} (levels {__version__})",
                 options_json=json.dumps(model.options or {}, sort_keys=True), actor=self.actor,
-                citation="computed by levels: Dirac energies with recoil and QED corrections (see levels.physics.dirac)",
+                citation="computed by levels: Dirac energies with recoil and QED corrections (see levels.physics.one_electron.dirac)",
                 description=f"{species_spec.name} (A = {iso.mass_number}) to n = {n_max}"
                             + (" with fine structure" if fine_structure else ", nl terms"),
                 keep_referenced_levels=True)
@@ -886,7 +885,7 @@ def _store_derived_lines(session: Session, species: Species, actor: str, *, max_
 
     Memory is bounded by design: levels come as numpy columns (:func:`queries.level_columns`),
     pairs are generated, converted and inserted in blocks of :data:`DERIVED_BLOCK` lines
-    (:func:`levels.physics.combination.iter_line_blocks`, one driver executemany per block),
+    (:func:`levels.physics.lines.combination.iter_line_blocks`, one driver executemany per block),
     so the peak is one block (about 0.8 kB per line while the driver's tuples exist, ~16 MB
     for 20,000 lines) plus the level columns (~40 bytes per level), one row of pair indices
     (16 bytes per level) and the stored pair keys (8 bytes per stored line), whatever the
@@ -901,8 +900,8 @@ def _store_derived_lines(session: Session, species: Species, actor: str, *, max_
     from sqlalchemy import select
 
     from levels.errors import TooLargeError
-    from levels.physics import selection
-    from levels.physics.combination import iter_line_blocks
+    from levels.physics.lines import selection
+    from levels.physics.lines.combination import iter_line_blocks
 
     # one writer per species at a time rebuilds its derived lines (row lock on PostgreSQL;
     # SQLite write transactions are serialised already)
@@ -936,7 +935,7 @@ def _store_derived_lines(session: Session, species: Species, actor: str, *, max_
                 session, name=derived_dataset_name(species.name, species.mass_number), kind="computed",
                 method=DERIVED_METHOD, role=DERIVED_ROLE, owner_species_id=species.id,
                 method_version=f"levels {__version__}", author=actor,
-                citation="Ritz combination of stored levels (levels.physics.combination)",
+                citation="Ritz combination of stored levels (levels.physics.lines.combination)",
                 description=f"E1 lines implied by the stored levels of {species.name}",
                 options={"air_formula": "iau2000", "multipoles": ["E1"]})
         air = block.air_nm[keep]
@@ -968,8 +967,7 @@ def _precheck_derived_lines(records: Sequence[level_io.LevelRecord], source: str
     refuse; it spares writing (and rolling back) a million levels first.
     """
     from levels.errors import TooLargeError
-    from levels.physics import selection
-
+    from levels.physics.lines import selection
     limit = default_max_derived_lines() if max_lines is None else max_lines
     by_species: dict[Spectrum, list[tuple[int, int]]] = {}
     for rec in records:
@@ -1016,8 +1014,7 @@ def _check_line_query(query: LineQuery) -> None:
 
 def _vacuum_window(query: LineQuery, air_formula: str) -> tuple[float, float]:
     """The query window as vacuum wavenumbers (cm-1): (min, max)."""
-    from levels.physics import air
-
+    from levels.physics.lines import air
     lo, hi = query.from_nm, query.to_nm
     if query.medium == "air":
         # air wavelengths exist above 200 nm only; below, the window is in vacuum by convention
@@ -1034,7 +1031,7 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
                 multipoles: Sequence[str], window: tuple[float, float], max_upper_cm1: float | None,
                 air_formula: str) -> list[dict]:
     """Rows of the engine's lines, with stored rates merged (see :meth:`Catalog.species_lines`)."""
-    from levels.physics.combination import build_lines
+    from levels.physics.lines.combination import build_lines
 
     resolved = [lv for lv in levels if lv.two_j is not None]
     index = {lv.id: i for i, lv in enumerate(resolved)}
@@ -1119,8 +1116,7 @@ def add_ritz_columns(rows: Sequence[dict], medium: str, *, air_formula: str = "i
     >>> r["ritz_nm"], round(r["obs_minus_ritz_nm"], 6)
     (500.0, 0.01)
     """
-    from levels.physics import air
-
+    from levels.physics.lines import air
     want_air = medium == "air"
     for row in rows:
         obs_vac, obs_air = row.get("obs_vacuum_nm"), row.get("obs_air_nm")
@@ -1249,7 +1245,7 @@ def level_row(spectrum_name: str, level: Level, dataset_name: str) -> dict:
 def _level_insert_row(rec: level_io.LevelRecord, dataset_id: int, species_id: int) -> dict:
     lande = rec.lande_g
     if lande is None and rec.multiplicity is not None:
-        from levels.physics.lande import lande_g_ls
+        from levels.physics.lines.lande import lande_g_ls
 
         lande = float(lande_g_ls(rec.multiplicity - 1, rec.big_l, rec.two_j))
     return {

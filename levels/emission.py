@@ -1,10 +1,10 @@
 """Discharge emission of one species: populations, line intensities, synthetic spectrum, lamp metrics.
 
 A unit of work of the catalog (exposed as :meth:`levels.catalog.Catalog.emission`).
-The physics is in :mod:`levels.physics.plasma` (Boltzmann, Saha, cutoff,
+The physics is in :mod:`levels.physics.plasma.equilibrium` (Boltzmann, Saha, cutoff,
 emissivity, escape factor), :mod:`levels.physics.discharge` (the
 collisional-radiative balance, escape factors, pressure broadening, slab
-transfer, the LTE criterion), :mod:`levels.physics.spectrum` (line shapes) and
+transfer, the LTE criterion), :mod:`levels.physics.plasma.spectrum` (line shapes) and
 :mod:`levels.physics.colour` (CIE colorimetry). Two population models, named in
 every report (``model``):
 
@@ -35,12 +35,13 @@ import numpy as np
 
 from levels.errors import PhysicsInputError
 from levels.isotopes import isotope
-from levels.physics import colour, plasma
-from levels.physics import spectrum as spectra
+from levels.physics import colour
 from levels.physics.discharge import balance as cr
 from levels.physics.discharge import escape as discharge_escape
 from levels.physics.discharge import excitation as cr_excitation
 from levels.physics.discharge import neutral_broadening, slab_transfer, stark, validity
+from levels.physics.plasma import equilibrium as plasma
+from levels.physics.plasma import spectrum as spectra
 from levels.units import CM1_J, C, H
 
 UV_CAUTION = ("CAUTION: this spectrum puts more than 1 % of its power into UV-C or UV-B. Ultraviolet radiation "
@@ -473,8 +474,7 @@ def _cr_populations(*, spectrum_name, z, charge, levels, lines, included, ioniza
     if path_length_m is None:
         result = cr.solve_steady_state(species, te_k, ne_m3, loss_rate_per_s=loss_rate_per_s, forbidden_omega=omega)
     else:
-        from levels.physics import spectrum as spectra_
-
+        from levels.physics.plasma import spectrum as spectra_
         lam_nm = 1e7 / (e[upper] - e[lower]) if lower.size else np.zeros(0)
         dop = spectra_.doppler_fwhm_nm(lam_nm, tgas_k, mass_u) if lower.size else np.zeros(0)
         # Voigt cores: natural widths from the lifetimes, plus Stark and van der Waals widths when asked for

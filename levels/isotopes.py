@@ -35,8 +35,8 @@ import periodictable
 
 from levels.errors import NotationError, NotFoundError
 from levels.notation import Z_MAX, element_symbol
-from levels.physics.nuclear import electron_binding_energy_ev
-from levels.physics.nuclear import nuclear_mass_u as _nuclear_mass_u
+from levels.physics.one_electron.nuclear import electron_binding_energy_ev
+from levels.physics.one_electron.nuclear import nuclear_mass_u as _nuclear_mass_u
 from levels.units import E_CHARGE, M_U, C
 
 #: 1 eV/c^2 in u
@@ -60,7 +60,7 @@ class Isotope:
 
 
 def electron_binding_ev(z: int) -> float:
-    """Total electron binding energy of the neutral atom, eV (see :mod:`levels.physics.nuclear`)."""
+    """Total electron binding energy of the neutral atom, eV (see :mod:`levels.physics.one_electron.nuclear`)."""
     return electron_binding_energy_ev(z)
 
 

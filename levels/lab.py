@@ -18,7 +18,7 @@ from levels.errors import InputFileError, NotFoundError, PhysicsInputError, Prob
 from levels.io import records as io_records
 from levels.isotopes import isotope
 from levels.notation import label_pattern_to_regex
-from levels.physics import air, ritz, series
+from levels.physics.lines import air, ritz, series
 from levels.store import queries
 from levels.store.schema import IonizationLimit, Level, Line, Species
 
@@ -34,10 +34,10 @@ def store_measured_lines(session: Session, records: Sequence[io_records.LineReco
     """Resolve labels against the store's levels, check each line, write the lines (caller's transaction).
 
     Every line is checked against its two levels: the parity and J selection rules of its
-    stated multipole (:func:`levels.physics.selection.rejection_reason`), and its vacuum
+    stated multipole (:func:`levels.physics.lines.selection.rejection_reason`), and its vacuum
     wavenumber against the Ritz wavenumber E_u - E_l
-    (:func:`levels.physics.combination.check_against_ritz`: refused beyond
-    :data:`~levels.physics.combination.OFF_RITZ_SIGMAS` combined standard uncertainties).
+    (:func:`levels.physics.lines.combination.check_against_ritz`: refused beyond
+    :data:`~levels.physics.lines.combination.OFF_RITZ_SIGMAS` combined standard uncertainties).
 
     Parameters
     ----------
@@ -54,8 +54,7 @@ def store_measured_lines(session: Session, records: Sequence[io_records.LineReco
         above the upper one, a line off its Ritz wavenumber (without ``allow_off_ritz``) -
         every problem listed with file, line and field; nothing written.
     """
-    from levels.physics import combination, selection
-
+    from levels.physics.lines import combination, selection
     problems: list[Problem] = []
     chosen = queries.visible_datasets(session)
     by_species: dict = {}
@@ -254,7 +253,7 @@ def save_limit(session: Session, species: Species, report: dict, actor: str, dat
     ds = queries.replace_computed_dataset(
         session, species.id, "series-limit", name=dataset_name, method=LIMIT_METHOD, method_version="",
         options_json=json.dumps({"series": [s["pattern"] for s in report["series"]]}), actor=actor,
-        citation="extended Ritz formula fit (levels.physics.series)",
+        citation="extended Ritz formula fit (levels.physics.lines.series)",
         description=f"series limit of {species.name} fitted to stored levels")
     session.add(IonizationLimit(dataset_id=ds.id, species_id=species.id, energy_cm1=report["limit_cm1"],
                                 unc_cm1=report["limit_unc_cm1"], method=LIMIT_METHOD))

@@ -601,7 +601,7 @@ def lamp_metrics(grid_nm: ArrayLike, spectral_power: ArrayLike) -> dict[str, flo
         Strictly monotonic air wavelengths, nm, covering all the emission.
     spectral_power : array_like
         Spectral power per nm (>= 0), for example from
-        :func:`levels.physics.spectrum.synthetic_spectrum`.
+        :func:`levels.physics.plasma.spectrum.synthetic_spectrum`.
 
     Returns
     -------

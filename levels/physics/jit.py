@@ -1,6 +1,6 @@
 """Optional compilation of the scalar loop kernels with numba.
 
-The radial recurrences (:mod:`levels.physics.radial`) and the Numerov
+The radial recurrences (:mod:`levels.physics.one_electron.radial`) and the Numerov
 integration (:mod:`levels.physics.many_electron.numerov`) are short scalar
 loops; numba compiles them (``njit(cache=True, nogil=True)``, cached on disk).
 Without numba, or with the environment variable ``LEVELS_NO_JIT`` set to a

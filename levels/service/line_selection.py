@@ -130,8 +130,7 @@ def merge_multiplets(rows: Sequence[dict], *, medium: str = "air", air_formula: 
     >>> m["members"], round(m["gf"], 3), m["line_strength_au"], round(m["wavenumber_cm1"], 6), m["g_upper"]
     (2, 0.6, 3.0, 20002.0, 6)
     """
-    from levels.physics import air
-
+    from levels.physics.lines import air
     groups: dict[tuple, list[dict]] = {}
     for row in rows:
         key = (row["spectrum"], term_of(row["lower"]), term_of(row["upper"]), row["multipole"])

@@ -252,7 +252,7 @@ def _coupled_function():
 def _rydberg_cm1(z: int, charge: int, mass_number: int) -> float:
     """Rydberg constant of the core (nucleus and the other electrons) the valence electron moves about."""
     from levels.isotopes import isotope
-    from levels.physics.series import rydberg_constant_cm1
+    from levels.physics.lines.series import rydberg_constant_cm1
     from levels.units import M_E_U
 
     nuclear = isotope(z, mass_number).nuclear_mass_u
@@ -262,7 +262,7 @@ def _rydberg_cm1(z: int, charge: int, mass_number: int) -> float:
 def _fit_limit(levels: Sequence[LevelInput], z: int, charge: int, name: str,
                rydberg: float) -> tuple[float, float, str]:
     """Fit a series limit from the single-electron series of the levels (extended Ritz formula)."""
-    from levels.physics.series import fit_series_limit
+    from levels.physics.lines.series import fit_series_limit
 
     groups: dict[tuple[int, int], list[tuple[int, float, float]]] = {}
     for lv in levels:
@@ -439,7 +439,7 @@ def _report_rows(lines: Sequence[LineRate], by_id: dict[int, LevelInput],
 def _store(catalog, species_id: int, name: str, mass_number: int, lines: Sequence[LineRate],
            by_id: dict[int, LevelInput], report: RatesReport, method: str) -> str:
     from levels.catalog import rebuild_derived_lines
-    from levels.physics.air import vacuum_to_air
+    from levels.physics.lines.air import vacuum_to_air
 
     dataset_name = rates_dataset_name(name, mass_number)
     sigma = np.array([ln.wavenumber_cm1 for ln in lines])
@@ -449,7 +449,7 @@ def _store(catalog, species_id: int, name: str, mass_number: int, lines: Sequenc
     if above.any():
         import warnings as _warnings
 
-        from levels.physics.air import AirRangeWarning
+        from levels.physics.lines.air import AirRangeWarning
 
         with _warnings.catch_warnings():  # infrared lines: the formula is extrapolated, as for every line set
             _warnings.simplefilter("ignore", AirRangeWarning)

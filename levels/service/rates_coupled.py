@@ -34,8 +34,7 @@ from levels.notation import (
     parse_level_term,
     parse_spectrum,
 )
-from levels.physics import rates as rate_physics
-from levels.physics.lande import lande_g_ls
+from levels.physics.lines.lande import lande_g_ls
 from levels.physics.many_electron import intermediate_coupling as ic
 from levels.physics.many_electron.slater_condon import (
     ConfigurationModel,
@@ -43,6 +42,7 @@ from levels.physics.many_electron.slater_condon import (
     open_shells,
     transition_amplitudes,
 )
+from levels.physics.one_electron import rates as rate_physics
 from levels.service.rates_common import LevelInput, LineRate, MethodResult
 
 __all__ = ["METHOD", "VERSION", "can_treat", "coupled_rates"]

@@ -35,10 +35,10 @@ from levels.io import records as records_io
 from levels.io import spectra as spectra_io
 from levels.isotopes import isotope
 from levels.notation import parse_spectrum
-from levels.physics import air
-from levels.physics import spectrum as line_shapes
 from levels.physics.diagnostics import boltzmann, calibration, peaks, stark
 from levels.physics.discharge import validity as lte_validity
+from levels.physics.lines import air
+from levels.physics.plasma import spectrum as line_shapes
 from levels.units import CM1_J, K_B
 
 __all__ = [

@@ -18,7 +18,7 @@ from collections.abc import Mapping, Sequence
 import numpy as np
 
 from levels.errors import PhysicsInputError
-from levels.physics import air as _air
+from levels.physics.lines import air as _air
 
 #: the air formulas a query may ask for
 AIR_FORMULAS: tuple[str, ...] = _air.FORMULAS
@@ -320,7 +320,7 @@ def hydrogenic_corrections(*, recoil: bool = True, qed: bool = True, finite_size
 
     Returns
     -------
-    levels.physics.dirac.Corrections
+    levels.physics.one_electron.dirac.Corrections
         For :meth:`levels.catalog.Catalog.compute_hydrogenic`.
 
     Examples
@@ -328,7 +328,7 @@ def hydrogenic_corrections(*, recoil: bool = True, qed: bool = True, finite_size
     >>> hydrogenic_corrections(qed=False).as_dict()["self_energy"]
     False
     """
-    from levels.physics.dirac import Corrections
+    from levels.physics.one_electron.dirac import Corrections
 
     return Corrections(recoil=recoil, self_energy=qed, vacuum_polarization=qed, finite_size=finite_size,
                        higher_order=qed)

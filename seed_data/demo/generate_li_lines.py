@@ -12,7 +12,7 @@ from pathlib import Path
 
 import numpy as np
 
-from levels.physics.air import vacuum_to_air
+from levels.physics.lines.air import vacuum_to_air
 
 HERE = Path(__file__).resolve().parent
 rng = np.random.default_rng(7070)

@@ -6,8 +6,8 @@
   for ``levels peaks --calibration`` and ``levels diagnose``.
 
 The spectrometer's dispersion, the lamp and arc conditions and the noise are invented. Line positions
-and strengths come from the project's own physics (levels.physics.hydrogenic: computed H I and D I;
-levels.physics.plasma: Boltzmann populations; levels.physics.spectrum: line shapes). The arc's Balmer
+and strengths come from the project's own physics (levels.physics.one_electron.hydrogenic: computed H I and D I;
+levels.physics.plasma.equilibrium: Boltzmann populations; levels.physics.plasma.spectrum: line shapes). The arc's Balmer
 lines carry the Stark widths of levels.physics.diagnostics.stark at the invented ne; the widths given to
 H-gamma and H-delta are invented (taken equal to H-beta's).
 Run: python seed_data/demo/generate_spectra.py   (writes both files next to this script)
@@ -18,8 +18,9 @@ from pathlib import Path
 import numpy as np
 from scipy.constants import physical_constants as pc
 
-from levels.physics import hydrogenic, plasma
-from levels.physics import spectrum as shapes
+from levels.physics.one_electron import hydrogenic
+from levels.physics.plasma import equilibrium as plasma
+from levels.physics.plasma import spectrum as shapes
 from levels.physics.diagnostics import stark
 
 HERE = Path(__file__).resolve().parent

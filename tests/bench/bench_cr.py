@@ -16,8 +16,8 @@ import time
 import numpy as np
 from scipy.sparse.linalg import spsolve
 
-from levels.physics import hydrogenic
 from levels.physics.discharge import balance
+from levels.physics.one_electron import hydrogenic
 
 from tests.bench.harness import BenchResult, best_time
 

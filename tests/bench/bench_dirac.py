@@ -1,4 +1,4 @@
-"""Benchmarks of the one-electron energies (levels.physics.dirac).
+"""Benchmarks of the one-electron energies (levels.physics.one_electron.dirac).
 
 * ``bench_levels_million``: energies of 1 000 000 random (n <= 200, l, j) states
   of Fe25+ with every correction, by one vectorised call, against the same
@@ -9,7 +9,7 @@ from __future__ import annotations
 
 import numpy as np
 
-from levels.physics.dirac import level_energies_cm1
+from levels.physics.one_electron.dirac import level_energies_cm1
 
 from tests.bench.harness import BenchResult, best_time
 

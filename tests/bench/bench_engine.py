@@ -12,7 +12,7 @@ import time
 
 import numpy as np
 
-from levels.physics.combination import build_lines
+from levels.physics.lines.combination import build_lines
 
 from tests.bench.harness import BenchResult, best_time
 

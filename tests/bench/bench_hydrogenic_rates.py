@@ -1,4 +1,4 @@
-"""Benchmarks of the hydrogenic radial integrals and E1 rates (levels.physics.radial / rates).
+"""Benchmarks of the hydrogenic radial integrals and E1 rates (levels.physics.one_electron.radial / rates).
 
 * ``bench_radial_vs_quad``: 200 radial dipole integrals with n <= 30, by the
   vectorised recurrence versus numerical integration (scipy quad) of the
@@ -15,8 +15,8 @@ import warnings
 
 import numpy as np
 
-from levels.physics.radial import radial_dipole, radial_dipole_array, table_size
-from levels.physics.rates import A_COEFFICIENT, F_COEFFICIENT, hydrogenic_e1_lines
+from levels.physics.one_electron.radial import radial_dipole, radial_dipole_array, table_size
+from levels.physics.one_electron.rates import A_COEFFICIENT, F_COEFFICIENT, hydrogenic_e1_lines
 
 from tests.bench.harness import BenchResult, best_time
 

@@ -19,7 +19,7 @@ import numpy as np
 
 from levels.catalog import Catalog, _hydrogenic_level_rows
 from levels.isotopes import isotope
-from levels.physics import hydrogenic
+from levels.physics.one_electron import hydrogenic
 from levels.store.queries import LINE_INSERT_COLUMNS
 
 from tests.bench.harness import BenchResult

@@ -115,7 +115,7 @@ def _measure(code: str) -> dict:
     """Run ``code`` in a fresh interpreter; it prints one JSON line, which is returned."""
     prelude = (
         "import json, os, resource, time\n"
-        "import levels.catalog, levels.cli, levels.physics.combination\n"
+        "import levels.catalog, levels.cli, levels.physics.lines.combination\n"
         "def rss():\n"
         "    for line in open('/proc/self/status'):\n"
         "        if line.startswith('VmRSS:'):\n"

@@ -1,7 +1,7 @@
 """Benchmark of peak finding and fitting against scipy's curve_fit, one peak at a time.
 
 The project's code finds and fits 1,000 Gaussian peaks (some blended in pairs) in a 200,000-point
-spectrum drawn by levels.physics.spectrum with noise: baseline, noise, detection and windowed fits of
+spectrum drawn by levels.physics.plasma.spectrum with noise: baseline, noise, detection and windowed fits of
 blends together (levels.physics.diagnostics.peaks.find_and_fit). The baseline fits the same peaks one by
 one with scipy.optimize.curve_fit over the whole spectrum (a Gaussian plus a constant, started at the
 true centre and width); it runs on a 20-peak subset in the same process and is scaled linearly to
@@ -16,8 +16,8 @@ import time
 import numpy as np
 from scipy.optimize import curve_fit
 
-from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import peaks
+from levels.physics.plasma import spectrum as shapes
 
 from tests.bench.harness import BenchResult, best_time
 

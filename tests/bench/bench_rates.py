@@ -19,9 +19,9 @@ import time
 
 import numpy as np
 
-from levels.physics import rates
 from levels.physics.many_electron import model_potential, numerov
 from levels.physics.many_electron.single_valence import compute_single_valence
+from levels.physics.one_electron import rates
 
 from tests.bench.harness import BenchResult
 

@@ -1,6 +1,6 @@
 """Benchmark: Ritz level optimisation, 10,000 lines and 3,000 levels (INVENTED scheme).
 
-Figure: :func:`levels.physics.ritz.optimize_levels` (sparse assembly and
+Figure: :func:`levels.physics.lines.ritz.optimize_levels` (sparse assembly and
 connectivity, normal equations factorised as chosen by ``method="auto"``),
 including energies, the covariance diagonal and every line's Ritz uncertainty.
 Baseline: :func:`numpy.linalg.lstsq` on the dense weighted design matrix of the
@@ -13,7 +13,7 @@ import time
 
 import numpy as np
 
-from levels.physics.ritz import optimize_levels
+from levels.physics.lines.ritz import optimize_levels
 
 from tests.bench.harness import BenchResult, best_time
 

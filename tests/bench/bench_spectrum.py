@@ -13,7 +13,7 @@ import time
 import numpy as np
 from scipy.special import voigt_profile
 
-from levels.physics.spectrum import make_grid, synthetic_spectrum, voigt_fwhm_nm
+from levels.physics.plasma.spectrum import make_grid, synthetic_spectrum, voigt_fwhm_nm
 
 from tests.bench.harness import BenchResult, best_time
 

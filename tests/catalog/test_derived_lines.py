@@ -16,7 +16,7 @@ from levels import catalog as catalog_module
 from levels.catalog import Catalog, LineQuery
 from levels.cli import main
 from levels.errors import TooLargeError
-from levels.physics.combination import build_lines
+from levels.physics.lines.combination import build_lines
 from levels.store.database import dump
 from levels.store.schema import Level
 

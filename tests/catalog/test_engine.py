@@ -78,7 +78,7 @@ def test_engine_handles_20000_levels_without_pair_loops():
     """20,000 levels of one species: the vectorised engine builds every E1 pair in a window."""
     import numpy as np
 
-    from levels.physics.combination import build_lines
+    from levels.physics.lines.combination import build_lines
 
     rng = np.random.default_rng(1)
     n = 20000

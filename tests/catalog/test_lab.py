@@ -89,7 +89,7 @@ def test_series_limit_of_the_invented_sample_is_stored_and_shown(lab):
     import scipy.constants as sc
 
     from levels.isotopes import isotope
-    from levels.physics.series import rydberg_constant_cm1
+    from levels.physics.lines.series import rydberg_constant_cm1
 
     truth = rydberg_constant_cm1(isotope(3, 7).nuclear_mass_u) / (2 - 0.401) ** 2
     assert abs(report["limit_cm1"] - truth) < 4 * report["limit_unc_cm1"]

@@ -8,7 +8,7 @@ import pytest
 from click.testing import CliRunner
 
 from levels.cli import main
-from levels.physics import air
+from levels.physics.lines import air
 
 
 def _split(text):

@@ -1,4 +1,4 @@
-"""Tests of levels.physics.air against published values and two general-purpose libraries.
+"""Tests of levels.physics.lines.air against published values and two general-purpose libraries.
 
 External implementations used (test dependencies):
   * PyAstronomy (pyasl.vactoair2 / airtovac2, mode "ciddor": Ciddor 1996 standard air)
@@ -16,8 +16,8 @@ from hypothesis import given, settings
 from hypothesis import strategies as st
 
 from levels.errors import PhysicsInputError
-from levels.physics import air
-from levels.physics.air import (
+from levels.physics.lines import air
+from levels.physics.lines.air import (
     FORMULAS,
     AirRangeWarning,
     air_to_vacuum,

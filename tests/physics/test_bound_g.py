@@ -1,4 +1,4 @@
-"""Bound-electron g-factors of one-electron ions (levels.physics.bound_g)."""
+"""Bound-electron g-factors of one-electron ions (levels.physics.one_electron.bound_g)."""
 
 from __future__ import annotations
 
@@ -10,8 +10,8 @@ import scipy.constants as sc
 
 from levels.errors import PhysicsInputError, QuantumNumberError
 from levels.isotopes import isotope
-from levels.physics.bound_g import G_E, bound_electron_g, dirac_g_factor, kappa
-from levels.physics.lande import lande_g_ls
+from levels.physics.lines.lande import lande_g_ls
+from levels.physics.one_electron.bound_g import G_E, bound_electron_g, dirac_g_factor, kappa
 
 ALPHA = sc.fine_structure
 

@@ -13,7 +13,7 @@ from scipy.integrate import trapezoid
 
 from levels.errors import PhysicsInputError
 from levels.physics import colour as lc
-from levels.physics.spectrum import synthetic_spectrum
+from levels.physics.plasma.spectrum import synthetic_spectrum
 
 with warnings.catch_warnings():
     warnings.simplefilter("ignore")

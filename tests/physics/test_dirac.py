@@ -1,4 +1,4 @@
-"""Tests of levels.physics.dirac (one-electron energies) and levels.physics.nuclear.
+"""Tests of levels.physics.one_electron.dirac (one-electron energies) and levels.physics.one_electron.nuclear.
 
 Every reference value carries its source. The precision targets are checks of the
 whole theory against measurements: hydrogen 1S-2S, the 2S-2P Lamb shift, the H-D
@@ -21,8 +21,8 @@ from scipy.optimize import brentq
 from sympy.physics.hydrogen import E_nl, E_nl_dirac
 
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics import dirac
-from levels.physics.dirac import (
+from levels.physics.one_electron import dirac
+from levels.physics.one_electron.dirac import (
     MEC2_HZ,
     Corrections,
     bethe_logarithm,
@@ -34,7 +34,7 @@ from levels.physics.dirac import (
     level_energies_cm1,
     level_energies_hz,
 )
-from levels.physics.nuclear import (
+from levels.physics.one_electron.nuclear import (
     ANGELI_MARINOVA_2013,
     fallback_charge_radius_fm,
     nuclear_mass_u,

@@ -4,7 +4,7 @@ import pytest
 import scipy.constants as sc
 
 from levels.errors import QuantumNumberError
-from levels.physics.lande import G_S, lande_g_ls
+from levels.physics.lines.lande import G_S, lande_g_ls
 
 
 @pytest.mark.parametrize("two_s, L, two_j, g", [

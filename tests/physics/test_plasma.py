@@ -1,4 +1,4 @@
-"""Tests of levels.physics.plasma against CODATA (scipy.constants), textbooks and direct integration."""
+"""Tests of levels.physics.plasma.equilibrium against CODATA (scipy.constants), textbooks and direct integration."""
 
 from __future__ import annotations
 
@@ -12,7 +12,7 @@ from scipy.optimize import brentq
 from scipy.special import expn
 
 from levels.errors import PhysicsInputError
-from levels.physics import plasma as pl
+from levels.physics.plasma import equilibrium as pl
 
 # hydrogen (1H) term energies E_n = R_H (1 - 1/n^2) with the reduced-mass Rydberg constant,
 # all from CODATA through scipy.constants (Bohr model with reduced mass)

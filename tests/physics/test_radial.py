@@ -1,4 +1,4 @@
-"""Tests of levels.physics.radial against sympy.physics.hydrogen and Gordon's closed form."""
+"""Tests of levels.physics.one_electron.radial against sympy.physics.hydrogen and Gordon's closed form."""
 
 from __future__ import annotations
 
@@ -18,8 +18,8 @@ from scipy.integrate import quad
 from sympy.physics.hydrogen import R_nl
 
 from levels.errors import PhysicsInputError, QuantumNumberError, TooLargeError
-from levels.physics import radial
-from levels.physics.radial import (
+from levels.physics.one_electron import radial
+from levels.physics.one_electron.radial import (
     radial_dipole,
     radial_dipole_all_l,
     radial_dipole_array,
@@ -384,7 +384,7 @@ def test_python_form_of_the_compiled_kernel_matches():
 
 def test_without_numba_in_a_fresh_process():
     code = (
-        "from levels.physics import radial; import numpy as np;"
+        "from levels.physics.one_electron import radial; import numpy as np;"
         "assert not radial.COMPILED;"
         "R = radial.radial_dipole_table(25)[4]; print(float(R.sum()));"
         "print(radial.radial_dipole(9, 3, 3, 2))"

@@ -1,4 +1,4 @@
-"""Tests of levels.physics.rates against published hydrogen tables and sympy.physics.wigner."""
+"""Tests of levels.physics.one_electron.rates against published hydrogen tables and sympy.physics.wigner."""
 
 from __future__ import annotations
 
@@ -13,8 +13,8 @@ from sympy.physics.hydrogen import E_nl_dirac
 from sympy.physics.wigner import wigner_6j
 
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics.radial import radial_dipole_array, table_size
-from levels.physics.rates import (
+from levels.physics.one_electron.radial import radial_dipole_array, table_size
+from levels.physics.one_electron.rates import (
     A_COEFFICIENT,
     F_COEFFICIENT,
     branching_ratios,

@@ -1,4 +1,4 @@
-"""Tests of levels.physics.ritz.
+"""Tests of levels.physics.lines.ritz.
 
 Level schemes and lines are INVENTED (random energies, random level graphs).
 The outside reference is numpy.linalg.lstsq: the same weighted least-squares
@@ -12,7 +12,7 @@ import numpy as np
 import pytest
 
 from levels.errors import PhysicsInputError
-from levels.physics.ritz import RitzFit, optimize_levels
+from levels.physics.lines.ritz import RitzFit, optimize_levels
 
 
 def invented_scheme(rng, n_levels, n_lines, unc_range=(0.001, 0.05)):

@@ -1,4 +1,4 @@
-"""Tests of levels.physics.selection.
+"""Tests of levels.physics.lines.selection.
 
 Hand-checked cases follow the rules as tabulated in Cowan, *The Theory of
 Atomic Structure and Spectra* (1981), sections 14.1 and 15.1, and Sobelman,
@@ -20,7 +20,7 @@ from sympy import Rational
 from sympy.physics.wigner import wigner_3j
 
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics.selection import (
+from levels.physics.lines.selection import (
     MULTIPOLES,
     allowed,
     candidate_pairs,

@@ -1,4 +1,4 @@
-"""Tests of levels.physics.series.
+"""Tests of levels.physics.lines.series.
 
 Hydrogen-like levels come from sympy.physics.hydrogen (E_nl: Bohr energies;
 E_nl_dirac: Dirac energies), scaled by the reduced-mass Rydberg constant built
@@ -14,7 +14,7 @@ import scipy.constants as sc
 from sympy.physics.hydrogen import E_nl, E_nl_dirac
 
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics.series import SeriesFit, fit_series_limit, rydberg_constant_cm1
+from levels.physics.lines.series import SeriesFit, fit_series_limit, rydberg_constant_cm1
 
 # CODATA via scipy.constants
 R_INF_CM1 = sc.Rydberg / 100.0

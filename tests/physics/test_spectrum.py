@@ -1,4 +1,4 @@
-"""Tests of levels.physics.spectrum against CODATA (scipy.constants), scipy's Voigt function and a
+"""Tests of levels.physics.plasma.spectrum against CODATA (scipy.constants), scipy's Voigt function and a
 naive full-grid evaluation."""
 
 from __future__ import annotations
@@ -13,7 +13,7 @@ from scipy.optimize import brentq
 from scipy.special import voigt_profile
 
 from levels.errors import PhysicsInputError, TooLargeError
-from levels.physics import spectrum as sp
+from levels.physics.plasma import spectrum as sp
 
 FWHM_PER_SIGMA = 2 * math.sqrt(2 * math.log(2))
 

@@ -176,8 +176,8 @@ def test_lifetime_uncertainty_is_the_weighted_line_figure():
 
 def test_lande_g_in_intermediate_coupling_keeps_the_g_sum():
     # Pauli's g-sum rule: the sum of g over the levels of one J of a configuration does not depend on the
-    # coupling (Condon & Shortley 1935, ch. XVI, from memory); LS values from levels.physics.lande
-    from levels.physics.lande import lande_g_ls
+    # coupling (Condon & Shortley 1935, ch. XVI, from memory); LS values from levels.physics.lines.lande
+    from levels.physics.lines.lande import lande_g_ls
 
     result = coupled_rates(_rows(HG), ionization_cm1=IP, spectrum="Hg I")
     rows = {row["level_id"]: row for row in result.parameters["configurations"]["6s.6p"]["levels"]}

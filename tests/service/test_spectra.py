@@ -1,7 +1,7 @@
 """Measured spectra through the store: peaks -> diagnose (Te, ne), lamp calibration, commit, command line.
 
 The spectra are drawn by the project's own emission and line-shape code (levels.emission through the
-catalog, levels.physics.spectrum) from computed H I and D I, plus noise.
+catalog, levels.physics.plasma.spectrum) from computed H I and D I, plus noise.
 """
 
 from __future__ import annotations
@@ -17,8 +17,8 @@ from click.testing import CliRunner
 from levels.catalog import Catalog, LineQuery
 from levels.cli import main
 from levels.errors import InputFileError, PhysicsInputError
-from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import calibration, stark
+from levels.physics.plasma import spectrum as shapes
 from levels.service import spectra as service
 
 TRUE = np.array([375.0, 0.02, 1e-7, -2e-12])  # invented spectrograph: nm at pixel p

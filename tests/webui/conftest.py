@@ -18,7 +18,7 @@ import pytest
 from sqlalchemy import select
 
 from levels.catalog import Catalog
-from levels.physics.air import vacuum_to_air
+from levels.physics.lines.air import vacuum_to_air
 from levels.store import database, queries
 from levels.store.schema import IonizationLimit, Level, Line
 
@@ -54,7 +54,7 @@ def insert_lines(catalog: Catalog, dataset_name: str, spectrum: str = "Li I", *,
     Pairs of opposite parity with |delta l| = 1 become E1 lines, same-parity pairs with
     |delta l| = 2 become E2 lines; the A values are invented (log-uniform 1e2..1e8 s-1).
     The wavenumber is the difference of the two stored energies; the air wavelength
-    comes from the project's own conversion (levels.physics.air), empty below 200 nm.
+    comes from the project's own conversion (levels.physics.lines.air), empty below 200 nm.
     """
     rng = np.random.default_rng(seed)
 

@@ -9,7 +9,7 @@ import numpy as np
 import pytest
 
 from levels.catalog import LineQuery
-from levels.physics import spectrum as shapes
+from levels.physics.plasma import spectrum as shapes
 
 from webui import create_app
 

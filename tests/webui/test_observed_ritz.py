@@ -29,7 +29,7 @@ def li(catalog):
 
 def _ritz_air(catalog):
     """The Ritz value of PAIR from the stored levels, through the project's air conversion."""
-    from levels.physics.air import vacuum_to_air
+    from levels.physics.lines.air import vacuum_to_air
 
     rows, _ = catalog.species_lines(LineQuery(spectrum="Li I", from_nm=700, to_nm=710, medium="air"))
     row = next(r for r in rows if (r["lower"], r["upper"]) == PAIR)

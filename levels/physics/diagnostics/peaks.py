@@ -19,7 +19,7 @@ The steps, each a function on arrays:
    per-sample noise (given, or estimated in step 1), so they are absolute.
 
 The Voigt profile is :func:`scipy.special.voigt_profile`; its FWHM is the
-Olivero & Longbothum approximation (:func:`levels.physics.spectrum.voigt_fwhm_nm`,
+Olivero & Longbothum approximation (:func:`levels.physics.plasma.spectrum.voigt_fwhm_nm`,
 relative error below 2.4e-4).
 
 Units: the axis ``x`` may be wavelength (nm) or pixel; centres and widths come

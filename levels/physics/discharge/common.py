@@ -30,7 +30,7 @@ RATE_UNIT_M3_S = 2.0 * math.sqrt(math.pi) * units.ALPHA * units.C * BOHR_M**2
 
 #: accepted electron temperatures, K
 TE_MIN_K, TE_MAX_K = 1.0, 1e9
-#: accepted electron densities, m-3 (as levels.physics.plasma)
+#: accepted electron densities, m-3 (as levels.physics.plasma.equilibrium)
 NE_MIN_M3, NE_MAX_M3 = 1e6, 1e32
 
 

@@ -18,7 +18,7 @@ integrated inward at the level's *measured* energy (:mod:`.numerov`). Then
   Coulomb functions lack; applied to them it over-corrects, Cs 6p lifetimes
   +13 % instead of -4.7 %), line
   strength :math:`S = (2j+1)(2j'+1)\\{l\\,j\\,\\tfrac12; j'\\,l'\\,1\\}^2 l_> R^2`
-  (the factor of :func:`levels.physics.rates.fine_structure_factor`), or
+  (the factor of :func:`levels.physics.one_electron.rates.fine_structure_factor`), or
   :math:`2 l_> R^2` for terms whose J is not resolved;
 * **E2** lines (:math:`\\Delta l = 0, \\pm2`) and **M1** lines within a
   fine-structure doublet, only from levels that have no E1 decay among the
@@ -84,9 +84,9 @@ from scipy import constants as _sc
 
 from levels import units
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics import rates as hydrogenic_rates
 from levels.physics.many_electron import coulomb_approximation, model_potential, numerov
 from levels.physics.many_electron.core_polarisation import dipole_operator
+from levels.physics.one_electron import rates as hydrogenic_rates
 
 __all__ = ["BASE_REL_UNC", "NONPENETRATING_DEFECT", "E2_COEFFICIENT", "M1_COEFFICIENT", "SeriesChoice",
            "SingleValenceResult", "wigner_3j", "wigner_6j", "e2_angular_factor", "m1_angular_factor",

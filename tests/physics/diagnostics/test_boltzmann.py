@@ -9,9 +9,10 @@ import pytest
 from scipy.constants import physical_constants as pc
 
 from levels.errors import PhysicsInputError
-from levels.physics import hydrogenic, plasma
-from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import boltzmann, peaks
+from levels.physics.one_electron import hydrogenic
+from levels.physics.plasma import equilibrium as plasma
+from levels.physics.plasma import spectrum as shapes
 
 M_P_U = pc["proton mass in u"][0]
 #: second radiation constant c2 = hc/k, m K (CODATA via scipy.constants)
@@ -108,7 +109,7 @@ def test_outlier_is_flagged_and_left_out():
 
 
 def test_saha_boltzmann_closed_loop_with_the_project_saha_balance():
-    # two stages of an invented element: levels, Saha ratio and populations from levels.physics.plasma
+    # two stages of an invented element: levels, Saha ratio and populations from levels.physics.plasma.equilibrium
     te, ne, e_ion = 14000.0, 3e22, 60000.0
     e0, g0 = np.array([0.0, 20000.0, 30000.0, 40000.0]), np.array([1.0, 3.0, 5.0, 3.0])
     e1, g1 = np.array([0.0, 15000.0, 25000.0, 35000.0]), np.array([2.0, 2.0, 4.0, 6.0])

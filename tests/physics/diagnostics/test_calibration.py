@@ -9,9 +9,9 @@ import pytest
 from scipy.constants import physical_constants as pc
 
 from levels.errors import PhysicsInputError
-from levels.physics import hydrogenic
-from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import calibration, peaks
+from levels.physics.one_electron import hydrogenic
+from levels.physics.plasma import spectrum as shapes
 
 M_P_U = pc["proton mass in u"][0]
 M_D_U = pc["deuteron mass in u"][0]

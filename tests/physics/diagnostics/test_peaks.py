@@ -1,4 +1,4 @@
-"""Peak fitting: closed loop on spectra drawn by levels.physics.spectrum, and scipy's curve_fit on the same data."""
+"""Peak fitting: closed loop on spectra drawn by levels.physics.plasma.spectrum, and scipy's curve_fit on the same data."""
 
 from __future__ import annotations
 
@@ -8,8 +8,8 @@ from scipy.optimize import curve_fit
 from scipy.special import voigt_profile
 
 from levels.errors import PhysicsInputError
-from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import peaks
+from levels.physics.plasma import spectrum as shapes
 
 GRID = shapes.make_grid(655.0, 657.5, points=1251)  # 2 pm steps
 

@@ -8,8 +8,8 @@ from scipy.optimize import brentq
 from scipy.special import voigt_profile
 
 from levels.errors import PhysicsInputError
-from levels.physics import spectrum as shapes
 from levels.physics.diagnostics import peaks, stark
+from levels.physics.plasma import spectrum as shapes
 
 
 def test_fit_coefficients_as_published():
@@ -60,7 +60,7 @@ def test_lorentz_from_voigt_against_scipy_voigt_profile(fg, fl):
 
 
 def test_density_closed_loop_through_the_project_line_shapes():
-    # H-beta drawn by levels.physics.spectrum with the Stark width of 3e21 m-3 (Lorentzian), Doppler at 1500 K and
+    # H-beta drawn by levels.physics.plasma.spectrum with the Stark width of 3e21 m-3 (Lorentzian), Doppler at 1500 K and
     # a 0.03 nm instrument; fitted with a Voigt profile; Gaussian part removed; ne back within 10 %
     ne0 = 3e21
     line = 486.1

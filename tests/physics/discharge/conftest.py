@@ -3,8 +3,8 @@
 import numpy as np
 import pytest
 
-from levels.physics import hydrogenic
 from levels.physics.discharge.balance import CRSpecies
+from levels.physics.one_electron import hydrogenic
 
 PROTON_MASS_U = 1.007276466621  # CODATA 2018 (scipy.constants: proton mass in u)
 

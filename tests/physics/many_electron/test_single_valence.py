@@ -20,7 +20,7 @@ import numpy as np
 import pytest
 
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics import radial, rates
+from levels.physics.lines.series import rydberg_constant_cm1
 from levels.physics.many_electron import coulomb_approximation, model_potential, numerov
 from levels.physics.many_electron.core_polarisation import core_polarisability, dipole_operator
 from levels.physics.many_electron.single_valence import (
@@ -34,7 +34,7 @@ from levels.physics.many_electron.single_valence import (
     wigner_3j,
     wigner_6j,
 )
-from levels.physics.series import rydberg_constant_cm1
+from levels.physics.one_electron import radial, rates
 
 M_E_U = 5.48579909065e-4  # electron mass in u (CODATA 2018)
 
@@ -191,7 +191,7 @@ def test_na_d2_d1_line_strength_ratio():
 
 def test_radial_integrals_equal_hydrogenic_when_pure_coulomb():
     # Coulomb approximation at integer effective quantum numbers and the model potential with
-    # Z = 1 (no core) against the exact integrals of levels.physics.radial (Storey & Hummer 1991; Gordon 1929)
+    # Z = 1 (no core) against the exact integrals of levels.physics.one_electron.radial (Storey & Hummer 1991; Gordon 1929)
     states = [(n, l) for n in range(1, 8) for l in range(n)]
     nu = np.array([n for n, _ in states], dtype=float)
     ls = np.array([l for _, l in states])
@@ -212,7 +212,7 @@ def test_radial_integrals_equal_hydrogenic_when_pure_coulomb():
 
 def test_hydrogen_rates_through_the_whole_method():
     # with levels at the exact infinite-mass energies the assembly gives the hydrogenic A and f
-    # of levels.physics.rates (itself checked against closed forms)
+    # of levels.physics.one_electron.rates (itself checked against closed forms)
     rinf = 109737.31568160  # CODATA 2018 R_inf, cm-1
     n = [1, 2, 2, 2, 3, 3, 3]
     l = [0, 0, 1, 1, 0, 1, 2]

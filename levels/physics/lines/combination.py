@@ -9,7 +9,7 @@ independent level uncertainties u_l, u_u (cm-1),
 the "Ritz wavelength" and its uncertainty (first-order propagation; a level
 without an uncertainty contributes zero, and a line whose both levels lack one
 has no uncertainty). The pairs themselves come from the exact selection rules
-of :mod:`levels.physics.selection`, processed block by block so memory stays
+of :mod:`levels.physics.lines.selection`, processed block by block so memory stays
 bounded for tens of thousands of levels; a wavenumber window is applied to each
 block before anything is kept.
 
@@ -34,7 +34,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from levels.errors import PhysicsInputError
-from levels.physics import air, selection
+from levels.physics.lines import air, selection
 
 
 @dataclass
@@ -100,7 +100,7 @@ def build_lines(energy_cm1: ArrayLike, unc_cm1: ArrayLike, two_j: ArrayLike, par
     max_upper_cm1 : float
         Upper levels above this energy are left out.
     air_formula : str
-        Formula of :mod:`levels.physics.air` for air wavelengths (NaN below 200 nm).
+        Formula of :mod:`levels.physics.lines.air` for air wavelengths (NaN below 200 nm).
     max_lines : int
         Refuse (PhysicsInputError) a result larger than this, naming its size.
 

@@ -4,14 +4,14 @@ This module assembles the laws of the neighbouring modules into one model of a
 hydrogen-like ion of charge Z and nuclear mass M up to a principal quantum
 number ``n_max``:
 
-* energies from :mod:`levels.physics.dirac` (Dirac + recoil + QED + finite size);
-* E1 line strengths, f and A from :mod:`levels.physics.rates` (radial integrals
-  of :mod:`levels.physics.radial`), lifetimes including the two-photon and M1
+* energies from :mod:`levels.physics.one_electron.dirac` (Dirac + recoil + QED + finite size);
+* E1 line strengths, f and A from :mod:`levels.physics.one_electron.rates` (radial integrals
+  of :mod:`levels.physics.one_electron.radial`), lifetimes including the two-photon and M1
   decay of 2s;
-* the g-factor of each level from :mod:`levels.physics.bound_g` (Dirac value plus
+* the g-factor of each level from :mod:`levels.physics.one_electron.bound_g` (Dirac value plus
   the free-electron anomaly; the LS Landé factor would miss the relativistic
   binding term, 17 % for U91+ 1s);
-* air wavelengths from :mod:`levels.physics.air` above 200 nm.
+* air wavelengths from :mod:`levels.physics.lines.air` above 200 nm.
 
 Mass convention (recorded in the dataset): line strengths are those of the
 reduced-mass atom; transition energies come from the computed levels.
@@ -37,7 +37,8 @@ import numpy as np
 from numpy.typing import NDArray
 
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics import air, bound_g, dirac, rates
+from levels.physics.lines import air
+from levels.physics.one_electron import bound_g, dirac, rates
 from levels.units import M_E_U
 
 #: largest n_max accepted (the radial recurrence is tested to n = 1000)
@@ -91,7 +92,7 @@ class HydrogenicModel:
             "nuclear_mass_u": self.nuclear_mass_u,
             "charge_radius_fm": self.charge_radius_fm,
             "charge_radius_source": self.radius_source,
-            "g_factor": "Dirac bound-electron g plus the free-electron anomaly (levels.physics.bound_g)",
+            "g_factor": "Dirac bound-electron g plus the free-electron anomaly (levels.physics.one_electron.bound_g)",
             "mass_convention": "line strengths of the reduced-mass atom; transition energies from the computed levels",
             "air_formula": air.formula_description("iau2000") + " (extrapolated beyond 2000 nm)",
         }
@@ -167,7 +168,7 @@ def compute(z: int, *, nuclear_mass_u: float, n_max: int = 20, fine_structure: b
     corrections : Corrections
         Which corrections to the Dirac energy are applied.
     charge_radius_fm : float, optional
-        Nuclear rms charge radius; default from :func:`levels.physics.nuclear.charge_radius_fm`.
+        Nuclear rms charge radius; default from :func:`levels.physics.one_electron.nuclear.charge_radius_fm`.
     mass_number : int, optional
         Mass number for the radius table (default: nearest integer to the mass).
 

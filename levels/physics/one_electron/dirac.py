@@ -77,9 +77,9 @@ import scipy.constants as sc
 from scipy.special import digamma, gammaln
 
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics import nuclear as _nuclear
-from levels.physics.nuclear import charge_radius_fm
-from levels.physics.nuclear import check_z as _check_z
+from levels.physics.one_electron import nuclear as _nuclear
+from levels.physics.one_electron.nuclear import charge_radius_fm
+from levels.physics.one_electron.nuclear import check_z as _check_z
 from levels.units import ALPHA, CM1_HZ, LAMBDA_C_BAR, M_E_U, R_INF_C_HZ
 
 __all__ = [
@@ -749,7 +749,7 @@ def level_energies_hz(
         together.
     nuclear_mass_u : float
         Mass of the bare nucleus in u (atomic mass less Z electrons plus their
-        binding energy; see :func:`levels.physics.nuclear.nuclear_mass_u`).
+        binding energy; see :func:`levels.physics.one_electron.nuclear.nuclear_mass_u`).
     charge_radius_fm : float, optional
         rms nuclear charge radius in fm; by default the value of
         :func:`charge_radius_fm` for the mass number ``round(nuclear_mass_u)``.

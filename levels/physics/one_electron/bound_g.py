@@ -11,7 +11,7 @@ the Dirac eigenfunctions):
 
 with the Dirac quantum number :math:`\\kappa = -(j + 1/2)` for ``j = l + 1/2`` and
 :math:`\\kappa = +(j + 1/2)` for ``j = l - 1/2``, and :math:`E_{n\\kappa}` the Dirac energy
-including the rest energy (:func:`levels.physics.dirac.dirac_point_energy`,
+including the rest energy (:func:`levels.physics.one_electron.dirac.dirac_point_energy`,
 ``unit="f"``). For the ground state this is Breit's
 :math:`g_D(1s) = \\tfrac23\\,(1 + 2\\sqrt{1 - (Z\\alpha)^2})`; in the limit
 :math:`Z\\alpha \\to 0` it becomes the LS Landé factor with :math:`g_s = 2`.
@@ -31,7 +31,7 @@ What is left out, and its size: the binding corrections to the anomaly, led by
 from memory); nuclear recoil, of order :math:`(Z\\alpha)^2 m_e/M`; finite nuclear
 size, of order :math:`(Z\\alpha)^4 (R/\\lambda_C)^2`. For C5+ these come to about 1e-6,
 for Si13+ about 1e-5 of g; for uranium the one-loop binding terms reach a few 1e-4.
-The LS value (:mod:`levels.physics.lande`) misses the Dirac binding term, which is
+The LS value (:mod:`levels.physics.lines.lande`) misses the Dirac binding term, which is
 :math:`-\\tfrac43 (1-\\gamma)`, :math:`\\gamma = \\sqrt{1-(Z\\alpha)^2}`, for 1s: 0.35 (17 %) for U91+.
 
 References
@@ -48,7 +48,7 @@ import numpy as np
 import scipy.constants as sc
 from numpy.typing import ArrayLike, NDArray
 
-from levels.physics.dirac import _check_states, _check_z, dirac_point_energy
+from levels.physics.one_electron.dirac import _check_states, _check_z, dirac_point_energy
 
 __all__ = ["G_E", "bound_electron_g", "dirac_g_factor", "kappa"]
 
@@ -88,7 +88,7 @@ def dirac_g_factor(z: int, n: ArrayLike, l: ArrayLike, two_j: ArrayLike) -> NDAr
     Raises
     ------
     QuantumNumberError, PhysicsInputError
-        As :func:`levels.physics.dirac.dirac_point_energy`.
+        As :func:`levels.physics.one_electron.dirac.dirac_point_energy`.
 
     Examples
     --------

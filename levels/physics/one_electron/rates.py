@@ -17,7 +17,7 @@ Conventions
           \\begin{Bmatrix} l & j & 1/2 \\\\ j' & l' & 1 \\end{Bmatrix}^2 \\, l_> R^2 ,
 
   so that :math:`\\sum_{j j'} S(nlj, n'l'j') = S(nl, n'l')` (6j orthogonality).
-  ``R`` is the radial integral of :mod:`levels.physics.radial`.
+  ``R`` is the radial integral of :mod:`levels.physics.one_electron.radial`.
 * **Mass convention**: ``R`` (and so ``S``) belongs to the reduced-mass,
   charge-``z`` atom, ``R = R_H(infinite mass) / (z * m_r/m_e)``; the transition
   energies are *inputs*, taken from the caller's computed levels (Dirac,
@@ -93,7 +93,7 @@ from numpy.typing import ArrayLike, NDArray
 
 from levels import units
 from levels.errors import PhysicsInputError, QuantumNumberError
-from levels.physics import radial
+from levels.physics.one_electron import radial
 
 __all__ = [
     "fine_structure_factor",
@@ -265,7 +265,7 @@ def line_strength_nl(
     Notes
     -----
     ``R`` is the reduced-mass radial integral :math:`R_H/(z\\,m_r/m_e)`
-    (:func:`levels.physics.radial.radial_dipole_array`).
+    (:func:`levels.physics.one_electron.radial.radial_dipole_array`).
 
     References
     ----------
@@ -763,7 +763,7 @@ def hydrogenic_e1_lines(
     Notes
     -----
     Radial integrals of all shell pairs come from one vectorised recurrence
-    (:mod:`levels.physics.radial`); S, f and A as in the module docstring, with
+    (:mod:`levels.physics.one_electron.radial`); S, f and A as in the module docstring, with
     the wavenumber :math:`|E_a - E_b|` of the supplied levels.
 
     References
