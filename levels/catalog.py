@@ -8,12 +8,10 @@ audit entry. Neither the CLI nor the web site talks to SQL or to each other.
 
 from __future__ import annotations
 
-import hashlib
 import json
 import math
 import os
-from collections.abc import Callable, Iterable, Mapping, Sequence
-from dataclasses import dataclass, field
+from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
 
 import numpy as np
@@ -26,87 +24,41 @@ from levels.errors import (
     NotFoundError,
     PhysicsInputError,
     Problem,
-    ReservedNameError,
     StoreError,
 )
 from levels.io import records as level_io
-from levels.io.tables import read_delimited
 from levels.notation import Spectrum, format_j, hydrogen_line_name, parse_spectrum, principal_number
+from levels.service import imports
+from levels.service.contract import (  # noqa: F401 (re-exported: the front ends' names)
+    DEFAULT_MAX_STORE_BYTES,
+    EMISSION_COLUMNS,
+    LEVEL_COLUMNS,
+    LEVEL_UNITS,
+    LINE_COLUMNS,
+    LINE_HEADINGS,
+    LINE_LIST_COLUMNS,
+    LINE_UNITS,
+    MULTIPOLE_CODES,
+    RITZ_COLUMNS,
+    SAMPLE_CONDITION_FIELDS,
+    SPECIES_COLUMNS,
+    ImportReport,
+    LineQuery,
+)
+from levels.service.derived import (  # noqa: F401 (re-exported)
+    DEFAULT_MAX_DERIVED_LINES,
+    DERIVED_METHOD,
+    DERIVED_ROLE,
+    MAX_DERIVED_ENV,
+    RITZ_NOTE,
+    default_max_derived_lines,
+    derived_dataset_name,
+    rebuild_derived_lines,
+    store_derived_lines,
+)
+from levels.service.imports import detect_file_kind, table_content_sha256  # noqa: F401 (re-exported)
 from levels.store import database, queries
 from levels.store.schema import Dataset, IonizationLimit, Level, Sample, Species
-
-SPECIES_COLUMNS = ("spectrum", "z", "charge", "mass_number", "levels", "lines", "ionization_cm1",
-                   "ionization_unc_cm1", "datasets")
-LEVEL_COLUMNS = level_io.LEVEL_COLUMNS
-LEVEL_UNITS = {"energy_cm1": "cm-1", "unc_cm1": "cm-1", "lifetime_s": "s"}
-LINE_COLUMNS = ("spectrum", "lower", "upper", "lower_cm1", "upper_cm1", "wavenumber_cm1", "vacuum_nm", "air_nm",
-                "multipole", "a_per_s", "f_abs", "line_strength_au", "g_lower", "g_upper", "unc_nm", "dataset")
-EMISSION_COLUMNS = LINE_COLUMNS + ("rel_intensity", "photon_share")
-#: trailing columns of a line list (after LINE_COLUMNS): the observed wavelength of a measured line, the
-#: Ritz wavelength from its two levels, and observed - Ritz; all in the listing's medium (air above 200 nm
-#: when the medium is air, else vacuum), empty where the line has no observed wavelength
-RITZ_COLUMNS = ("obs_nm", "ritz_nm", "obs_minus_ritz_nm")
-#: and the customary name of a hydrogen line (H I, D I, T I: "Hα", "Lyβ"; empty otherwise)
-LINE_LIST_COLUMNS = LINE_COLUMNS + RITZ_COLUMNS + ("line_name",)
-LINE_UNITS = {"lower_cm1": "cm-1", "upper_cm1": "cm-1", "wavenumber_cm1": "cm-1", "vacuum_nm": "nm", "air_nm": "nm",
-              "a_per_s": "s-1", "line_strength_au": "e2 a0^2", "unc_nm": "nm", "obs_nm": "nm", "ritz_nm": "nm",
-              "obs_minus_ritz_nm": "nm"}
-LINE_HEADINGS = {"lower_cm1": "lower [cm-1]", "upper_cm1": "upper [cm-1]", "wavenumber_cm1": "σ [cm-1]",
-                 "vacuum_nm": "λ vac [nm]", "air_nm": "λ air [nm]", "a_per_s": "A [s-1]", "f_abs": "f",
-                 "line_strength_au": "S [au]", "unc_nm": "unc [nm]", "obs_nm": "observed [nm]",
-                 "ritz_nm": "Ritz [nm]", "obs_minus_ritz_nm": "obs - Ritz [nm]", "line_name": "name"}
-MULTIPOLE_CODES = ("E1", "M1", "E2", "M2", "E3", "2E1")
-#: default refusal limit of a computed dataset's rows (2 GB)
-DEFAULT_MAX_STORE_BYTES = 2_000_000_000
-SAMPLE_CONDITION_FIELDS = ("description", "gas_fill", "pressure_pa", "current_a", "instrument", "te_k", "ne_m3",
-                           "tgas_k", "path_length_m")
-
-
-@dataclass(frozen=True)
-class LineQuery:
-    """A line-list request: species (None = all), window, medium, filters, order and page."""
-
-    spectrum: str | None = None
-    from_nm: float | None = None
-    to_nm: float | None = None
-    medium: str = "vacuum"
-    multipoles: tuple[str, ...] | None = None
-    min_a: float | None = None
-    max_upper_cm1: float | None = None
-    datasets: tuple[str, ...] | None = None
-    order: str = "wavelength"
-    limit: int | None = None
-    offset: int = 0
-
-    def describe(self) -> str:
-        """The query in words for export headers."""
-        parts = [f"lines {self.spectrum or '(all species)'}"]
-        if self.from_nm is not None or self.to_nm is not None:
-            upper = "inf" if self.to_nm is None else f"{self.to_nm:.10g}"
-            parts.append(f"window {self.from_nm or 0:.10g}-{upper} nm {self.medium}")
-        if self.multipoles:
-            parts.append("multipoles " + ",".join(self.multipoles))
-        if self.min_a is not None:
-            parts.append(f"A >= {self.min_a:g} s-1")
-        if self.max_upper_cm1 is not None:
-            parts.append(f"upper <= {self.max_upper_cm1:g} cm-1")
-        parts.append(f"order {self.order}")
-        return "; ".join(parts)
-
-
-@dataclass
-class ImportReport:
-    """What an import wrote."""
-
-    source: str
-    kind: str
-    dataset: str
-    dataset_id: int
-    sample: str | None
-    species: list[str]
-    levels: int = 0
-    lines: int = 0
-    warnings: list[str] = field(default_factory=list)
 
 
 class Catalog:
@@ -341,7 +293,7 @@ class Catalog:
 
         def work(session: Session) -> int:
             species = queries.require_species(session, spec)
-            count = _store_derived_lines(session, species, self.actor)
+            count = store_derived_lines(session, species, self.actor)
             queries.record_audit(session, "recompute-lines", f"species {species.name}",
                                  {"derived_lines": count}, actor=self.actor)
             return count
@@ -464,7 +416,7 @@ class Catalog:
                                         unc_cm1=None, method=hydrogenic.METHOD))
             if queries.find_computed_dataset(session, species.id, DERIVED_ROLE) is not None:
                 # the replaced levels took some derived lines with them: rebuild the species' set
-                _store_derived_lines(session, species, self.actor)
+                store_derived_lines(session, species, self.actor)
             queries.record_audit(session, "compute-hydrogenic", f"dataset {ds.name}",
                                  {"levels": len(level_rows), "lines": total, "n_max": n_max,
                                   "fine_structure": fine_structure, "corrections": corrections.as_dict()},
@@ -505,167 +457,29 @@ class Catalog:
 
     def add_levels(self, dataset: str | int, records: Sequence[level_io.LevelRecord], *, source: str = "<form>") -> int:
         """Add validated levels to an existing measured or imported dataset (one transaction)."""
-
-        def work(session: Session) -> int:
-            ds = queries.require_dataset(session, dataset)
-            if ds.kind == "computed":
-                raise PhysicsInputError(f"dataset {ds.name!r} is computed; add measured levels to a measured dataset")
-            species_ids, n_levels = _insert_level_records(session, records, ds.id)
-            _rebuild_derived_lines(session, species_ids, self.actor, source=source)
-            queries.record_audit(session, "add-levels", f"dataset {ds.name}", {"source": source, "levels": n_levels},
-                                 actor=self.actor)
-            return n_levels
-
-        return self.write(work)
+        return imports.add_levels(self, dataset, records, source=source)
 
     def preview_levels(self, content: bytes, source: str) -> tuple[list[level_io.LevelRecord], list[Problem]]:
         """Parse and validate an uploaded levels file without writing: (records, problems)."""
-        try:
-            table = read_delimited(content, source=source)
-            records = level_io.validate_levels(
-                _checked_columns(table, level_io.LEVEL_COLUMNS, level_io.LEVEL_REQUIRED), source=source)
-        except InputFileError as exc:
-            return [], exc.problems
-        return records, []
+        return imports.preview_levels(content, source)
 
     # ------------------------------------------------------------- import
-    def import_file(self, path: str | os.PathLike, *, sample: str | None = None, dataset: str | None = None,
-                    kind: str = "measured", citation: str = "", description: str = "",
-                    sample_conditions: Mapping[str, object] | None = None,
-                    content: bytes | None = None, source: str | None = None,
-                    allow_off_ritz: str | None = None, max_derived_lines: int | None = None,
-                    again: bool = False) -> ImportReport:
-        """Import a levels file as a new dataset, all-or-nothing.
+    def import_file(self, path: str | os.PathLike, **options) -> ImportReport:
+        """Import a levels or lines file as a new dataset, all-or-nothing (:func:`.imports.import_file`)."""
+        return imports.import_file(self, path, **options)
 
-        The whole file is validated first; any problem raises
-        :class:`~levels.errors.InputFileError` and nothing is written. Then the
-        dataset, its sample (created if new), the species, the levels and an audit
-        entry are written in one transaction.
-
-        Parameters
-        ----------
-        allow_off_ritz : str, optional
-            For a lines file: why lines off their levels' Ritz wavenumbers are accepted
-            (recorded in the dataset's options and the audit log); without it they are refused.
-        max_derived_lines : int, optional
-            Most derived lines one species may imply (default :func:`default_max_derived_lines`).
-        again : bool
-            Import a file whose content (header and rows; comments and blank lines aside) is
-            already in the store once more under an automatic name; without it (and without an
-            explicit ``dataset`` name, which imports the copy with a warning) such a file is refused
-            (:class:`~levels.errors.AlreadyExistsError` naming the dataset that holds it).
-        """
-        name = source or Path(path).name
-        raw = content if content is not None else path
-        table = read_delimited(raw, source=name)
-        digest = table_content_sha256(table)
-        kind_of_file = detect_file_kind(table.columns, name, table.header_line)
-        if kind_of_file == "lines":
-            line_records = level_io.validate_lines(
-                _checked_columns(table, level_io.LINE_FILE_COLUMNS, level_io.LINE_FILE_REQUIRED), source=name)
-            del table
-            return self.import_line_records(line_records, source=name, sample=sample, dataset=dataset, kind=kind,
-                                            citation=citation, description=description,
-                                            sample_conditions=sample_conditions, allow_off_ritz=allow_off_ritz,
-                                            max_derived_lines=max_derived_lines, content_sha256=digest, again=again)
-        records = level_io.validate_levels(
-            _checked_columns(table, level_io.LEVEL_COLUMNS, level_io.LEVEL_REQUIRED),
-            source=name, default_dataset=dataset)
-        del table  # the raw rows (about half a kilobyte per level) are not needed for the write
-        return self.import_level_records(records, source=name, sample=sample, kind=kind, citation=citation,
-                                         description=description, sample_conditions=sample_conditions,
-                                         max_derived_lines=max_derived_lines, content_sha256=digest, again=again)
-
-    def import_line_records(self, records: Sequence[level_io.LineRecord], *, source: str, sample: str | None = None,
-                            dataset: str | None = None, kind: str = "measured", citation: str = "",
-                            description: str = "", sample_conditions: Mapping[str, object] | None = None,
-                            air_formula: str = "iau2000", allow_off_ritz: str | None = None,
-                            max_derived_lines: int | None = None, content_sha256: str | None = None,
-                            again: bool = False) -> ImportReport:
-        """Write validated measured lines as one new dataset; labels resolve to stored levels.
-
-        Each line is checked against its levels (selection rules of its multipole, Ritz
-        wavenumber; see :func:`levels.lab.store_measured_lines`); ``allow_off_ritz`` gives the
-        reason to accept lines off their Ritz wavenumbers, kept in the dataset's options.
-        """
-        from levels import lab
-
-        if not records:
-            raise InputFileError([Problem(source, None, None, "no lines to import")])
-
-        if dataset:
-            _refuse_reserved(dataset, source, None, "dataset")
-        warnings: list[str] = []
-
-        def work(session: Session) -> ImportReport:
-            _refuse_same_content(session, content_sha256, again, source, warnings, named=bool(dataset))
-            name = dataset or _free_dataset_name(session, source, sample, kind, warnings)
-            sample_row = None
-            if sample:
-                sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
-            ds = queries.create_dataset(session, name=name, kind=kind, citation=citation, author=self.actor,
-                                        description=description or f"lines imported from {source}",
-                                        method="file import", sample=sample_row,
-                                        options={"air_formula": air_formula}, content_sha256=content_sha256)
-            checked: dict = {}
-            count = lab.store_measured_lines(session, records, ds.id, source, air_formula,
-                                             allow_off_ritz=allow_off_ritz, report=checked)
-            _record_off_ritz(ds, allow_off_ritz, checked, warnings, source)
-            derived = _rebuild_derived_lines(session, {r.spectrum for r in records}, self.actor,
-                                             max_lines=max_derived_lines, source=source)
-            names = sorted({r.spectrum.name for r in records})
-            queries.record_audit(session, "import-lines", f"dataset {ds.name}",
-                                 {"source": source, "lines": count, "species": names, "sample": sample,
-                                  "derived_lines": derived, "off_ritz": checked.get("off_ritz", 0),
-                                  "allow_off_ritz": allow_off_ritz}, actor=self.actor)
-            return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
-                                species=names, lines=count, warnings=list(warnings))
-
-        return self.write(work)
+    def import_line_records(self, records: Sequence[level_io.LineRecord], **options) -> ImportReport:
+        """Write validated measured lines as one new dataset (:func:`levels.service.imports.import_line_records`)."""
+        return imports.import_line_records(self, records, **options)
 
     def import_dataset(self, level_records: Sequence[level_io.LevelRecord],
-                       line_records: Sequence[level_io.LineRecord], *, name: str, source: str,
-                       sample: str | None = None, kind: str = "measured", citation: str = "",
-                       description: str = "", air_formula: str = "iau2000",
-                       line_source: str | None = None, allow_off_ritz: str | None = None,
-                       max_derived_lines: int | None = None, method: str = "file import") -> ImportReport:
-        """One new dataset with levels and/or measured lines, in one transaction.
+                       line_records: Sequence[level_io.LineRecord], **options) -> ImportReport:
+        """One new dataset with levels and/or measured lines (:func:`levels.service.imports.import_dataset`)."""
+        return imports.import_dataset(self, level_records, line_records, **options)
 
-        ``method`` says how the data came in (``"file import"``; the JSON API records its own).
-
-        Line labels resolve against the store's levels with the new levels first
-        (the new dataset is the newest measured one), so a body may carry a
-        sample's levels and the lines between them together.
-        """
-        from levels import lab
-
-        if not level_records and not line_records:
-            raise InputFileError([Problem(source, None, None, "a dataset needs levels or lines")])
-        if kind not in ("measured", "imported"):
-            raise ValueError("imports make measured or imported datasets")
-        _refuse_reserved(name, source, None, "name")
-
-        def work(session: Session) -> ImportReport:
-            sample_row = queries.get_or_create_sample(session, sample) if sample else None
-            ds = queries.create_dataset(session, name=name, kind=kind, citation=citation, author=self.actor,
-                                        description=description or f"imported from {source}", method=method,
-                                        sample=sample_row, options={"air_formula": air_formula})
-            species_ids, n_levels = _insert_level_records(session, level_records, ds.id)
-            checked: dict = {}
-            count = (lab.store_measured_lines(session, line_records, ds.id, line_source or source, air_formula,
-                                              allow_off_ritz=allow_off_ritz, report=checked)
-                     if line_records else 0)
-            _record_off_ritz(ds, allow_off_ritz, checked, [], source)
-            spectra = set(species_ids) | {r.spectrum for r in line_records}
-            derived = _rebuild_derived_lines(session, spectra, self.actor, max_lines=max_derived_lines, source=source)
-            names = sorted({r.spectrum.name for r in level_records} | {r.spectrum.name for r in line_records})
-            queries.record_audit(session, "import-dataset", f"dataset {ds.name}",
-                                 {"source": source, "levels": n_levels, "lines": count, "species": names,
-                                  "sample": sample, "derived_lines": derived}, actor=self.actor)
-            return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
-                                species=names, levels=n_levels, lines=count)
-
-        return self.write(work)
+    def import_level_records(self, records: Sequence[level_io.LevelRecord], **options) -> ImportReport:
+        """Write validated level records as one new dataset (:func:`levels.service.imports.import_level_records`)."""
+        return imports.import_level_records(self, records, **options)
 
     # ------------------------------------------------------------- lab workflow
     def fit_limit(self, spectrum: str, patterns: Sequence[str], *, datasets: Sequence[str] | None = None,
@@ -766,228 +580,6 @@ class Catalog:
         used = {row["dataset"] for row in result.lines}
         result.conditions["datasets"] = [name for name in info["datasets"] if name in used]
         return result
-
-    def import_level_records(self, records: Sequence[level_io.LevelRecord], *, source: str,
-                             sample: str | None = None, kind: str = "measured", citation: str = "",
-                             description: str = "",
-                             sample_conditions: Mapping[str, object] | None = None,
-                             max_derived_lines: int | None = None, content_sha256: str | None = None,
-                             again: bool = False) -> ImportReport:
-        """Write validated level records as one new dataset (one transaction)."""
-        if kind not in ("measured", "imported"):
-            raise ValueError("imports make measured or imported datasets")
-        if not records:
-            raise InputFileError([Problem(source, None, None, "no levels to import")])
-        explicit_name = records[0].dataset
-        if explicit_name:
-            _refuse_reserved(explicit_name, source, records[0].line, "dataset")
-        _precheck_derived_lines(records, source, max_derived_lines)
-        warnings: list[str] = []
-
-        def work(session: Session) -> ImportReport:
-            _refuse_same_content(session, content_sha256, again, source, warnings, named=bool(explicit_name))
-            dataset_name = explicit_name or _free_dataset_name(session, source, sample, kind, warnings)
-            sample_row = None
-            if sample:
-                sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
-            ds = queries.create_dataset(session, name=dataset_name, kind=kind, citation=citation,
-                                        author=self.actor, description=description or f"imported from {source}",
-                                        method="file import", sample=sample_row, content_sha256=content_sha256)
-            species_ids, n_levels = _insert_level_records(session, records, ds.id)
-            derived = sum(_rebuild_derived_lines(session, species_ids, self.actor, max_lines=max_derived_lines,
-                                                 source=source).values())
-            names = sorted({s.name for s in species_ids})
-            queries.record_audit(session, "import-levels", f"dataset {ds.name}",
-                                 {"source": source, "levels": n_levels, "species": names,
-                                  "sample": sample}, actor=self.actor)
-            return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
-                                species=names, levels=n_levels, lines=derived, warnings=list(warnings))
-
-        return self.write(work)
-
-
-DERIVED_METHOD = "ritz-combination"
-DERIVED_ROLE = "derived-lines"
-
-
-def derived_dataset_name(spectrum_name: str, mass_number: int) -> str:
-    """Name of the dataset holding a species' lines derived from its levels."""
-    return f"derived lines {spectrum_name} A={mass_number}"
-
-
-def _insert_level_records(session: Session, records: Sequence[level_io.LevelRecord],
-                          dataset_id: int, block: int = 20_000) -> tuple[dict[Spectrum, int], int]:
-    """Insert validated levels into a dataset (species created as needed); return species ids and the count.
-
-    Rows are built and sent to the driver a block at a time, so a file of 10^6 levels never
-    holds 10^6 row dicts besides its records.
-    """
-    species_ids: dict[Spectrum, int] = {}
-    for start in range(0, len(records), block):
-        rows = []
-        for rec in records[start:start + block]:
-            if rec.spectrum not in species_ids:
-                species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
-            rows.append(_level_insert_row(rec, dataset_id, species_ids[rec.spectrum]))
-        queries.insert_full_rows(session, Level, rows)
-    session.flush()
-    return species_ids, len(records)
-
-
-def rebuild_derived_lines(session: Session, spectra: Iterable[Spectrum], actor: str) -> dict[str, int]:
-    """Rebuild the derived lines of the stored species among ``spectra`` in the caller's transaction."""
-    return _rebuild_derived_lines(session, spectra, actor)
-
-
-def _rebuild_derived_lines(session: Session, spectra: Iterable[Spectrum], actor: str, *,
-                           max_lines: int | None = None, source: str | None = None) -> dict[str, int]:
-    """Rebuild the derived lines of each stored species among ``spectra`` (sorted, so locks come in one order)."""
-    counts: dict[str, int] = {}
-    for spec in sorted(set(spectra), key=lambda sp: (sp.z, sp.charge, sp.mass_number or 0)):
-        species = queries.find_species(session, spec)
-        if species is not None:
-            counts[species.name] = _store_derived_lines(session, species, actor, max_lines=max_lines, source=source)
-    return counts
-
-
-#: lines computed, converted and inserted per block by the derived-line rebuild
-DERIVED_BLOCK = 20_000
-#: default most derived lines one species may imply (``levels import --max-derived-lines``,
-#: or the environment variable ``LEVELS_MAX_DERIVED_LINES``); about 2.5 GB of SQLite store
-#: (~250 bytes per stored line with its indexes) and several minutes of writing at the limit
-DEFAULT_MAX_DERIVED_LINES = 10_000_000
-MAX_DERIVED_ENV = "LEVELS_MAX_DERIVED_LINES"
-RITZ_NOTE = "Ritz value of a pair with an observed line"
-
-
-def default_max_derived_lines() -> int:
-    """The limit of derived lines per species: ``LEVELS_MAX_DERIVED_LINES`` if set, else the default."""
-    value = os.environ.get(MAX_DERIVED_ENV, "").strip()
-    if not value:
-        return DEFAULT_MAX_DERIVED_LINES
-    try:
-        number = int(float(value))
-    except ValueError:
-        raise PhysicsInputError(f"{MAX_DERIVED_ENV}={value!r} is not a whole number of lines") from None
-    if number < 0:
-        raise PhysicsInputError(f"{MAX_DERIVED_ENV} must not be negative, got {number}")
-    return number
-
-
-def _store_derived_lines(session: Session, species: Species, actor: str, *, max_lines: int | None = None,
-                         source: str | None = None) -> int:
-    """Replace the species' derived dataset with the E1 lines its levels imply (Ritz values).
-
-    Runs inside the caller's transaction, so an import and its lines land together. The
-    dataset is found by role and species (never by name). A pair that a *computed* dataset
-    already stores (hydrogenic or rates lines) is not derived again; a pair with a
-    *measured* line keeps its Ritz line beside the observed one, noted :data:`RITZ_NOTE`.
-
-    Memory is bounded by design: levels come as numpy columns (:func:`queries.level_columns`),
-    pairs are generated, converted and inserted in blocks of :data:`DERIVED_BLOCK` lines
-    (:func:`levels.physics.lines.combination.iter_line_blocks`, one driver executemany per block),
-    so the peak is one block (about 0.8 kB per line while the driver's tuples exist, ~16 MB
-    for 20,000 lines) plus the level columns (~40 bytes per level), one row of pair indices
-    (16 bytes per level) and the stored pair keys (8 bytes per stored line), whatever the
-    number of lines. ``tests/bench/bench_memory.py`` measures it.
-
-    Raises
-    ------
-    TooLargeError
-        The levels imply more lines than ``max_lines`` (default :func:`default_max_derived_lines`);
-        the message names ``source`` and the option that raises the limit.
-    """
-    from sqlalchemy import select
-
-    from levels.errors import TooLargeError
-    from levels.physics.lines import selection
-    from levels.physics.lines.combination import iter_line_blocks
-
-    # one writer per species at a time rebuilds its derived lines (row lock on PostgreSQL;
-    # SQLite write transactions are serialised already)
-    session.execute(select(Species.id).where(Species.id == species.id).with_for_update(key_share=True))
-    old = queries.find_computed_dataset(session, species.id, DERIVED_ROLE)
-    if old is not None:
-        queries.delete_dataset(session, old)
-    chosen = [d.id for d in queries.visible_datasets(session) if d.role != DERIVED_ROLE]
-    levels = queries.level_columns(session, species.id, chosen)
-    if levels["id"].size < 2:
-        return 0
-    limit = default_max_derived_lines() if max_lines is None else max_lines
-    bound = selection.count_candidate_pairs(levels["two_j"], levels["parity"], ("E1",))
-    if bound > limit:
-        raise TooLargeError(_too_many_lines(source, int(levels["id"].size), species.name, bound, limit))
-    computed = queries.stored_pair_keys(session, species.id, chosen, "E1", observed=False)
-    observed = queries.stored_pair_keys(session, species.id, chosen, "E1", observed=True)
-    ids = levels["id"]
-    ds = None
-    count = 0
-    for block in iter_line_blocks(levels["energy_cm1"], levels["unc_cm1"], levels["two_j"], levels["parity"],
-                                  block=DERIVED_BLOCK):
-        lower_ids, upper_ids = ids[block.lower], ids[block.upper]
-        keys = queries.pair_keys(lower_ids, upper_ids)
-        keep = ~_sorted_member(keys, computed)
-        n = int(keep.sum())
-        if n == 0:
-            continue
-        if ds is None:
-            ds = queries.create_dataset(
-                session, name=derived_dataset_name(species.name, species.mass_number), kind="computed",
-                method=DERIVED_METHOD, role=DERIVED_ROLE, owner_species_id=species.id,
-                method_version=f"levels {__version__}", author=actor,
-                citation="Ritz combination of stored levels (levels.physics.lines.combination)",
-                description=f"E1 lines implied by the stored levels of {species.name}",
-                options={"air_formula": "iau2000", "multipoles": ["E1"]})
-        air = block.air_nm[keep]
-        columns = {
-            "dataset_id": np.full(n, ds.id), "species_id": np.full(n, species.id),
-            "lower_id": lower_ids[keep], "upper_id": upper_ids[keep], "multipole": np.full(n, "E1", dtype=object),
-            "wavenumber_cm1": block.wavenumber_cm1[keep], "vacuum_nm": block.vacuum_nm[keep],
-            "air_nm": np.where(np.isfinite(air), air, np.nan), "a_per_s": np.full(n, np.nan),
-            "f_abs": np.full(n, np.nan), "line_strength_au": np.full(n, np.nan), "unc_nm": block.unc_nm[keep],
-            "note": np.where(_sorted_member(keys[keep], observed), RITZ_NOTE, "").astype(object),
-        }
-        queries.insert_line_columns(session, columns, 0, n)
-        count += n
-    return count
-
-
-def _too_many_lines(source: str | None, n_levels: int, species_name: str, bound: int, limit: int) -> str:
-    where = f"{source}: " if source else ""
-    return (f"{where}the {n_levels:,} levels of {species_name} imply up to {bound:,} derived E1 lines "
-            f"(Ritz combinations), above the limit of {limit:,} (about {bound * 250 / 1e9:.1f} GB of store); "
-            f"to store them, pass --max-derived-lines {bound} to 'levels import' (or set {MAX_DERIVED_ENV}="
-            f"{bound} for every command that rebuilds them); nothing was written")
-
-
-def _precheck_derived_lines(records: Sequence[level_io.LevelRecord], source: str, max_lines: int | None) -> None:
-    """Refuse before writing when a file's own levels of one species already imply too many derived lines.
-
-    The stored levels can only add pairs, so this is a lower bound of what the rebuild would
-    refuse; it spares writing (and rolling back) a million levels first.
-    """
-    from levels.errors import TooLargeError
-    from levels.physics.lines import selection
-    limit = default_max_derived_lines() if max_lines is None else max_lines
-    by_species: dict[Spectrum, list[tuple[int, int]]] = {}
-    for rec in records:
-        if rec.two_j is not None:
-            by_species.setdefault(rec.spectrum, []).append((rec.two_j, rec.parity))
-    for spectrum, pairs in by_species.items():
-        columns = np.array(pairs, dtype=np.int64)
-        bound = selection.count_candidate_pairs(columns[:, 0], columns[:, 1], ("E1",))
-        if bound > limit:
-            raise TooLargeError(_too_many_lines(source, len(pairs), spectrum.name, bound, limit))
-
-
-def _sorted_member(keys: np.ndarray, sorted_keys: np.ndarray) -> np.ndarray:
-    """``np.isin(keys, sorted_keys)`` for a sorted, unique ``sorted_keys`` (binary search, no temporary sort)."""
-    if sorted_keys.size == 0:
-        return np.zeros(keys.size, dtype=bool)
-    pos = np.searchsorted(sorted_keys, keys)
-    pos[pos == sorted_keys.size] = 0
-    return sorted_keys[pos] == keys
-
 
 def _check_line_query(query: LineQuery) -> None:
     if query.medium not in ("vacuum", "air"):
@@ -1242,53 +834,6 @@ def level_row(spectrum_name: str, level: Level, dataset_name: str) -> dict:
     }
 
 
-def _level_insert_row(rec: level_io.LevelRecord, dataset_id: int, species_id: int) -> dict:
-    lande = rec.lande_g
-    if lande is None and rec.multiplicity is not None:
-        from levels.physics.lines.lande import lande_g_ls
-
-        lande = float(lande_g_ls(rec.multiplicity - 1, rec.big_l, rec.two_j))
-    return {
-        "dataset_id": dataset_id, "species_id": species_id, "label": rec.label,
-        "configuration": rec.configuration, "term": rec.term, "two_j": rec.two_j, "g": rec.two_j + 1,
-        "parity": rec.parity,
-        "energy_cm1": rec.energy_cm1, "unc_cm1": rec.unc_cm1, "multiplicity": rec.multiplicity,
-        "big_l": rec.big_l, "n": rec.n, "l": rec.l, "lifetime_s": rec.lifetime_s, "lande_g": lande,
-    }
-
-
-def detect_file_kind(columns: Sequence[str], source: str, header_line: int) -> str:
-    """``"lines"`` when the header has ``wavelength_nm``, else ``"levels"`` (the default kind)."""
-    return "lines" if "wavelength_nm" in set(columns) else "levels"
-
-
-def _checked_columns(table, known: Sequence[str], required: Sequence[str]):
-    problems = []
-    for col in table.columns:
-        if col not in known:
-            problems.append(Problem(table.source, table.header_line, col,
-                                    f"unknown column; known columns are {', '.join(known)}"))
-    for col in required:
-        if col not in table.columns:
-            problems.append(Problem(table.source, table.header_line, col, "required column is missing from the header"))
-    if problems:
-        raise InputFileError(problems)
-    return table.rows
-
-
-def _record_off_ritz(ds: Dataset, reason: str | None, checked: Mapping, warnings: list[str], source: str) -> None:
-    """Keep the reason for accepted off-Ritz lines in the dataset's options, and say so."""
-    off = int(checked.get("off_ritz", 0) or 0)
-    if reason is None:
-        return
-    options = json.loads(ds.options_json or "{}")
-    options.update({"allow_off_ritz": reason, "off_ritz_lines": off})
-    ds.options_json = json.dumps(options, sort_keys=True)
-    if off:
-        warnings.append(f"{source}: {off} line{'s' if off != 1 else ''} off {'their' if off != 1 else 'its'} Ritz "
-                        f"wavenumber accepted ({reason}); each carries a note")
-
-
 def _missing_sqlite_file(url: str) -> str | None:
     """The path of a SQLite store file that does not exist (None for other stores or an existing file)."""
     from sqlalchemy.engine import make_url
@@ -1298,70 +843,3 @@ def _missing_sqlite_file(url: str) -> str | None:
     if parsed.get_backend_name() != "sqlite" or name in (None, "", ":memory:") or name.startswith("file:"):
         return None
     return None if Path(name).exists() else name
-
-
-def table_content_sha256(table) -> str:
-    """SHA-256 (hex) of a read table's content: its columns and rows in order, without
-    comments, blank lines or line numbers, so a copy of a file with other comments or
-    line ends has the same digest."""
-    digest = hashlib.sha256(json.dumps(list(table.columns), ensure_ascii=False).encode("utf-8"))
-    for _, row in table.rows:
-        digest.update(b"\n")
-        digest.update(json.dumps([row.get(c, "") for c in table.columns], ensure_ascii=False).encode("utf-8"))
-    return digest.hexdigest()
-
-
-def _refuse_same_content(session: Session, content_sha256: str | None, again: bool, source: str,
-                         warnings: list[str], named: bool = False) -> None:
-    """Refuse a file whose content a dataset already holds, unless ``again`` or the new dataset is
-    ``named`` explicitly (a deliberate second copy under a chosen name); then note it."""
-    if content_sha256 is None:
-        return
-    earlier = queries.datasets_with_content(session, content_sha256)
-    if not earlier:
-        return
-    names = ", ".join(repr(ds.name) for ds in earlier)
-    if named and not again:
-        warnings.append(f"{source}: the same content is already in the store as dataset {names}; imported "
-                        "under the name given")
-        return
-    if not again:
-        raise AlreadyExistsError(f"{source}: the same content was already imported as dataset {names}; "
-                                 "nothing was written (import it once more with --again)")
-    warnings.append(f"{source}: the same content was already imported as dataset {names}; imported again "
-                    "as asked")
-
-
-def _refuse_reserved(name: str, source: str, line: int | None, field_name: str) -> None:
-    """Raise :class:`ReservedNameError` naming ``field_name`` when a user dataset name has a reserved form."""
-    if queries.is_reserved_dataset_name(name):
-        raise ReservedNameError([Problem(source, line, field_name, queries.reserved_name_message(name))])
-    problem = queries.dataset_name_problem(name)
-    if problem is not None:
-        raise InputFileError([Problem(source, line, field_name, f"dataset name {name!r} {problem}")])
-
-
-def _free_dataset_name(session: Session, source: str, sample: str | None, kind: str = "measured",
-                       warnings: list[str] | None = None) -> str:
-    """``sample/file-stem``, with `` (2)``, `` (3)`` ... appended when taken.
-
-    The name is made plain first (:func:`levels.store.queries.plain_dataset_name`): no
-    ``#``, no leading formula character, no control character.
-
-    A file stem of a reserved form (``derived lines Na I A=23.csv``) is prefixed by the
-    dataset's kind (``measured derived lines Na I A=23``), with a warning: the name was
-    not chosen by the user, so the import goes ahead under a name no rebuild can take.
-    """
-    stem = Path(source).stem or "import"
-    if not sample and queries.is_reserved_dataset_name(stem):
-        renamed = f"{kind} {stem}"
-        if warnings is not None:
-            warnings.append(f"{source}: the file name {stem!r} has the form of a computed dataset's name; "
-                            f"the dataset is named {renamed!r} (give --dataset to choose another)")
-        stem = renamed
-    base = queries.plain_dataset_name(f"{sample + '/' if sample else ''}{stem}")
-    name, number = base, 1
-    while queries.find_dataset(session, name) is not None:
-        number += 1
-        name = queries.numbered_dataset_name(base, number)
-    return name

@@ -27,10 +27,11 @@ from collections.abc import Callable
 from sqlalchemy import and_, func, or_, select
 from sqlalchemy.orm import Session
 
-from levels.catalog import Catalog, _store_derived_lines
+from levels.catalog import Catalog
 from levels.errors import LevelsError
 from levels.io import limits
 from levels.io.paths import check_output_path
+from levels.service.derived import store_derived_lines
 from levels.store import backup, integrity, queries
 from levels.store.schema import TABLE_ORDER, AuditEntry, Base, Dataset, IonizationLimit, Level, Line, Species
 
@@ -288,7 +289,7 @@ def _set_retracted(catalog: Catalog, dataset: str | int, retracted: bool, reason
         session.flush()
         derived = {}
         for species in dataset_species(session, ds):
-            derived[species.name] = _store_derived_lines(session, species, catalog.actor)
+            derived[species.name] = store_derived_lines(session, species, catalog.actor)
         dependent = _dependent_lines(session, ds) if retracted else {}
         detail = {"dataset_id": ds.id, "kind": ds.kind, "reason": reason, "derived_lines": derived}
         if dependent:

@@ -438,8 +438,8 @@ def _report_rows(lines: Sequence[LineRate], by_id: dict[int, LevelInput],
 
 def _store(catalog, species_id: int, name: str, mass_number: int, lines: Sequence[LineRate],
            by_id: dict[int, LevelInput], report: RatesReport, method: str) -> str:
-    from levels.catalog import rebuild_derived_lines
     from levels.physics.lines.air import vacuum_to_air
+    from levels.service.derived import rebuild_derived_lines
 
     dataset_name = rates_dataset_name(name, mass_number)
     sigma = np.array([ln.wavenumber_cm1 for ln in lines])

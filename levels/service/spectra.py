@@ -235,7 +235,7 @@ def find_peaks(
 
 
 def _reference_lines(catalog, species: Sequence[str], lo_nm: float, hi_nm: float, medium: str) -> list[dict]:
-    from levels.catalog import LineQuery
+    from levels.service.contract import LineQuery
 
     out = []
     for name in species:
@@ -459,7 +459,7 @@ def diagnose(
     lo = min(p.peak_nm for p in measured) - 2.0
     hi = max(p.peak_nm for p in measured) + 2.0
     candidates = []
-    from levels.catalog import LineQuery
+    from levels.service.contract import LineQuery
 
     for info in infos.values():
         rows, _ = catalog.species_lines(

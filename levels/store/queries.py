@@ -116,6 +116,11 @@ def species_spectrum(species: Species) -> Spectrum:
     return Spectrum(species.z, species.charge, species.mass_number)
 
 
+def lock_species(session: Session, species_id: int) -> None:
+    """Take the species' row lock for the rest of the transaction (PostgreSQL; SQLite writers are serialised)."""
+    session.execute(select(Species.id).where(Species.id == species_id).with_for_update(key_share=True))
+
+
 # ----------------------------------------------------------------- samples and datasets
 
 def find_dataset(session: Session, name: str) -> Dataset | None:

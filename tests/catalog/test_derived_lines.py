@@ -12,11 +12,11 @@ import pytest
 from click.testing import CliRunner
 from sqlalchemy import select
 
-from levels import catalog as catalog_module
 from levels.catalog import Catalog, LineQuery
 from levels.cli import main
 from levels.errors import TooLargeError
 from levels.physics.lines.combination import build_lines
+from levels.service import derived as derived_module
 from levels.store.database import dump
 from levels.store.schema import Level
 
@@ -46,7 +46,7 @@ def test_guard_names_the_file_and_the_option(catalog, tmp_path, monkeypatch):
 def test_streamed_rebuild_gives_the_lines_of_the_one_shot_builder(catalog, tmp_path, monkeypatch):
     path = tmp_path / "complex.csv"
     write_complex_levels(path, 400, j_max=6, seed=3)
-    monkeypatch.setattr(catalog_module, "DERIVED_BLOCK", 97)  # many blocks, and blocks cut inside group products
+    monkeypatch.setattr(derived_module, "DERIVED_BLOCK", 97)  # many blocks, and blocks cut inside group products
     catalog.import_file(path, dataset="complex")
     rows, total = catalog.line_rows(LineQuery(spectrum="Fe I", datasets=("derived lines Fe I A=56",)))
     levels = catalog.read(lambda s: s.scalars(select(Level).order_by(Level.energy_cm1, Level.id)).all())

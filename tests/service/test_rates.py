@@ -13,6 +13,7 @@ import pytest
 from click.testing import CliRunner
 
 import levels.catalog as catalog_module
+import levels.service.derived as derived_module
 from levels.cli import main
 from levels.errors import PhysicsInputError
 from levels.service import rates as rates_service
@@ -155,7 +156,7 @@ def test_a_failure_while_storing_leaves_the_store_as_it_was(sodium, monkeypatch)
     def broken(*args, **kwargs):
         raise RuntimeError("disk full (simulated)")
 
-    monkeypatch.setattr(catalog_module, "rebuild_derived_lines", broken)
+    monkeypatch.setattr(derived_module, "rebuild_derived_lines", broken)
     with pytest.raises(RuntimeError, match="simulated"):
         rates_service.compute_rates(sodium, "Na I", method="single")
     assert dump(sodium.engine) == before

@@ -1,0 +1,85 @@
+"""The service contract: what front ends send to and get from the service floor.
+
+Typed requests (:class:`LineQuery`), reports (:class:`ImportReport`) and the columns of every row shape
+(species, levels, lines, emission, samples), defined once; :mod:`levels.catalog` re-exports them so older
+imports keep working.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+
+from levels.io import records as level_io
+
+SPECIES_COLUMNS = ("spectrum", "z", "charge", "mass_number", "levels", "lines", "ionization_cm1",
+                   "ionization_unc_cm1", "datasets")
+LEVEL_COLUMNS = level_io.LEVEL_COLUMNS
+LEVEL_UNITS = {"energy_cm1": "cm-1", "unc_cm1": "cm-1", "lifetime_s": "s"}
+LINE_COLUMNS = ("spectrum", "lower", "upper", "lower_cm1", "upper_cm1", "wavenumber_cm1", "vacuum_nm", "air_nm",
+                "multipole", "a_per_s", "f_abs", "line_strength_au", "g_lower", "g_upper", "unc_nm", "dataset")
+EMISSION_COLUMNS = LINE_COLUMNS + ("rel_intensity", "photon_share")
+#: trailing columns of a line list (after LINE_COLUMNS): the observed wavelength of a measured line, the
+#: Ritz wavelength from its two levels, and observed - Ritz; all in the listing's medium (air above 200 nm
+#: when the medium is air, else vacuum), empty where the line has no observed wavelength
+RITZ_COLUMNS = ("obs_nm", "ritz_nm", "obs_minus_ritz_nm")
+#: and the customary name of a hydrogen line (H I, D I, T I: "Hα", "Lyβ"; empty otherwise)
+LINE_LIST_COLUMNS = LINE_COLUMNS + RITZ_COLUMNS + ("line_name",)
+LINE_UNITS = {"lower_cm1": "cm-1", "upper_cm1": "cm-1", "wavenumber_cm1": "cm-1", "vacuum_nm": "nm", "air_nm": "nm",
+              "a_per_s": "s-1", "line_strength_au": "e2 a0^2", "unc_nm": "nm", "obs_nm": "nm", "ritz_nm": "nm",
+              "obs_minus_ritz_nm": "nm"}
+LINE_HEADINGS = {"lower_cm1": "lower [cm-1]", "upper_cm1": "upper [cm-1]", "wavenumber_cm1": "σ [cm-1]",
+                 "vacuum_nm": "λ vac [nm]", "air_nm": "λ air [nm]", "a_per_s": "A [s-1]", "f_abs": "f",
+                 "line_strength_au": "S [au]", "unc_nm": "unc [nm]", "obs_nm": "observed [nm]",
+                 "ritz_nm": "Ritz [nm]", "obs_minus_ritz_nm": "obs - Ritz [nm]", "line_name": "name"}
+MULTIPOLE_CODES = ("E1", "M1", "E2", "M2", "E3", "2E1")
+#: default refusal limit of a computed dataset's rows (2 GB)
+DEFAULT_MAX_STORE_BYTES = 2_000_000_000
+SAMPLE_CONDITION_FIELDS = ("description", "gas_fill", "pressure_pa", "current_a", "instrument", "te_k", "ne_m3",
+                           "tgas_k", "path_length_m")
+
+
+@dataclass(frozen=True)
+class LineQuery:
+    """A line-list request: species (None = all), window, medium, filters, order and page."""
+
+    spectrum: str | None = None
+    from_nm: float | None = None
+    to_nm: float | None = None
+    medium: str = "vacuum"
+    multipoles: tuple[str, ...] | None = None
+    min_a: float | None = None
+    max_upper_cm1: float | None = None
+    datasets: tuple[str, ...] | None = None
+    order: str = "wavelength"
+    limit: int | None = None
+    offset: int = 0
+
+    def describe(self) -> str:
+        """The query in words for export headers."""
+        parts = [f"lines {self.spectrum or '(all species)'}"]
+        if self.from_nm is not None or self.to_nm is not None:
+            upper = "inf" if self.to_nm is None else f"{self.to_nm:.10g}"
+            parts.append(f"window {self.from_nm or 0:.10g}-{upper} nm {self.medium}")
+        if self.multipoles:
+            parts.append("multipoles " + ",".join(self.multipoles))
+        if self.min_a is not None:
+            parts.append(f"A >= {self.min_a:g} s-1")
+        if self.max_upper_cm1 is not None:
+            parts.append(f"upper <= {self.max_upper_cm1:g} cm-1")
+        parts.append(f"order {self.order}")
+        return "; ".join(parts)
+
+
+@dataclass
+class ImportReport:
+    """What an import wrote."""
+
+    source: str
+    kind: str
+    dataset: str
+    dataset_id: int
+    sample: str | None
+    species: list[str]
+    levels: int = 0
+    lines: int = 0
+    warnings: list[str] = field(default_factory=list)
