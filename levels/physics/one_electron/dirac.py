@@ -93,6 +93,11 @@ __all__ = [
     "level_contributions_hz",
     "level_energies_cm1",
     "level_energies_hz",
+    "level_uncertainties_cm1",
+    "theory_uncertainty_components_hz",
+    "theory_uncertainty_hz",
+    "charge_radius_uncertainty_fm",
+    "UNCERTAINTY_COMPONENTS",
 ]
 
 #: electron rest energy in Hz, m_e c^2 / h = 2 R_inf c / alpha^2 (CODATA via scipy)
@@ -971,3 +976,269 @@ def dirac_point_energy(
     if unit == "f":
         return 1.0 + fm1
     raise PhysicsInputError(f"unit must be 'hartree', 'mc2' or 'f', got {unit!r}")
+
+
+# --------------------------------------------------------------------------------------
+# Theory uncertainty: the size of the terms left out
+# --------------------------------------------------------------------------------------
+
+#: |B60| bound for nS states, the uncalculated two-loop (Zα)^6 constant: CODATA 2010
+#: (Mohr, Taylor & Newell 2012, Rev. Mod. Phys. 84, 1527, section IV.A.1.e) used
+#: B60(1S) = -81.3(0.3)(19.7) (from memory); 100 covers it with its uncertainty.
+_B60_S_BOUND = 100.0
+#: |B60| bound for l >= 1 (CODATA 2010 quotes values of order 0.1-1 for nP, from memory)
+_B60_L_BOUND = 1.0
+#: three-loop constant C40 of nS states, about -0.36 (CODATA 2010, from memory); bound 0.5
+_C40_S_BOUND = 0.5
+#: three-loop anomalous-moment coefficient 1.181 (a_e^(6) = 1.1812 (α/π)^3; Laporta & Remiddi
+#: 1996, from memory): the magnetic part of C40 for l >= 1 is 1.181 / (2 κ (2l+1)) in size
+_C40_MAG = 1.181241
+#: coefficient of the first omitted one-loop term (Zα)^7 of l >= 1 states: at Z = 1 the
+#: all-order G_SE(2P1/2) - A60 = 0.025 is 3.5 Zα (values of _GSE_Z1 and _A60, from memory); 5 bounds it
+_A71_L_BOUND = 5.0
+#: bounds on A60 for states whose constant is not tabulated (n >= 3 take the n = 2 value, l >= 2 zero):
+#: |A60(1S) - A60(2S)| = 0.92 sets the scale for s; p and d constants vary by 0.2 and a few hundredths
+#: (common practice, no source)
+_A60_N3_BOUND = {0: 1.0, 1: 0.2}
+_A60_HIGH_L_BOUND = 0.05
+#: higher-order recoil: 10 % of the (Zα)^6 m_e/M scale of the recoil terms of that order
+#: (common practice, no source; CODATA 2010 gives about 1 kHz for H 1S, from memory)
+_RECOIL_FRACTION = 0.1
+#: relative size bound of the nuclear polarisation where none is tabulated: 0.5 % of the
+#: finite-size shift (H: 6e-5, D: 3e-3, U 1s about 1e-3 of it; from memory; common practice)
+_NUCLEAR_POLARIZATION_FRACTION = 5e-3
+#: uncertainty of the tabulated H and D polarisation shifts of 1S, Hz (see nuclear.py, from memory)
+_POLARIZATION_1S_UNC_HZ = {(1, 1): 13.0, (1, 2): 80.0}
+#: relative uncertainty of the fallback radius formula (tests: within 5 % of tabulated radii)
+_FALLBACK_RADIUS_REL_UNC = 0.05
+#: relative uncertainty of the Bethe logarithm beyond the table: the three-point extrapolation
+#: reproduces the withheld n = 8 row to 3e-5 (absolute) for l <= 5; the circular-state model to 4 %
+_BETHE_EXTRAPOLATION_ABS = 3e-5
+_BETHE_HIGH_L_REL = 0.04
+
+#: names of the components returned by :func:`theory_uncertainty_components_hz`
+UNCERTAINTY_COMPONENTS = (
+    "rydberg_constant", "two_loop", "three_loop", "one_loop_higher_order", "self_energy_constants",
+    "bethe_logarithm", "vacuum_polarization", "recoil", "nuclear_radius", "nuclear_polarization",
+)
+
+
+def charge_radius_uncertainty_fm(z: int, mass_number: int) -> float:
+    """Standard uncertainty of the rms charge radius that :func:`charge_radius_fm` returns, fm.
+
+    CODATA (scipy.constants) for the proton and deuteron; the tabulated uncertainty of
+    Angeli & Marinova 2013 (from memory) for the nuclei in the table; 5 % of the
+    fallback formula's radius otherwise (the formula stays within 5 % of the tabulated
+    radii, ``tests/physics/test_dirac.py``).
+
+    Examples
+    --------
+    >>> round(charge_radius_uncertainty_fm(2, 4), 4)
+    0.0028
+    """
+    z = _check_z(z)
+    key = (z, int(mass_number))
+    codata = {(1, 1): "proton rms charge radius", (1, 2): "deuteron rms charge radius"}
+    if key in codata:
+        return sc.physical_constants[codata[key]][2] * 1e15
+    if key in _nuclear.ANGELI_MARINOVA_2013:
+        return _nuclear.ANGELI_MARINOVA_2013[key][1]
+    return _FALLBACK_RADIUS_REL_UNC * _nuclear.fallback_charge_radius_fm(int(mass_number))
+
+
+def theory_uncertainty_components_hz(
+    z: int,
+    n,
+    l,
+    two_j,
+    *,
+    nuclear_mass_u: float,
+    charge_radius_fm: float | None = None,
+    charge_radius_unc_fm: float | None = None,
+) -> dict[str, np.ndarray]:
+    """Standard uncertainties of :func:`level_energies_hz` (all corrections on), by cause, in Hz.
+
+    Each entry estimates the size of a term the method leaves out, or the effect of
+    the uncertainty of an input, on the energy of the state measured from the
+    ionization limit. Parameters are those of :func:`level_energies_hz`, plus
+    ``charge_radius_unc_fm`` (default :func:`charge_radius_uncertainty_fm` for the
+    radius looked up; 5 % of a radius given without one).
+
+    Returns
+    -------
+    dict of str to numpy.ndarray
+        Non-negative Hz, keyed as :data:`UNCERTAINTY_COMPONENTS`:
+
+        * ``rydberg_constant``: ``u_r(R_inf) |E|`` (CODATA via scipy.constants);
+        * ``two_loop``: the uncalculated B60, ``(α/π)^2 (Zα)^6/n^3 m_e c^2 |B60|`` with
+          |B60| <= 100 for s states (CODATA 2010: B60(1S) = -81.3(19.7), from memory) and
+          <= 1 otherwise;
+        * ``three_loop``: C40, ``(α/π)^3 (Zα)^4/n^3 m_e c^2`` times 0.5 (s; CODATA 2010
+          C40(nS) about -0.36, from memory) or 1.181/(2|κ|(2l+1)) (l >= 1, the
+          three-loop electron anomaly);
+        * ``one_loop_higher_order``: s states: the linear interpolation of the all-order
+          1s remainder between its nodes (second divided difference times h^2/8) and,
+          for n >= 2, 5 % of that remainder shift (at Z = 1 the 2S shift differs from the
+          1S shift by 3 %); l >= 1: the first omitted order α/π (Zα)^7/n^3 m_e c^2 times 5
+          (G_SE - A60 of 2P1/2 at Z = 1 is 3.5 Zα), at most half the state's one-loop
+          self energy (the module's notes: tens of per cent at Z = 92);
+        * ``self_energy_constants``: A60 taken from n = 2 for n >= 3 and zero for l >= 2:
+          α/π (Zα)^6/n^3 m_e c^2 times 1 (s), 0.2 (p), 0.05 (l >= 2);
+        * ``bethe_logarithm``: n > 8, ``4/3 α/π (Zα)^4/n^3 m_e c^2 μ^3 δ ln k0`` with
+          δ ln k0 = 3e-5 (l <= 6) or 4 % (l >= 7), what the extrapolation misses on
+          withheld table rows;
+        * ``vacuum_polarization``: Uehling beyond (Zα)^6, the last included term
+          |V60| (Zα)^6 α/π m_e c^2/n^3 times Zα (next term of a geometric series);
+        * ``recoil``: ``0.1 (Zα)^6 (m_e/M) m_e c^2/n^3`` for s states, ``(Zα)^7`` for others;
+        * ``nuclear_radius``: ``2 γ |E_FS| u(r)/r`` (the shift scales as r^(2γ));
+        * ``nuclear_polarization``: the tabulated uncertainty for H and D, else 0.5 % of
+          the finite-size shift.
+
+        The bounds marked "common practice, no source" in the module constants are ours.
+
+    Notes
+    -----
+    The components are independent and add in quadrature
+    (:func:`theory_uncertainty_hz`). For states of light ions the two-loop B60 and
+    the Rydberg constant dominate; at high Z the finite-order Zα expansions dominate
+    and the estimate is conservative (for U91+ 1s 52 eV, mostly the Uehling and two-loop
+    bounds, where the module's
+    notes give a few eV of actual error).
+
+    References
+    ----------
+    P. J. Mohr, B. N. Taylor and D. B. Newell, Rev. Mod. Phys. 80, 633 (2008) and
+    84, 1527 (2012): the uncertainties of the theory of H and D levels (section
+    IV.A.1 of each; coefficients quoted from memory).
+
+    Examples
+    --------
+    >>> u = theory_uncertainty_components_hz(1, 1, 0, 1, nuclear_mass_u=1.00727646658)
+    >>> 5e3 < float(u["two_loop"]) < 2e4    # Hz; B60 of hydrogen 1S is about 8 kHz
+    True
+    """
+    z = _check_z(z)
+    n_arr, l_arr, j_arr = _check_states(n, l, two_j)
+    mass = _check_mass(nuclear_mass_u)
+    a = int(round(mass))
+    radius = _resolve_radius(z, mass, charge_radius_fm)
+    if charge_radius_unc_fm is None:
+        if charge_radius_fm is None:
+            radius_unc = charge_radius_uncertainty_fm(z, a)
+        else:
+            radius_unc = _FALLBACK_RADIUS_REL_UNC * radius
+    else:
+        radius_unc = abs(float(charge_radius_unc_fm))
+    terms = level_contributions_hz(z, n_arr, l_arr, j_arr, nuclear_mass_u=mass, charge_radius_fm=radius)
+    total = cast(np.ndarray, sum(terms.values()))
+
+    x = z * ALPHA
+    nf = n_arr.astype(float)
+    lf = l_arr.astype(float)
+    kabs = (j_arr + 1) / 2.0
+    is_s = l_arr == 0
+    inv_n3 = nf**-3.0
+    mu = mass / (mass + M_E_U)
+    one_loop = ALPHA / _PI * x**4 * inv_n3 * MEC2_HZ  # α/π (Zα)^4/n^3 m_e c^2
+    u: dict[str, np.ndarray] = {}
+
+    u_r = sc.physical_constants["Rydberg constant"][2] / sc.physical_constants["Rydberg constant"][0]
+    u["rydberg_constant"] = u_r * np.abs(total)
+
+    u["two_loop"] = (ALPHA / _PI) * x**2 * one_loop * np.where(is_s, _B60_S_BOUND, _B60_L_BOUND)
+    u["three_loop"] = (ALPHA / _PI) ** 2 * one_loop * np.where(
+        is_s, _C40_S_BOUND, _C40_MAG / (2.0 * kabs * (2.0 * lf + 1.0)))
+
+    # one loop beyond what is included
+    dg_z, dg_1s = _DG_Z, _DG_1S
+    slopes = np.diff(dg_1s) / np.diff(dg_z)
+    i = int(np.clip(np.searchsorted(dg_z, z) - 1, 0, len(slopes) - 2))
+    h = dg_z[i + 1] - dg_z[i] if z not in _F_1S_ALL_ORDER else 0.0
+    second = abs(slopes[i + 1] - slopes[i]) / (dg_z[min(i + 2, len(dg_z) - 1)] - dg_z[i]) * 2.0
+    interpolation = second * h * h / 8.0
+    shift = abs(_self_energy_remainder_shift(z))
+    s_part = interpolation + np.where(n_arr >= 2, 0.05 * shift, 0.0)
+    se_state = np.abs(terms.get("self_energy", np.zeros_like(total))
+                      + terms.get("self_energy_higher_order", np.zeros_like(total)))
+    l_part = np.minimum(_A71_L_BOUND * x * x**2 * one_loop, 0.5 * se_state)
+    u["one_loop_higher_order"] = np.where(is_s, s_part * x**2 * one_loop, l_part)
+
+    a60 = np.where(l_arr >= 2, _A60_HIGH_L_BOUND,
+                   np.where(n_arr >= 3, np.where(is_s, _A60_N3_BOUND[0], _A60_N3_BOUND[1]), 0.0))
+    u["self_energy_constants"] = a60 * x**2 * one_loop
+
+    ln_k0 = _bethe_kernel(n_arr, l_arr)
+    d_lnk0 = np.where(n_arr <= _BETHE_NMAX, 0.0,
+                      np.where(l_arr <= 6, _BETHE_EXTRAPOLATION_ABS, _BETHE_HIGH_L_REL * np.abs(ln_k0)))
+    u["bethe_logarithm"] = 4.0 / 3.0 * mu**3 * one_loop * d_lnk0
+
+    v60 = np.abs(_state_lookup(_V60, n_arr, l_arr, j_arr))
+    u["vacuum_polarization"] = v60 * x**3 * one_loop
+
+    u["recoil"] = _RECOIL_FRACTION * x**6 * (M_E_U / mass) * MEC2_HZ * inv_n3 * np.where(is_s, 1.0, x)
+
+    gamma = np.sqrt(kabs**2 - x * x)
+    fs = np.abs(terms.get("finite_size", np.zeros_like(total)))
+    u["nuclear_radius"] = 2.0 * gamma * fs * (radius_unc / radius if radius > 0 else 0.0)
+    pol_unc = _POLARIZATION_1S_UNC_HZ.get((z, a))
+    u["nuclear_polarization"] = (np.where(is_s, pol_unc * inv_n3, 0.0) if pol_unc is not None
+                                 else _NUCLEAR_POLARIZATION_FRACTION * fs)
+    return {key: np.asarray(u[key], dtype=float) for key in UNCERTAINTY_COMPONENTS}
+
+
+def theory_uncertainty_hz(z: int, n, l, two_j, *, nuclear_mass_u: float, charge_radius_fm: float | None = None,
+                          charge_radius_unc_fm: float | None = None) -> np.ndarray:
+    """Standard uncertainty of :func:`level_energies_hz`, in Hz: the components of
+    :func:`theory_uncertainty_components_hz` added in quadrature.
+
+    Examples
+    --------
+    >>> u = theory_uncertainty_hz(1, [1, 2, 2], [0, 0, 1], 1, nuclear_mass_u=1.00727646658)
+    >>> bool(u[0] > u[1] > u[2])
+    True
+    """
+    parts = theory_uncertainty_components_hz(z, n, l, two_j, nuclear_mass_u=nuclear_mass_u,
+                                             charge_radius_fm=charge_radius_fm,
+                                             charge_radius_unc_fm=charge_radius_unc_fm)
+    return cast(np.ndarray, np.sqrt(sum(p**2 for p in parts.values())))
+
+
+def level_uncertainties_cm1(z: int, n, l, two_j, *, nuclear_mass_u: float, charge_radius_fm: float | None = None,
+                            charge_radius_unc_fm: float | None = None) -> np.ndarray:
+    """Uncertainty of level energies measured from the 1s1/2 ground state, in cm-1.
+
+    This is what a store row of :mod:`levels.physics.one_electron.hydrogenic` needs:
+    ``E(state) - E(1s)``. The ground state's own uncertainty adds in quadrature for
+    every state but the ground state (0 by definition); the Rydberg-constant and
+    radius parts are fully correlated and so add linearly (as differences).
+    ``two_j = -1`` stands for an nl term (both j merged): the larger of its two
+    components' uncertainties.
+
+    Examples
+    --------
+    >>> u = level_uncertainties_cm1(1, [1, 2, 2], [0, 0, 1], [1, 1, 1], nuclear_mass_u=1.00727646658)
+    >>> float(u[0]), bool(1e-8 < u[2] < 1e-5)
+    (0.0, True)
+    """
+    n_arr, l_arr, j_arr = np.broadcast_arrays(_as_int_array("n", n), _as_int_array("l", l),
+                                              _as_int_array("two_j", two_j))
+    merged = j_arr < 0
+    lo_j = np.where(merged, np.maximum(2 * l_arr - 1, 1), j_arr)
+    hi_j = np.where(merged, 2 * l_arr + 1, j_arr)
+    kw = dict(nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm,
+              charge_radius_unc_fm=charge_radius_unc_fm)
+    ground = theory_uncertainty_components_hz(z, 1, 0, 1, **kw)
+    e_ground = level_contributions_hz(z, 1, 0, 1, nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm)
+    out = np.zeros(n_arr.shape)
+    for js in (lo_j, hi_j):
+        parts = theory_uncertainty_components_hz(z, n_arr, l_arr, js, **kw)
+        correlated = ("rydberg_constant", "nuclear_radius")
+        quad = sum(parts[k] ** 2 + ground[k] ** 2 for k in UNCERTAINTY_COMPONENTS if k not in correlated)
+        e_state = cast(np.ndarray, sum(level_contributions_hz(z, n_arr, l_arr, js, nuclear_mass_u=nuclear_mass_u,
+                                                              charge_radius_fm=charge_radius_fm).values()))
+        u_r = sc.physical_constants["Rydberg constant"][2] / sc.physical_constants["Rydberg constant"][0]
+        rydberg = u_r * np.abs(e_state - float(sum(e_ground.values())))
+        radius = np.abs(parts["nuclear_radius"] - ground["nuclear_radius"])
+        out = np.maximum(out, np.sqrt(quad + rydberg**2 + radius**2))
+    is_ground = (n_arr == 1) & (l_arr == 0)
+    return np.where(is_ground, 0.0, out) / CM1_HZ
