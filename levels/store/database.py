@@ -23,7 +23,7 @@ from typing import TypeVar
 
 from sqlalchemy import Engine, create_engine, event, inspect, select, text
 from sqlalchemy.engine import make_url
-from sqlalchemy.exc import ArgumentError, DatabaseError, IntegrityError, OperationalError
+from sqlalchemy.exc import ArgumentError, DatabaseError, DBAPIError, IntegrityError, InternalError, OperationalError
 from sqlalchemy.orm import Session, sessionmaker
 
 from levels.errors import AlreadyExistsError, StoreError
@@ -105,16 +105,50 @@ def _sqlite_begin(conn) -> None:
         conn.exec_driver_sql("BEGIN")
 
 
+def sqlite_file(url: str) -> Path | None:
+    """The file of a SQLite store named by a plain path or ``sqlite:///path`` URL.
+
+    ``None`` for other backends, in-memory stores and ``file:`` URIs (whose file
+    SQLite itself opens as the URI says).
+
+    Examples
+    --------
+    >>> sqlite_file("sqlite:////tmp/lab.sqlite")
+    PosixPath('/tmp/lab.sqlite')
+    >>> sqlite_file("sqlite://") is None
+    True
+    """
+    parsed = make_url(normalize_url(url))
+    name = parsed.database or ""
+    if parsed.get_backend_name() != "sqlite" or name in ("", ":memory:") or name.startswith("file:"):
+        return None
+    return Path(name)
+
+
+def _create_sqlite_folder(engine: Engine) -> None:
+    """Create the folder of a new SQLite store file (only ``levels init`` and store imports create stores)."""
+    path = sqlite_file(engine.url.render_as_string(hide_password=False))
+    if path is None or path.exists():
+        return
+    try:
+        path.parent.mkdir(parents=True, exist_ok=True)
+    except OSError as exc:
+        raise StoreError(f"cannot create the folder of the store {path}: {exc.strerror or exc}") from None
+
+
 def make_engine(url_or_path: str | os.PathLike | None, *, echo: bool = False) -> Engine:
-    """Create an engine for a store URL or path (SQLite files get their directory created)."""
+    """Create an engine for a store URL or path.
+
+    Nothing is created on disk here: a SQLite file and its folder are made by
+    :func:`upgrade` (``levels init``) only, so a mistyped path that a command only
+    reads leaves no empty folder or file behind.
+    """
     url = normalize_url(url_or_path)
     parsed = make_url(url)
     if parsed.get_backend_name() == "sqlite":
         database = parsed.database or ""
         read_only = bool(database) and database != ":memory:" and Path(database).exists() \
             and not os.access(database, os.W_OK)
-        if database and database != ":memory:" and not read_only:
-            Path(database).parent.mkdir(parents=True, exist_ok=True)
         if read_only:  # a store we may not write is opened read-only (immutable when no -shm can be made)
             import sqlite3
             from urllib.parse import quote
@@ -165,6 +199,7 @@ def upgrade(engine: Engine, revision: str = "head") -> str:
     """
     from alembic import command
 
+    _create_sqlite_folder(engine)
     config = _alembic_config(engine)
     try:
         with engine.begin() as connection:
@@ -179,6 +214,9 @@ def current_revision(engine: Engine) -> str | None:
     """The Alembic revision of the store, ``None`` for an empty or foreign database."""
     from alembic.runtime.migration import MigrationContext
 
+    path = sqlite_file(engine.url.render_as_string(hide_password=False))
+    if path is not None and not path.exists():
+        return None  # connecting would create an empty file
     try:
         with engine.connect() as connection:
             return MigrationContext.configure(connection).get_current_revision()
@@ -225,6 +263,34 @@ def _is_serialization_failure(exc: OperationalError) -> bool:
     return code in ("40001", "40P01")
 
 
+def _is_read_only(exc: DBAPIError) -> bool:
+    # SQLite: "attempt to write a readonly database"; PostgreSQL: SQLSTATE 25006 read_only_sql_transaction
+    return "readonly database" in str(exc.orig).lower() or getattr(exc.orig, "sqlstate", None) == "25006"
+
+
+def read_only_error(engine: Engine, exc: DBAPIError) -> StoreError:
+    """The project's one-line error for a write to a store this process may not write.
+
+    Names the store and the cause SQLite or PostgreSQL gave, and, for a SQLite file,
+    whether the file or its folder lacks write permission.
+    """
+    url = engine.url
+    path = sqlite_file(url.render_as_string(hide_password=False))
+    uri = url.get_backend_name() == "sqlite" and (url.database or "").startswith("file:")
+    where = str(path) if path is not None else url.database if uri else display_url(str(url))
+    cause = _first_line(str(exc.orig))
+    if path is not None and path.exists() and not os.access(path, os.W_OK):
+        why = "the file is not writable by this user"
+    elif path is not None and not os.access(path.parent, os.W_OK):
+        why = "its folder is not writable by this user (SQLite keeps the -wal and -shm files there)"
+    elif uri and "mode=ro" in url.render_as_string(hide_password=False):
+        why = "opened with mode=ro"
+    else:
+        why = "the database refuses writes"
+    return StoreError(f"the store at {where} is read-only ({why}): {cause}; nothing was written "
+                      "(use a writable store or copy, or fix the permissions)")
+
+
 def run_in_transaction(engine: Engine, work: Callable[[Session], T], *, attempts: int = 8) -> T:
     """Run ``work(session)`` in one transaction, committed at the end, rolled back on error.
 
@@ -246,7 +312,13 @@ def run_in_transaction(engine: Engine, work: Callable[[Session], T], *, attempts
                 time.sleep(delay * (1 + random.random()))
                 delay = min(delay * 2, 2.0)
                 continue
+            if _is_read_only(exc):
+                raise read_only_error(engine, exc) from None
             raise StoreError(f"the store could not complete the write: {exc.orig}") from None
+        except InternalError as exc:  # PostgreSQL: a read-only transaction or standby (SQLSTATE 25006)
+            if _is_read_only(exc):
+                raise read_only_error(engine, exc) from None
+            raise
         except IntegrityError as exc:
             message = str(exc.orig)
             if "unique" in message.lower() or getattr(exc.orig, "sqlstate", None) == "23505":
