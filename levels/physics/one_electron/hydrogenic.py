@@ -39,14 +39,14 @@ from numpy.typing import NDArray
 from levels.errors import PhysicsInputError, QuantumNumberError
 from levels.physics.lines import air
 from levels.physics.one_electron import bound_g, dirac, rates
-from levels.units import M_E_U
+from levels.units import CM1_HZ, M_E_U
 
 #: largest n_max accepted (the radial recurrence is tested to n = 1000)
 N_MAX_LIMIT = 1000
 METHOD = "hydrogenic-dirac-qed"
 #: every correction on (the default of :func:`compute`; Corrections is immutable)
 ALL_CORRECTIONS = dirac.Corrections()
-METHOD_VERSION = "2"  # 2: bound-electron g-factor (Dirac + anomaly) instead of LS Landé g
+METHOD_VERSION = "3"  # 2: bound-electron g-factor (Dirac + anomaly) instead of LS Landé g; 3: theory uncertainties
 
 
 @dataclass
@@ -55,9 +55,12 @@ class HydrogenicModel:
 
     State arrays (length N): ``n``, ``l``, ``two_j`` (-1 for nl terms), ``g``,
     ``energy_cm1`` (above the 1s ground state), ``lifetime_s`` (inf for 1s),
-    ``lande_g`` (NaN for nl terms). Line arrays (length M): ``upper``, ``lower``
+    ``lande_g`` (NaN for nl terms), ``energy_unc_cm1`` (theory uncertainty of the
+    energy above the ground state, :func:`levels.physics.one_electron.dirac.level_uncertainties_cm1`;
+    NaN when a correction is switched off). Line arrays (length M): ``upper``, ``lower``
     (state indices), ``wavenumber_cm1``, ``vacuum_nm``, ``air_nm`` (NaN below
-    200 nm), ``S`` (e^2 a0^2), ``f_abs``, ``a_per_s``.
+    200 nm), ``S`` (e^2 a0^2), ``f_abs``, ``a_per_s``, ``unc_nm`` (the two levels'
+    uncertainties in quadrature, as a vacuum wavelength).
     """
 
     z: int
@@ -76,6 +79,8 @@ class HydrogenicModel:
     lifetime_s: NDArray[np.float64]
     lande_g: NDArray[np.float64]
     lines: dict[str, NDArray] = field(default_factory=dict)
+    energy_unc_cm1: NDArray[np.float64] = field(default_factory=lambda: np.zeros(0))
+    ionization_unc_cm1: float | None = None
 
     @property
     def mass_ratio(self) -> float:
@@ -186,8 +191,10 @@ def compute(z: int, *, nuclear_mass_u: float, n_max: int = 20, fine_structure: b
     a = mass_number or int(round(nuclear_mass_u))
     if charge_radius_fm is None:
         radius, source = dirac.charge_radius_fm(z, a)
+        radius_unc = dirac.charge_radius_uncertainty_fm(z, a)
     else:
         radius, source = float(charge_radius_fm), "given by the caller"
+        radius_unc = None  # 5 % (dirac.theory_uncertainty_components_hz)
     kwargs: dict[str, Any] = dict(nuclear_mass_u=nuclear_mass_u, charge_radius_fm=radius,
                                   corrections=corrections)
     if fine_structure:
@@ -213,6 +220,15 @@ def compute(z: int, *, nuclear_mass_u: float, n_max: int = 20, fine_structure: b
         g_lande = np.full(len(n), np.nan)
     vacuum_nm = 1e7 / lines["wavenumber_cm1"]
     lines["vacuum_nm"] = vacuum_nm
+    if corrections == ALL_CORRECTIONS:
+        # theory uncertainty: the size of the terms the method leaves out (dirac.theory_uncertainty_hz)
+        unc = dirac.level_uncertainties_cm1(z, n, l, two_j, nuclear_mass_u=nuclear_mass_u, charge_radius_fm=radius,
+                                            charge_radius_unc_fm=radius_unc)
+        ion_unc = float(dirac.theory_uncertainty_hz(z, 1, 0, 1, nuclear_mass_u=nuclear_mass_u,
+                                                    charge_radius_fm=radius, charge_radius_unc_fm=radius_unc)) / CM1_HZ
+    else:  # a correction switched off: the omitted term is far larger than the estimate; unknown
+        unc, ion_unc = np.full(len(n), np.nan), None
+    lines["unc_nm"] = np.hypot(unc[lines["upper"]], unc[lines["lower"]]) * vacuum_nm**2 / 1e7
     with warnings.catch_warnings():
         # beyond 2 um the IAU formula is extrapolated, as is usual practice; the dataset says so
         warnings.simplefilter("ignore", air.AirRangeWarning)
@@ -222,7 +238,7 @@ def compute(z: int, *, nuclear_mass_u: float, n_max: int = 20, fine_structure: b
         z=z, nuclear_mass_u=nuclear_mass_u, n_max=n_max, fine_structure=fine_structure,
         corrections=corrections.as_dict(), ionization_cm1=ionization, charge_radius_fm=radius,
         radius_source=source, n=n, l=l, two_j=two_j, g=g.astype(np.int64), energy_cm1=energy,
-        lifetime_s=tau, lande_g=g_lande, lines=lines,
+        lifetime_s=tau, lande_g=g_lande, lines=lines, energy_unc_cm1=unc, ionization_unc_cm1=ion_unc,
     )
 
 
