@@ -35,12 +35,12 @@ def build_demo(catalog: Catalog, *, n_max: int = 20) -> list[str]:
                          "gas_fill": "Li vapour with 50 Pa Ar buffer (invented)", "pressure_pa": 50.0,
                          "instrument": "fictional echelle, 0.002 nm resolution", "tgas_k": 750.0}
     try:
-        levels = catalog.import_file(demo_file("sample-li-cell.csv"), sample="li-cell-7", dataset="li-cell-7/levels",
+        levels = catalog.import_file(demo_file("sample-li-cell.csv"), sample="li-cell-amber", dataset="li-cell-amber/levels",
                                      sample_conditions=sample_conditions)
-        lines = catalog.import_file(demo_file("lines-li-cell.csv"), sample="li-cell-7", dataset="li-cell-7/lines")
-        out.append(f"imported the invented sample li-cell-7: {levels.levels} levels, {lines.lines} measured lines")
+        lines = catalog.import_file(demo_file("lines-li-cell.csv"), sample="li-cell-amber", dataset="li-cell-amber/lines")
+        out.append(f"imported the invented sample li-cell-amber: {levels.levels} levels, {lines.lines} measured lines")
     except AlreadyExistsError:
-        out.append("the invented sample li-cell-7 is already in the store")
+        out.append("the invented sample li-cell-amber is already in the store")
     fit = catalog.fit_limit("Li I", ["ns 2S1/2", "nd 2D5/2"], n_min=4)
     out.append(f"fitted the Li I series limit: {fit['limit_cm1']:.3f} ± {fit['limit_unc_cm1']:.3f} cm-1")
     out += _demo_rates(catalog)
@@ -55,7 +55,7 @@ def build_demo(catalog: Catalog, *, n_max: int = 20) -> list[str]:
         "  levels lines \"He II\" --from 460nm --to 480nm",
         "  levels rates \"Li I\" --format json --output li-rates.json",
         "  levels emission \"Li I\" --te 0.5eV --ne 1e19m-3 --from 400nm --to 900nm --plot li-cell.html",
-        "  levels optimize li-cell-7/lines",
+        "  levels optimize li-cell-amber/lines",
         "  levels identify \"Li I\" seed_data/demo/peaks-li-cell.csv --tolerance 0.003nm",
         "  levels serve        (then open http://127.0.0.1:8150/)",
     ]

@@ -1,4 +1,4 @@
-"""Generate the INVENTED demo sample 'li-cell-7' (seed_data/demo/sample-li-cell.csv).
+"""Generate the INVENTED demo sample 'li-cell-amber' (seed_data/demo/sample-li-cell.csv).
 
 Everything here is invented for the demo: the lab, the cell, the quantum
 defects, the fine-structure splittings and the uncertainties. The levels follow
@@ -41,7 +41,7 @@ for l, letter, term_l in ((0, "s", "S"), (1, "p", "P"), (2, "d", "D")):
             rows.append((value, f"1s2.{n}{letter}", f"2{term_l}{odd}", j, unc_v))
 
 print("# INVENTED DEMO DATA - not measurements of any real sample.")
-print("# Sample 'li-cell-7': a lithium vapour cell of the fictional Brightwater Optics Lab,")
+print("# Sample 'li-cell-amber': a lithium vapour cell of the fictional Brightwater Optics Lab,")
 print("# levels from an invented Rydberg model with invented noise (seed_data/demo/generate_li_cell.py).")
 print("spectrum,configuration,term,j,energy_cm1,unc_cm1")
 for value, config, term, j, unc in sorted(rows):

@@ -1,4 +1,4 @@
-"""Generate INVENTED measured lines and peaks of the demo sample 'li-cell-7'.
+"""Generate INVENTED measured lines and peaks of the demo sample 'li-cell-amber'.
 
 Reads seed_data/demo/sample-li-cell.csv (itself invented), takes E1 pairs among
 its levels, and writes air wavelengths with invented noise and uncertainties
@@ -41,9 +41,9 @@ pairs = [p for p in pairs if 200 < 1e7 / (levels[p[1]] - levels[p[0]]) < 1200]
 chosen = [pairs[i] for i in sorted(rng.choice(len(pairs), size=min(40, len(pairs)), replace=False))]
 
 lines_out = ["# INVENTED DEMO DATA - not measurements of any real sample.",
-             "# Lines of the invented lithium cell 'li-cell-7' (generate_li_lines.py).",
+             "# Lines of the invented lithium cell 'li-cell-amber' (generate_li_lines.py).",
              "spectrum,lower,upper,wavelength_nm,medium,unc_nm,intensity"]
-peaks_out = ["# INVENTED DEMO DATA - unlabelled peaks of the invented cell 'li-cell-7', two invented impurity peaks.",
+peaks_out = ["# INVENTED DEMO DATA - unlabelled peaks of the invented cell 'li-cell-amber', two invented impurity peaks.",
              "peak_nm,medium,unc_nm,intensity"]
 for lower, upper in chosen:
     vac = 1e7 / (levels[upper] - levels[lower])

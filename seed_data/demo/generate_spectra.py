@@ -2,7 +2,7 @@
 
 * ``frame-hd-lamp.csv``: a pixel frame of the invented hydrogen-deuterium lamp
   (lamp-hd-calibration.json) on the fictional bench grating spectrometer, for ``levels calibrate``;
-* ``frame-h-arc.csv``: a pixel frame of an invented hydrogen arc 'arc-5' on the same spectrometer,
+* ``frame-h-arc.csv``: a pixel frame of an invented hydrogen arc 'arc-heron' on the same spectrometer,
   for ``levels peaks --calibration`` and ``levels diagnose``.
 
 The spectrometer's dispersion, the lamp and arc conditions and the noise are invented. Line positions
@@ -87,7 +87,7 @@ width = np.where(n_up == 3, stark.stark_fwhm_nm("H-alpha", NE), stark.stark_fwhm
 p, y, unc = frame(a_nm, a_pow, width, 30000.0, 150.0, 3000.0, 1.008)
 write(
     "frame-h-arc.csv",
-    "# INVENTED DEMO DATA - not a measurement. Pixel frame of the invented hydrogen arc 'arc-5' (Te 12000 K,\n"
+    "# INVENTED DEMO DATA - not a measurement. Pixel frame of the invented hydrogen arc 'arc-heron' (Te 12000 K,\n"
     "# ne 2e22 m-3, Tgas 3000 K, invented) on the fictional bench grating spectrometer;\n"
     "# made by seed_data/demo/generate_spectra.py.\n",
     p,

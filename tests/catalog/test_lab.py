@@ -15,7 +15,7 @@ HEADER = "spectrum,lower,upper,wavelength_nm,medium,unc_nm\n"
 
 @pytest.fixture
 def lab(catalog):
-    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-7", dataset="li/levels")
+    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-amber", dataset="li/levels")
     return catalog
 
 
@@ -26,7 +26,7 @@ def _write(tmp_path, name, body):
 
 
 def test_measured_lines_import_and_optimize(lab):
-    report = lab.import_file(DEMO / "lines-li-cell.csv", sample="li-cell-7", dataset="li/lines")
+    report = lab.import_file(DEMO / "lines-li-cell.csv", sample="li-cell-amber", dataset="li/lines")
     assert report.lines == 40
     result = lab.optimize_levels("li/lines", fix="1s2.2s 2S1/2")
     by_label = {lv["label"]: lv for lv in result["levels"]}

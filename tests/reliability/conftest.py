@@ -17,10 +17,10 @@ def fill(catalog, *, n_max: int = 5) -> None:
     """Computed H I and He II, the invented Li cell (levels, lines, sample) and a fitted limit."""
     catalog.compute_hydrogenic("H I", n_max=n_max)
     catalog.compute_hydrogenic("He II", n_max=n_max, fine_structure=False)
-    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-7", dataset="li/levels",
+    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-amber", dataset="li/levels",
                         sample_conditions={"description": "invented cell, ° and µ in text", "pressure_pa": 50.0,
                                            "tgas_k": 750.0})
-    catalog.import_file(DEMO / "lines-li-cell.csv", sample="li-cell-7", dataset="li/lines")
+    catalog.import_file(DEMO / "lines-li-cell.csv", sample="li-cell-amber", dataset="li/lines")
     catalog.fit_limit("Li I", ["ns 2S1/2", "nd 2D5/2"], n_min=4)
 
 

@@ -32,8 +32,8 @@ def site(tmp_path_factory):
     catalog = Catalog(url, actor="pytest")
     catalog.init()
     catalog.compute_hydrogenic("H I", n_max=6)
-    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-7", dataset="li/levels")
-    catalog.import_file(DEMO / "lines-li-cell.csv", sample="li-cell-7", dataset="li/lines")
+    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-amber", dataset="li/levels")
+    catalog.import_file(DEMO / "lines-li-cell.csv", sample="li-cell-amber", dataset="li/lines")
     application = create_app(make_config(url, folder))
     with LiveServer(application) as live:
         yield live.url

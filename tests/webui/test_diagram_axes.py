@@ -54,7 +54,7 @@ def test_panel_titles_follow_the_rates():
 @pytest.fixture
 def site(catalog, store_url, tmp_path):
     catalog.compute_hydrogenic("H I", n_max=6)
-    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-7", dataset="li/levels")
+    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-amber", dataset="li/levels")
     app = create_app(make_config(store_url, tmp_path))
     yield app.test_client()
     app.extensions["levels"]["catalog"].close()

@@ -22,8 +22,8 @@ OBSERVED_AIR_NM = 708.08322  # the invented observed wavelength of that pair in 
 
 @pytest.fixture
 def li(catalog):
-    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-7", dataset="li/levels")
-    catalog.import_file(DEMO / "lines-li-cell.csv", sample="li-cell-7", dataset="li/lines")
+    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-amber", dataset="li/levels")
+    catalog.import_file(DEMO / "lines-li-cell.csv", sample="li-cell-amber", dataset="li/lines")
     return catalog
 
 
