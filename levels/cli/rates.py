@@ -6,7 +6,7 @@ import json
 
 import click
 
-from levels.cli import Context, emit, main, output_path, reports_errors, text_table
+from levels.cli import Context, complete_provenance, emit, main, output_path, reports_errors, text_table
 from levels.io.tables import write_atomic
 
 
@@ -17,8 +17,9 @@ from levels.io.tables import write_atomic
                    "auto: per configuration.")
 @click.option("--dataset", "datasets", multiple=True, metavar="NAME",
               help="Use the levels of these datasets, in this order of precedence (repeat the option).")
-@click.option("--format", "fmt", type=click.Choice(["table", "csv", "json"]), default="table", show_default=True)
-@click.option("--output", type=click.Path(dir_okay=False), help="Write the report (csv/json) to this file.")
+@click.option("--format", "fmt", type=click.Choice(["table", "csv", "json", "ecsv"]), default="table",
+              show_default=True, help="csv/ecsv: the lines; json: the whole report (lines, lifetimes, skipped).")
+@click.option("--output", type=click.Path(dir_okay=False), help="Write the report (csv/json/ecsv) to this file.")
 @click.option("--top", type=int, default=20, show_default=True, help="Lines printed in the table.")
 @click.pass_obj
 @reports_errors
@@ -43,22 +44,20 @@ def rates(obj: Context, spectrum: str, method: str, datasets: tuple[str, ...], f
 
     output_path(output)
     if fmt == "table" and output:
-        raise click.UsageError("--output needs --format csv or json")
+        raise click.UsageError("--output needs --format csv, json or ecsv")
     report = compute_rates(obj.catalog, spectrum, method=method, datasets=list(datasets) or None)
-    provenance = obj.catalog.provenance(f"rates {spectrum}; method {method}", report.datasets,
-                                        computed_dataset=report.saved_as or "", ionization=report.ionization_source)
+    # the same header as every export: tool, store, the input datasets, query, air formula, then the method
+    provenance = complete_provenance({"store": obj.catalog.display_url, **report.provenance()}, report.lines)
     if fmt == "json":
-        payload = report.as_dict()
-        payload["provenance"] = provenance
+        payload = {"provenance": provenance, **report.as_dict()}
         text = json.dumps(payload, indent=1, ensure_ascii=False) + "\n"
         if output:
             write_atomic(output, text)
             click.echo(f"wrote {output}", err=True)
         else:
             click.echo(text, nl=False)
-    elif fmt == "csv":
-        emit(report.lines, RATES_COLUMNS, "csv", provenance, output=output,
-             units={"vacuum_nm": "nm", "a_per_s": "s-1", "line_strength_au": "au"})
+    elif fmt in ("csv", "ecsv"):
+        emit(report.lines, RATES_COLUMNS, fmt, provenance, output=output)
     else:
         click.echo(f"{report.spectrum}: {len(report.lines)} lines, {len(report.levels)} lifetimes, "
                    f"{len(report.skipped)} levels skipped; method {report.method}")

@@ -84,7 +84,7 @@ def peaks(
 
     \b
     Example:
-      levels peaks cell-7.csv --profile voigt --format csv --output cell-7-peaks.csv --plot cell-7.html
+      levels peaks cell-amber.csv --profile voigt --format csv --output cell-amber-peaks.csv --plot cell-amber.html
       levels peaks lamp-frame.csv --calibration cal.json --min-snr 8
     """
     from levels.service import spectra as service
@@ -92,14 +92,17 @@ def peaks(
     result = service.find_peaks(
         spectrum_file, medium=medium, calibration_file=calibration_file, min_snr=min_snr, profile=profile
     )
+    # the peaks come from the file, not the store: the header names the file as given and its digest
     provenance = {
         "tool": obj_version(),
+        "store": "not used (peaks come from the spectrum file)",
+        **result.provenance,
         "query": f"peaks {spectrum_file}; profile {profile}; min S/N {min_snr:g}"
         + (f"; calibration {calibration_file}" if calibration_file else ""),
-        "noise": f"{result.fit.noise:.6g} (intensity units)",
-        "medium": result.medium,
-        "note": "fwhm_unc_nm follows the contract columns; area is intensity x nm",
+        "input": spectrum_file,
     }
+    if calibration_file:
+        provenance["calibration"] = calibration_file
     emit(
         result.rows,
         service.PEAK_COLUMNS,
@@ -224,7 +227,7 @@ def calibrate(
         ]
         click.echo(
             text_table(
-                sorted(rows, key=lambda r: r["pixel"]),  # type: ignore[arg-type,return-value]
+                sorted(rows, key=lambda r: r["pixel"]),
                 ("pixel", "line_nm", "residual_nm", "spectrum", "lower", "upper", "components", "state"),
                 headings={"line_nm": "line [nm]", "residual_nm": "residual [nm]"},
             ),
@@ -294,9 +297,9 @@ def diagnose(
 
     \b
     Example:
-      levels diagnose "H I" cell-7-peaks.csv --instrument-fwhm 0.05nm --tgas 1000K --format json
-      levels diagnose "H I" cell-7-peaks.csv --lines-output cell-7-lines.csv
-      levels import cell-7-lines.csv --sample cell-7
+      levels diagnose "H I" cell-amber-peaks.csv --instrument-fwhm 0.05nm --tgas 1000K --format json
+      levels diagnose "H I" cell-amber-peaks.csv --lines-output cell-amber-lines.csv
+      levels import cell-amber-lines.csv --sample cell-amber
     """
     from levels.service import spectra as service
     from levels.units import density_m3, temperature_k, wavelength_nm

@@ -36,6 +36,7 @@ import json
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 from sqlalchemy import select
@@ -43,7 +44,7 @@ from sqlalchemy.orm import Session
 
 from levels import __version__
 from levels.errors import NotationError, NotFoundError, PhysicsInputError
-from levels.notation import Spectrum, format_j, l_letter, parse_configuration, parse_level_term, parse_spectrum
+from levels.notation import Spectrum, Term, format_j, l_letter, parse_configuration, parse_level_term, parse_spectrum
 from levels.service.rates_common import LevelInput, LineRate, MethodResult
 from levels.store import queries
 from levels.store.schema import Dataset, IonizationLimit, Level, Species
@@ -90,6 +91,36 @@ class RatesReport:
     parameters: dict = field(default_factory=dict)
     #: (energy, uncertainty) cm-1 when the limit was fitted here (stored with the rates)
     fitted_limit: tuple[float, float] | None = None
+    #: the method asked for (``auto``, ``single``, ``coupled``); ``method`` says which ran
+    method_asked: str = "auto"
+
+    def provenance(self) -> dict:
+        """The export header's entries beyond tool and store.
+
+        ``datasets`` are exactly the datasets whose levels were the input; the query, the
+        method that ran with its version, the computed dataset the lines were stored as
+        and the ionization limit's source follow. The rows carry vacuum wavelengths only,
+        so no air formula was applied to them (the stored dataset's ``air_nm`` use IAU
+        standard air, as every computed line set).
+
+        Examples
+        --------
+        >>> head = RatesReport(spectrum="Na I", method="single-valence 1.0", datasets=["cell-1/levels"],
+        ...                    saved_as="rates Na I A=23", method_asked="single").provenance()
+        >>> head["datasets"], head["output_dataset"]
+        ('cell-1/levels', 'rates Na I A=23')
+        """
+        return {
+            "datasets": "; ".join(self.datasets) if self.datasets else "(none)",
+            "query": f"rates {self.spectrum}; method {self.method_asked}",
+            "air_formula": "none applied (the rows give vacuum_nm only; the stored dataset's air_nm use "
+                           "IAU standard air, Morton 2000)",
+            "method": self.method,
+            "method_version": f"levels {__version__}",
+            "output_dataset": self.saved_as or "not stored (report only)",
+            "ionization": self.ionization_source,
+            "rows": "lines; the lifetimes are in the JSON report",
+        }
 
     def as_dict(self) -> dict:
         """The contract's JSON object (plus ``saved_as``, ``ionization_cm1``, ``ionization_source``)."""
@@ -158,7 +189,7 @@ def classify_single(level: LevelInput, electrons: int) -> tuple[tuple[int, int, 
             term = parse_level_term(level.term)
         except NotationError as exc:
             return None, f"term not understood: {exc}"
-        if term is not None and not hasattr(term, "multiplicity"):
+        if term is not None and not isinstance(term, Term):
             return None, f"jK term {level.term} for configuration {level.configuration}: not one electron outside " \
                          "closed shells"
         if term is not None and (term.multiplicity != 2 or term.L != l or term.parity != parity):
@@ -204,7 +235,7 @@ def single_rates(levels: Sequence[LevelInput], *, z: int, charge: int, ionizatio
     for lv in levels:
         qn, reason = classify_single(lv, electrons)
         if qn is None:
-            result.skipped.append((lv.level_id, reason))
+            result.skipped.append((lv.level_id, reason or "not one electron outside closed shells"))
             continue
         if qn in seen:
             result.skipped.append((lv.level_id, f"same n, l, J as level {seen[qn].label!r}: contradictory labels"))
@@ -323,7 +354,8 @@ def compute_rates(catalog, spectrum: str | Spectrum, *, method: str = "auto",
         limit = queries.ionization_limit(session, species, chosen)
         limit_name = None
         if limit is not None:
-            limit_name = session.get(Dataset, limit.dataset_id).name
+            limit_dataset = session.get(Dataset, limit.dataset_id)
+            limit_name = limit_dataset.name if limit_dataset is not None else None
         inputs = [LevelInput(level_id=lv.id, label=lv.label, configuration=lv.configuration, term=lv.term,
                              two_j=lv.two_j, parity=lv.parity, energy_cm1=lv.energy_cm1, unc_cm1=lv.unc_cm1)
                   for lv in levels]
@@ -407,14 +439,14 @@ def compute_rates(catalog, spectrum: str | Spectrum, *, method: str = "auto",
     report = RatesReport(spectrum=name, method=method_text, datasets=used, lines=line_rows, levels=level_rows,
                          skipped=[{"label": by_id[k].label, "reason": v} for k, v in skipped.items()],
                          warnings=warnings, ionization_cm1=ionization, ionization_source=ionization_source,
-                         parameters=parameters, fitted_limit=fitted_limit)
+                         parameters=parameters, fitted_limit=fitted_limit, method_asked=method)
     if save:
         report.saved_as = _store(catalog, species_id, name, mass_number, ordered, by_id, report, method)
     return report
 
 
 def _report_rows(lines: Sequence[LineRate], by_id: dict[int, LevelInput],
-                 incomplete: set[int] = frozenset()) -> tuple[list[dict], list[dict]]:
+                 incomplete: set[int] | frozenset[int] = frozenset()) -> tuple[list[dict], list[dict]]:
     rows = []
     for ln in lines:
         rows.append({"lower": by_id[ln.lower_id].label, "upper": by_id[ln.upper_id].label,
@@ -455,17 +487,20 @@ def _store(catalog, species_id: int, name: str, mass_number: int, lines: Sequenc
             _warnings.simplefilter("ignore", AirRangeWarning)
             air[above] = np.asarray(vacuum_to_air(vacuum[above], "iau2000"), dtype=float)
     count = len(lines)
+    levels_used = sorted({i for ln in lines for i in (ln.lower_id, ln.upper_id)})
     options = {"method_asked": method, "methods": report.method, "ionization_cm1": report.ionization_cm1,
                "ionization_source": report.ionization_source, "datasets": report.datasets,
-               "levels_used": sorted({i for ln in lines for i in (ln.lower_id, ln.upper_id)}),
+               "levels_used": levels_used,
                "skipped": report.skipped, "parameters": report.parameters,
                "uncertainty_rule": "see levels.physics.many_electron.single_valence (module docstring)"}
 
     def work(session: Session) -> str:
         species = session.get(Species, species_id)
+        if species is None:
+            raise NotFoundError(f"{name} was removed while the rates were computed; run again")
         # the levels must still be there (another writer may have retracted them meanwhile)
-        wanted = sorted(options["levels_used"])
-        present = set()
+        wanted = levels_used
+        present: set[int] = set()
         for start in range(0, len(wanted), 5000):
             part = wanted[start:start + 5000]
             present.update(session.scalars(select(Level.id).where(Level.id.in_(part))))
@@ -540,7 +575,7 @@ def lifetimes_from_lines(species_id: int | None, chosen: Sequence[Dataset], stor
     incomplete = _incomplete_levels(rates_sets)
     rank = {d.id: i for i, d in enumerate(chosen)}
     covered = {ln.upper_id for ln in stored if ln.dataset_id in rates_ids}
-    best: dict[tuple, object] = {}
+    best: dict[tuple, Any] = {}
     for ln in sorted(stored, key=lambda ln: (ln.a_per_s is None, rank.get(ln.dataset_id, len(rank)), ln.id),
                      reverse=True):
         best[(ln.lower_id, ln.upper_id, ln.multipole)] = ln

@@ -22,17 +22,20 @@ The physics is in :mod:`levels.physics.diagnostics`; files are read by
 
 from __future__ import annotations
 
+import hashlib
 import math
 import re
 import warnings as _warnings
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from pathlib import Path
 
 import numpy as np
 
 from levels.errors import InputFileError, NotFoundError, PhysicsInputError, Problem
 from levels.io import records as records_io
 from levels.io import spectra as spectra_io
+from levels.io.tables import read_source
 from levels.isotopes import isotope
 from levels.notation import parse_spectrum
 from levels.physics.diagnostics import boltzmann, calibration, peaks, stark
@@ -83,6 +86,8 @@ class PeaksResult:
     x_nm: np.ndarray | None
     medium: str
     warnings: list[str] = field(default_factory=list)
+    #: where the peaks came from, for an export header (see :func:`peaks_provenance`)
+    provenance: dict = field(default_factory=dict)
 
     def model(self) -> np.ndarray:
         """The fitted model on the file's axis."""
@@ -155,10 +160,18 @@ def find_peaks(
     """
     if medium not in (None, "air", "vacuum"):
         raise PhysicsInputError(f"medium must be air or vacuum, not {medium!r}")
-    data = spectra_io.read_spectrum(content if content is not None else path, source=source)
+    # the bytes are read once: the digest in the export header is of exactly what was fitted
+    if content is None:
+        source, content = read_source(path, source)
+    data = spectra_io.read_spectrum(content, source=source)
     cal = None
+    cal_name, cal_bytes = None, None
     if calibration_file is not None or calibration_content is not None:
-        cal = spectra_io.read_calibration(calibration_content if calibration_content is not None else calibration_file)
+        if calibration_content is None:
+            cal_name, cal_bytes = read_source(calibration_file, Path(calibration_file).name)
+        else:
+            cal_name, cal_bytes = "<calibration>", calibration_content
+        cal = spectra_io.read_calibration(cal_bytes, source=cal_name)
     warnings: list[str] = []
     if data.axis == "pixel" and cal is None:
         raise PhysicsInputError(
@@ -199,7 +212,9 @@ def find_peaks(
             f"{data.source} does not say in which medium its wavelengths are; taken as air "
             "(write '# medium: vacuum' in the file or give --medium)"
         )
+    converted = False
     if stated is not None and stated != out_medium:
+        converted = True
         with _warnings.catch_warnings():
             _warnings.simplefilter("ignore", air.AirRangeWarning)
             centre = _convert_medium(centre, stated, out_medium, air_formula)
@@ -228,7 +243,89 @@ def find_peaks(
         )
     if not rows:
         warnings.append(f"no peak above {min_snr:g} times the noise ({fit.noise:.3g})")
-    return PeaksResult(rows=rows, data=data, fit=fit, x_nm=x_nm, medium=out_medium, warnings=warnings)
+    provenance = peaks_provenance(
+        source=data.source, content=content, calibration=(cal_name, cal_bytes) if cal is not None else None,
+        profile=profile, min_snr=min_snr, noise=fit.noise, axis=data.axis, stated=stated, medium=out_medium,
+        air_formula=air_formula if converted else None, from_calibration=cal is not None)
+    return PeaksResult(rows=rows, data=data, fit=fit, x_nm=x_nm, medium=out_medium, warnings=warnings,
+                       provenance=provenance)
+
+
+def peaks_provenance(*, source: str, content: bytes, calibration: tuple[str | None, bytes | None] | None,
+                     profile: str, min_snr: float, noise: float, axis: str, stated: str | None, medium: str,
+                     air_formula: str | None, from_calibration: bool) -> dict:
+    """The export header of a peaks table: the input file and its digest, the fit, the medium and air formula.
+
+    Peaks come from a spectrum file, not the store: ``datasets`` says so, ``input`` and
+    ``input_sha256`` name the exact bytes fitted (and ``calibration``/``calibration_sha256``
+    the calibration applied to a pixel axis).
+
+    Parameters
+    ----------
+    source : str
+        The spectrum file's name as given.
+    content : bytes
+        Its bytes (the SHA-256 digest is of these).
+    calibration : (name, bytes) or None
+        The calibration file applied, if any.
+    profile, min_snr, noise : str, float, float
+        The fit's options and the noise it found.
+    axis : {"wavelength_nm", "pixel"}
+    stated : {"air", "vacuum"} or None
+        The medium the file (or calibration) states.
+    medium : {"air", "vacuum"}
+        The medium of the reported wavelengths.
+    air_formula : str or None
+        The formula that converted between the media, None when none was applied.
+    from_calibration : bool
+        Whether wavelengths come from a calibration.
+
+    Returns
+    -------
+    dict
+        Ordered header entries (``datasets``, ``query``, ``air_formula``, ``input`` ...).
+
+    Examples
+    --------
+    >>> head = peaks_provenance(source="s.csv", content=b"x", calibration=None, profile="gauss", min_snr=5,
+    ...                         noise=0.1, axis="wavelength_nm", stated="air", medium="air", air_formula=None,
+    ...                         from_calibration=False)
+    >>> head["input_sha256"][:12], head["medium"]
+    ('2d711642b726', 'air (as the spectrum file states)')
+    """
+    origin = "the calibration" if from_calibration else "the spectrum file"
+    if stated is None:
+        axis_medium = f"{medium} (assumed: {origin} does not say)"
+    elif stated == medium:
+        axis_medium = f"{medium} (as {origin} states)"
+    else:
+        axis_medium = f"{medium} (converted from {stated}, as {origin} states)"
+    if air_formula is not None:
+        formula = f"{air.formula_description(air_formula)} (converted {stated} to {medium})"
+    else:
+        formula = f"none applied (wavelengths kept in {stated or medium} as read)"
+    out = {
+        "datasets": "none (peaks come from the spectrum file named in input, not from the store)",
+        "query": f"peaks {source}; profile {profile}; min S/N {min_snr:g}"
+        + (f"; calibration {calibration[0]}" if calibration else ""),
+        "air_formula": formula,
+        "input": source,
+        "input_sha256": hashlib.sha256(content).hexdigest(),
+    }
+    if calibration is not None:
+        out["calibration"] = calibration[0] or "<calibration>"
+        out["calibration_sha256"] = hashlib.sha256(calibration[1] or b"").hexdigest()
+    out.update({
+        "axis": axis,
+        "medium": axis_medium,
+        "fit": f"profile {profile}; min S/N {min_snr:g}; baseline clipped running median; "
+               "uncertainties from the fit covariance",
+        "noise": f"{noise:.6g} (intensity units)",
+        "note": "fwhm_unc_nm follows the contract columns; area is intensity x nm "
+                + ("(summed counts for a pixel frame)" if axis == "pixel" else ""),
+    })
+    out["note"] = out["note"].strip()
+    return out
 
 
 # ----------------------------------------------------------------- calibration
