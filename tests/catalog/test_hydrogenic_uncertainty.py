@@ -24,8 +24,18 @@ def test_levels_lines_and_limit_carry_theory_uncertainty(catalog):
     # unc_nm of a line to the ground state: the upper level's uncertainty as a wavelength, lambda^2 u / 1e7
     assert lya["unc_nm"] == pytest.approx(lya["vacuum_nm"] ** 2 * u2p / 1e7, rel=1e-6)
     balmer = next(r for r in rows if r["lower"] == "2p 2P°3/2" and r["upper"] == "3d 2D5/2")
+    # the species line list (Ritz engine) propagates the two stored level uncertainties in quadrature
     u_up, u_lo = levels["3d 2D5/2"]["unc_cm1"], levels["2p 2P°3/2"]["unc_cm1"]
     assert balmer["unc_nm"] == pytest.approx(balmer["vacuum_nm"] ** 2 * math.hypot(u_up, u_lo) / 1e7, rel=1e-6)
+    # the stored computed line carries the transition's own uncertainty: the two states' parts in quadrature,
+    # the Rydberg and radius parts correlated (dirac.transition_uncertainties_cm1); smaller, as it does not
+    # count the ground state's part twice
+    stored, _ = catalog.line_rows(LineQuery(from_nm=656.0, to_nm=657.0, medium="vacuum"))
+    line = next(r for r in stored if r["lower"] == "2p 2P°3/2" and r["upper"] == "3d 2D5/2")
+    u_line = float(dirac.transition_uncertainties_cm1(1, [3, 2], [2, 1], [5, 3], [0], [1],
+                                                      nuclear_mass_u=1.007276466621)[0])
+    assert line["unc_nm"] == pytest.approx(line["vacuum_nm"] ** 2 * u_line / 1e7, rel=1e-6)
+    assert 0 < u_line < math.hypot(u_up, u_lo)
     species = catalog.species_rows()[0]
     assert species["ionization_unc_cm1"] is not None and 1e-8 < species["ionization_unc_cm1"] < 1e-5
 

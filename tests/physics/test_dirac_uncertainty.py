@@ -52,6 +52,8 @@ def test_hydrogen_lamb_shift_difference_is_covered():
     e = dirac.level_energies_hz(1, 2, [0, 1], 1, nuclear_mass_u=M_P)
     diff_hz = float(e[0] - e[1]) - 1057.8298e6
     u = _interval_unc_hz(1, (2, 0, 1), (2, 1, 1), M_P)
+    u_fn = float(dirac.transition_uncertainties_cm1(1, 2, [0, 1], 1, [0], [1], nuclear_mass_u=M_P)[0]) * CM1_HZ
+    assert u_fn == pytest.approx(u, rel=1e-9)
     assert abs(diff_hz) <= 2 * math.hypot(u, 3.2e3)
     assert u < 1e4
 

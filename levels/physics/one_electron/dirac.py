@@ -70,7 +70,7 @@ from __future__ import annotations
 
 import math
 from dataclasses import asdict, dataclass
-from typing import Literal, cast
+from typing import Any, Literal, cast
 
 import numpy as np
 import scipy.constants as sc
@@ -94,6 +94,7 @@ __all__ = [
     "level_energies_cm1",
     "level_energies_hz",
     "level_uncertainties_cm1",
+    "transition_uncertainties_cm1",
     "theory_uncertainty_components_hz",
     "theory_uncertainty_hz",
     "charge_radius_uncertainty_fm",
@@ -1200,7 +1201,7 @@ def theory_uncertainty_hz(z: int, n, l, two_j, *, nuclear_mass_u: float, charge_
     parts = theory_uncertainty_components_hz(z, n, l, two_j, nuclear_mass_u=nuclear_mass_u,
                                              charge_radius_fm=charge_radius_fm,
                                              charge_radius_unc_fm=charge_radius_unc_fm)
-    return cast(np.ndarray, np.sqrt(sum(p**2 for p in parts.values())))
+    return np.sqrt(sum(p**2 for p in parts.values()))
 
 
 def level_uncertainties_cm1(z: int, n, l, two_j, *, nuclear_mass_u: float, charge_radius_fm: float | None = None,
@@ -1225,8 +1226,8 @@ def level_uncertainties_cm1(z: int, n, l, two_j, *, nuclear_mass_u: float, charg
     merged = j_arr < 0
     lo_j = np.where(merged, np.maximum(2 * l_arr - 1, 1), j_arr)
     hi_j = np.where(merged, 2 * l_arr + 1, j_arr)
-    kw = dict(nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm,
-              charge_radius_unc_fm=charge_radius_unc_fm)
+    kw: dict[str, Any] = dict(nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm,
+                              charge_radius_unc_fm=charge_radius_unc_fm)
     ground = theory_uncertainty_components_hz(z, 1, 0, 1, **kw)
     e_ground = level_contributions_hz(z, 1, 0, 1, nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm)
     out = np.zeros(n_arr.shape)
@@ -1242,3 +1243,42 @@ def level_uncertainties_cm1(z: int, n, l, two_j, *, nuclear_mass_u: float, charg
         out = np.maximum(out, np.sqrt(quad + rydberg**2 + radius**2))
     is_ground = (n_arr == 1) & (l_arr == 0)
     return np.where(is_ground, 0.0, out) / CM1_HZ
+
+
+def transition_uncertainties_cm1(z: int, n, l, two_j, upper, lower, *, nuclear_mass_u: float,
+                                 charge_radius_fm: float | None = None,
+                                 charge_radius_unc_fm: float | None = None) -> np.ndarray:
+    """Uncertainty of the wavenumbers E(upper) - E(lower) of transitions between states, in cm-1.
+
+    The states are given by ``n, l, two_j`` (``two_j = -1``: an nl term, each component of its
+    uncertainty the larger of its two j levels'); ``upper`` and ``lower`` index them. The
+    components of :func:`theory_uncertainty_components_hz` of the two states add in quadrature,
+    except the Rydberg-constant and radius parts, which are fully correlated and enter as the
+    difference of the two states' values: ``u_r(R_inf) |ΔE|`` and ``|u_R(upper) - u_R(lower)|``.
+    Unlike differences of :func:`level_uncertainties_cm1` this does not count the ground
+    state's uncertainty twice.
+
+    Examples
+    --------
+    >>> u = transition_uncertainties_cm1(1, [2, 2], [0, 1], [1, 1], [0], [1], nuclear_mass_u=1.00727646658)
+    >>> bool(1e-8 < u[0] < 1e-7)   # the 2S-2P1/2 Lamb shift: about 1.3 kHz
+    True
+    """
+    n_arr, l_arr, j_arr = np.broadcast_arrays(_as_int_array("n", n), _as_int_array("l", l),
+                                              _as_int_array("two_j", two_j))
+    up, lo = np.asarray(upper, dtype=np.int64), np.asarray(lower, dtype=np.int64)
+    merged = j_arr < 0
+    kw: dict[str, Any] = dict(nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm,
+                              charge_radius_unc_fm=charge_radius_unc_fm)
+    parts_lo = theory_uncertainty_components_hz(z, n_arr, l_arr, np.where(merged, np.maximum(2 * l_arr - 1, 1), j_arr),
+                                                **kw)
+    parts_hi = theory_uncertainty_components_hz(z, n_arr, l_arr, np.where(merged, 2 * l_arr + 1, j_arr), **kw)
+    parts = {k: np.maximum(parts_lo[k], parts_hi[k]) for k in UNCERTAINTY_COMPONENTS}
+    energy = level_energies_hz(z, n_arr, l_arr, np.where(merged, 2 * l_arr + 1, j_arr),
+                               nuclear_mass_u=nuclear_mass_u, charge_radius_fm=charge_radius_fm)
+    u_r = sc.physical_constants["Rydberg constant"][2] / sc.physical_constants["Rydberg constant"][0]
+    quad = sum(parts[k][up] ** 2 + parts[k][lo] ** 2 for k in UNCERTAINTY_COMPONENTS
+               if k not in ("rydberg_constant", "nuclear_radius"))
+    correlated = (u_r * (energy[up] - energy[lo])) ** 2 + (parts["nuclear_radius"][up]
+                                                          - parts["nuclear_radius"][lo]) ** 2
+    return np.sqrt(quad + correlated) / CM1_HZ

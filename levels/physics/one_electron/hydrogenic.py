@@ -59,8 +59,8 @@ class HydrogenicModel:
     energy above the ground state, :func:`levels.physics.one_electron.dirac.level_uncertainties_cm1`;
     NaN when a correction is switched off). Line arrays (length M): ``upper``, ``lower``
     (state indices), ``wavenumber_cm1``, ``vacuum_nm``, ``air_nm`` (NaN below
-    200 nm), ``S`` (e^2 a0^2), ``f_abs``, ``a_per_s``, ``unc_nm`` (the two levels'
-    uncertainties in quadrature, as a vacuum wavelength).
+    200 nm), ``S`` (e^2 a0^2), ``f_abs``, ``a_per_s``, ``unc_nm`` (theory uncertainty of the
+    wavenumber, :func:`levels.physics.one_electron.dirac.transition_uncertainties_cm1`, as a vacuum wavelength).
     """
 
     z: int
@@ -228,7 +228,13 @@ def compute(z: int, *, nuclear_mass_u: float, n_max: int = 20, fine_structure: b
                                                     charge_radius_fm=radius, charge_radius_unc_fm=radius_unc)) / CM1_HZ
     else:  # a correction switched off: the omitted term is far larger than the estimate; unknown
         unc, ion_unc = np.full(len(n), np.nan), None
-    lines["unc_nm"] = np.hypot(unc[lines["upper"]], unc[lines["lower"]]) * vacuum_nm**2 / 1e7
+    if corrections == ALL_CORRECTIONS and len(vacuum_nm):
+        line_unc = dirac.transition_uncertainties_cm1(z, n, l, two_j, lines["upper"], lines["lower"],
+                                                      nuclear_mass_u=nuclear_mass_u, charge_radius_fm=radius,
+                                                      charge_radius_unc_fm=radius_unc)
+    else:
+        line_unc = np.full(len(vacuum_nm), np.nan)
+    lines["unc_nm"] = line_unc * vacuum_nm**2 / 1e7
     with warnings.catch_warnings():
         # beyond 2 um the IAU formula is extrapolated, as is usual practice; the dataset says so
         warnings.simplefilter("ignore", air.AirRangeWarning)
