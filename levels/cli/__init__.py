@@ -329,7 +329,7 @@ def show(obj: Context, spectrum: str, datasets: tuple[str, ...], fmt: str, outpu
                    "(default 10,000,000 or $LEVELS_MAX_DERIVED_LINES).")
 @click.option("--again", is_flag=True, default=False,
               help="Import a file whose content is already in the store once more (refused without it, "
-                   "unless --dataset names the copy).")
+                   "also under a new --dataset name).")
 @click.pass_obj
 @reports_errors
 def import_(obj: Context, file: str, sample: str | None, dataset: str | None, kind: str, citation: str,

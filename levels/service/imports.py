@@ -332,20 +332,19 @@ def record_off_ritz(ds: Dataset, reason: str | None, checked: Mapping, warnings:
 
 def refuse_same_content(session: Session, content_sha256: str | None, again: bool, source: str,
                         warnings: list[str], named: bool = False) -> None:
-    """Refuse a file whose content a dataset already holds, unless ``again`` or the new dataset is
-    ``named`` explicitly (a deliberate second copy under a chosen name); then note it."""
+    """Refuse a file whose content a dataset already holds unless ``again`` (then note it).
+
+    An explicit new dataset name (``named``) is refused too: a new name does not make the data
+    new, and two copies would count every level and line twice."""
     if content_sha256 is None:
         return
     earlier = queries.datasets_with_content(session, content_sha256)
     if not earlier:
         return
     names = ", ".join(repr(ds.name) for ds in earlier)
-    if named and not again:
-        warnings.append(f"{source}: the same content is already in the store as dataset {names}; imported "
-                        "under the name given")
-        return
     if not again:
-        raise AlreadyExistsError(f"{source}: the same content was already imported as dataset {names}; "
+        why = "; a new dataset name does not make the data new" if named else ""
+        raise AlreadyExistsError(f"{source}: the same content was already imported as dataset {names}{why}; "
                                  "nothing was written (import it once more with --again)")
     warnings.append(f"{source}: the same content was already imported as dataset {names}; imported again "
                     "as asked")

@@ -50,9 +50,14 @@ def test_second_import_is_refused_and_again_numbers_plainly(catalog, tmp_path):
     second = catalog.import_file(path, sample="k-cell", again=True)
     assert second.dataset == "k-cell/k-cell-A (2)"
     assert any("already imported" in w for w in second.warnings)
-    # an explicit name imports a deliberate copy, with a note
-    named = catalog.import_file(path, dataset="k-cell copy for the fit")
-    assert any("already in the store as dataset 'k-cell/k-cell-A'" in w for w in named.warnings)
+    # an explicit new name does not make the data new: refused too, naming the dataset and --again
+    with pytest.raises(AlreadyExistsError,
+                       match="already imported as dataset 'k-cell/k-cell-A'.*new dataset name.*--again"):
+        catalog.import_file(path, dataset="k-cell copy for the fit")
+    assert "k-cell copy for the fit" not in {d["name"] for d in catalog.dataset_rows()}
+    named = catalog.import_file(path, dataset="k-cell copy for the fit", again=True)
+    assert named.dataset == "k-cell copy for the fit"
+    assert any("already imported as dataset 'k-cell/k-cell-A'" in w for w in named.warnings)
     # a changed file is new content
     changed = _file(tmp_path, "k-cell-B.csv", K_LEVELS.replace("13060.0", "13061.0"))
     assert catalog.import_file(changed, sample="k-cell").dataset == "k-cell/k-cell-B"
