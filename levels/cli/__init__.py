@@ -663,7 +663,7 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
     Example:
       levels identify "H I,D I" peaks.csv --tolerance 0.01nm
     """
-    from levels.lab import IDENTIFY_COLUMNS
+    from levels.service.lab import IDENTIFY_COLUMNS
     from levels.units import wavelength_nm
 
     require_existing_store(obj)

@@ -45,7 +45,7 @@ def check(obj: Context, fmt: str) -> None:
     Example:
       levels --db lab.sqlite check
     """
-    from levels import maintenance
+    from levels.service import maintenance
 
     _existing_store(obj)
     report = maintenance.check(obj.catalog)
@@ -83,7 +83,7 @@ def export_store(obj: Context, file: str) -> None:
     Example:
       levels --db lab.sqlite export-store lab-2026-05-01.levels.jsonl.gz
     """
-    from levels import maintenance
+    from levels.service import maintenance
 
     _existing_store(obj)
     progress = _progress()
@@ -112,7 +112,7 @@ def import_store(obj: Context, file: str, no_audit: bool) -> None:
     Example:
       levels --db postgresql+psycopg://lab@dbhost/levels import-store lab.levels.jsonl.gz
     """
-    from levels import maintenance
+    from levels.service import maintenance
 
     summary = maintenance.import_store(obj.catalog, file, audit=not no_audit)
     click.echo(f"imported {summary.total} rows ({_counts(summary.counts)}) into {obj.catalog.display_url}")
@@ -138,7 +138,7 @@ def history(obj: Context, limit: int, action: str | None, target: str | None, fm
       levels history --limit 20
       levels history --action retract-dataset --format json
     """
-    from levels import maintenance
+    from levels.service import maintenance
 
     _existing_store(obj)
     rows = maintenance.history(obj.catalog, limit=limit or None, action=action, target=target)
@@ -172,7 +172,7 @@ def retract(obj: Context, dataset: str, reason: str) -> None:
     Example:
       levels retract li-cell-7/levels --reason "cell contaminated"
     """
-    from levels import maintenance
+    from levels.service import maintenance
 
     _existing_store(obj)
     _print_state_change(maintenance.retract_dataset(obj.catalog, dataset, reason=reason), "retracted")
@@ -190,7 +190,7 @@ def restore(obj: Context, dataset: str, reason: str) -> None:
     Example:
       levels restore li-cell-7/levels
     """
-    from levels import maintenance
+    from levels.service import maintenance
 
     _existing_store(obj)
     _print_state_change(maintenance.restore_dataset(obj.catalog, dataset, reason=reason), "restored")

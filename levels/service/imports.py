@@ -130,7 +130,7 @@ def import_line_records(catalog, records: Sequence[level_io.LineRecord], *, sour
     wavenumber; see :func:`levels.lab.store_measured_lines`); ``allow_off_ritz`` gives the
     reason to accept lines off their Ritz wavenumbers, kept in the dataset's options.
     """
-    from levels import lab
+    from levels.service import lab
 
     if not records:
         raise InputFileError([Problem(source, None, None, "no lines to import")])
@@ -180,7 +180,7 @@ def import_dataset(catalog, level_records: Sequence[level_io.LevelRecord],
     (the new dataset is the newest measured one), so a body may carry a
     sample's levels and the lines between them together.
     """
-    from levels import lab
+    from levels.service import lab
 
     if not level_records and not line_records:
         raise InputFileError([Problem(source, None, None, "a dataset needs levels or lines")])

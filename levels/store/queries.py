@@ -14,7 +14,7 @@ import unicodedata
 from collections.abc import Iterable, Sequence
 
 import numpy as np
-from sqlalchemy import delete, func, insert, select
+from sqlalchemy import and_, delete, func, insert, or_, select
 from sqlalchemy.orm import Session
 
 from levels.errors import (
@@ -399,6 +399,27 @@ def get_or_create_sample(session: Session, name: str, **conditions) -> Sample:
     return sample
 
 
+def all_samples(session: Session) -> list[Sample]:
+    """Every sample, by name."""
+    return list(session.scalars(select(Sample).order_by(Sample.name)))
+
+
+def dataset_counts(session: Session, dataset_id: int) -> tuple[int, int]:
+    """The numbers of levels and of lines a dataset holds."""
+    levels = session.scalar(select(func.count()).select_from(Level).where(Level.dataset_id == dataset_id))
+    lines = session.scalar(select(func.count()).select_from(Line).where(Line.dataset_id == dataset_id))
+    return int(levels or 0), int(lines or 0)
+
+
+def add_ionization_limit(session: Session, *, dataset_id: int, species_id: int, energy_cm1: float,
+                         unc_cm1: float | None, method: str) -> IonizationLimit:
+    """Add an ionization limit to a dataset in the caller's transaction."""
+    limit = IonizationLimit(dataset_id=dataset_id, species_id=species_id, energy_cm1=energy_cm1, unc_cm1=unc_cm1,
+                            method=method)
+    session.add(limit)
+    return limit
+
+
 def delete_dataset(session: Session, dataset: Dataset) -> None:
     """Delete a dataset with its lines, levels and limits (used when a computed set is replaced)."""
     session.execute(delete(Line).where(Line.dataset_id == dataset.id))
@@ -580,7 +601,8 @@ def ionization_limit(session: Session, species: Species, datasets: Sequence[Data
     return min(rows, key=lambda r: rank[r.dataset_id]) if rows else None
 
 
-def ionization_limits(session: Session, species: Species, datasets: Sequence[Dataset]) -> list[tuple[IonizationLimit, str]]:
+def ionization_limits(session: Session, species: Species,
+                      datasets: Sequence[Dataset]) -> list[tuple[IonizationLimit, str]]:
     """Every ionization limit of a species in the given datasets, in their precedence, with dataset names."""
     rank = {d.id: i for i, d in enumerate(datasets)}
     names = {d.id: d.name for d in datasets}
@@ -675,7 +697,8 @@ def stored_lines_between(session: Session, level_ids: Sequence[int], dataset_ids
     ids = list(wanted)
     for start in range(0, len(ids), 5000):
         part = ids[start:start + 5000]
-        rows.extend(session.scalars(select(Line).where(Line.upper_id.in_(part), Line.dataset_id.in_(list(dataset_ids)))))
+        rows.extend(session.scalars(select(Line).where(Line.upper_id.in_(part),
+                                                       Line.dataset_id.in_(list(dataset_ids)))))
     return [ln for ln in rows if ln.lower_id in wanted]
 
 
@@ -717,3 +740,100 @@ def line_row(line: Line, lower: Level, upper: Level, spectrum: str, dataset: str
         "observed_nm": line.observed_nm, "medium": line.medium, "intensity": line.intensity, "note": line.note,
         "lower_id": lower.id, "upper_id": upper.id,
     }
+
+
+def line_record(session: Session, line_id: int) -> dict | None:
+    """One stored line by id as :func:`line_row` (with its levels, species and dataset names), or None."""
+    line = session.get(Line, line_id)
+    if line is None:
+        return None
+    species = session.get(Species, line.species_id)
+    dataset = session.get(Dataset, line.dataset_id)
+    return line_row(line, session.get(Level, line.lower_id), session.get(Level, line.upper_id), species.name,
+                    dataset.name)
+
+
+def dataset_lines(session: Session, dataset_id: int) -> list[Line]:
+    """Every line of a dataset, by id."""
+    return list(session.scalars(select(Line).where(Line.dataset_id == dataset_id).order_by(Line.id)))
+
+
+def levels_by_id(session: Session, level_ids: Sequence[int]) -> dict[int, Level]:
+    """The levels of the given ids, by id."""
+    return {lv.id: lv for lv in session.scalars(select(Level).where(Level.id.in_(list(level_ids))))}
+
+
+# ----------------------------------------------------------------- maintenance
+
+def rows_outside(session: Session, table_name: str, column: str, *, low: float | None, low_open: bool,
+                 high: float | None, high_open: bool, first: int) -> tuple[list[int], int, object]:
+    """Rows of a table whose non-null ``column`` lies outside [low, high] (open ends where asked).
+
+    Returns up to ``first`` ids in order, the total count, and the first such row's value (None when
+    there is none); either bound may be None (unbounded).
+    """
+    from levels.store.schema import Base
+
+    table = Base.metadata.tables[table_name]
+    col = table.c[column]
+    inside = []
+    if low is not None:
+        inside.append(col > low if low_open else col >= low)
+    if high is not None:
+        inside.append(col < high if high_open else col <= high)
+    if not inside:
+        return [], 0, None
+    bad = select(table.c.id).where(col.is_not(None), ~and_(*inside))
+    ids = list(session.scalars(bad.order_by(table.c.id).limit(first)))
+    if not ids:
+        return [], 0, None
+    total = int(session.scalar(select(func.count()).select_from(bad.subquery())))
+    return ids, total, session.scalar(select(col).where(table.c.id == ids[0]))
+
+
+def text_rows(session: Session, table_name: str, columns: Sequence[str], *, yield_per: int = 10000):
+    """``(id, value, ...)`` of every row of a table with the given text columns, by id, read in chunks."""
+    from levels.store.schema import Base
+
+    table = Base.metadata.tables[table_name]
+    query = select(table.c.id, *[table.c[c] for c in columns]).order_by(table.c.id)
+    yield from session.execute(query.execution_options(yield_per=yield_per))
+
+
+def audit_entries(session: Session, *, limit: int | None = None, action: str | None = None,
+                  target: str | None = None) -> list[AuditEntry]:
+    """Audit entries, newest first: of one ``action``, whose target contains ``target``, at most ``limit``."""
+    query = select(AuditEntry).order_by(AuditEntry.id.desc())
+    if action:
+        query = query.where(AuditEntry.action == action)
+    if target:
+        query = query.where(AuditEntry.target.contains(target, autoescape=True))
+    if limit:
+        query = query.limit(limit)
+    return list(session.scalars(query))
+
+
+def dataset_species(session: Session, dataset: Dataset) -> list[Species]:
+    """The species a dataset has levels, lines or limits of, by Z, charge and mass number."""
+    ids = set(session.scalars(select(Level.species_id).where(Level.dataset_id == dataset.id).distinct()))
+    ids |= set(session.scalars(select(Line.species_id).where(Line.dataset_id == dataset.id).distinct()))
+    ids |= set(session.scalars(select(IonizationLimit.species_id)
+                               .where(IonizationLimit.dataset_id == dataset.id).distinct()))
+    if not ids:
+        return []
+    return list(session.scalars(select(Species).where(Species.id.in_(ids))
+                                .order_by(Species.z, Species.charge, Species.mass_number)))
+
+
+def dependent_line_counts(session: Session, dataset: Dataset) -> dict[str, int]:
+    """Lines of other visible datasets that join levels of ``dataset``: dataset name -> count."""
+    own = select(Level.id).where(Level.dataset_id == dataset.id)
+    rows = session.execute(
+        select(Dataset.name, func.count(Line.id)).join(Dataset, Dataset.id == Line.dataset_id)
+        .where(Line.dataset_id != dataset.id, Dataset.retracted == 0,
+               or_(Line.lower_id.in_(own), Line.upper_id.in_(own)))
+        .group_by(Dataset.name).order_by(Dataset.name))
+    return {name: int(count) for name, count in rows}
+
+
+# ----------------------------------------------------------------- the same state in several datasets

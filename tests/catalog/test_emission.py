@@ -9,8 +9,8 @@ import scipy.constants as sc
 from click.testing import CliRunner
 
 from levels.cli import main
-from levels.emission import UV_CAUTION
 from levels.errors import PhysicsInputError, TooLargeError
+from levels.service.emission import UV_CAUTION
 
 
 @pytest.fixture

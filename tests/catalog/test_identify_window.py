@@ -6,10 +6,10 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from levels import lab
 from levels.cli import main
 from levels.errors import PhysicsInputError
 from levels.io.records import PeakRecord
+from levels.service import lab
 
 DEMO = Path(__file__).resolve().parents[2] / "seed_data" / "demo"
 

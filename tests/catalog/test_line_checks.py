@@ -11,10 +11,10 @@ import json
 import pytest
 from click.testing import CliRunner
 
-from levels import maintenance
 from levels.catalog import RITZ_NOTE, LineQuery
 from levels.cli import main
 from levels.errors import InputFileError
+from levels.service import maintenance
 from levels.store.database import dump
 
 LEVELS = ("spectrum,configuration,term,j,energy_cm1,unc_cm1\n"

@@ -11,7 +11,7 @@ import pytest
 from click.testing import CliRunner
 
 from levels.cli import main
-from levels.emission import MAX_AUTO_POINTS, spectrum_grid_points
+from levels.service.emission import MAX_AUTO_POINTS, spectrum_grid_points
 from levels.units import temperature_k
 
 from webui import create_app

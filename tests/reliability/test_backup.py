@@ -11,10 +11,10 @@ import pytest
 from click.testing import CliRunner
 from sqlalchemy import select, update
 
-from levels import maintenance
 from levels.catalog import Catalog
 from levels.cli import main
 from levels.errors import StoreError
+from levels.service import maintenance
 from levels.store import backup, database, integrity
 from levels.store.schema import AuditEntry, Level, Sample
 

@@ -20,10 +20,10 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from levels import maintenance
 from levels.catalog import Catalog
 from levels.cli import main
 from levels.errors import InputFileError, LevelsError
+from levels.service import maintenance
 from levels.store.database import dump
 
 from .conftest import DEMO

@@ -17,10 +17,10 @@ from pathlib import Path
 import pytest
 from click.testing import CliRunner
 
-from levels import maintenance
 from levels.cli import main
 from levels.errors import StoreError
 from levels.io.tables import OutputError
+from levels.service import maintenance
 from levels.store.database import dump
 
 from .conftest import raw_execute

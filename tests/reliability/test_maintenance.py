@@ -8,11 +8,11 @@ import pytest
 from click.testing import CliRunner
 from sqlalchemy import select
 
-from levels import maintenance
 from levels.catalog import LineQuery
 from levels.cli import main
 from levels.errors import NotFoundError
 from levels.io.records import validate_levels
+from levels.service import maintenance
 from levels.store import database, integrity
 from levels.store.schema import AuditEntry
 
@@ -158,7 +158,7 @@ def test_retract_is_all_or_nothing(li, monkeypatch):
     def broken(session, species, actor):
         raise RuntimeError("crash while rebuilding the derived lines")
 
-    monkeypatch.setattr(maintenance, "_store_derived_lines", broken)
+    monkeypatch.setattr(maintenance, "store_derived_lines", broken)
     with pytest.raises(RuntimeError):
         maintenance.retract_dataset(catalog, "li/levels")
     assert database.dump(catalog.engine) == before

@@ -18,10 +18,10 @@ import pytest
 from click.testing import CliRunner
 from sqlalchemy import select
 
-from levels import maintenance
 from levels.cli import main
 from levels.errors import InputFileError, ReservedNameError
 from levels.io import records as level_io
+from levels.service import maintenance
 from levels.store import database
 from levels.store.schema import Dataset, IonizationLimit, Level, Line
 

@@ -89,7 +89,7 @@ def test_rerun_replaces_the_dataset_in_one_transaction_and_is_audited(sodium, st
     second = rates_service.compute_rates(sodium, "Na I", method="single")
     assert first.saved_as == second.saved_as
     assert len(_rates_datasets(sodium)) == 1
-    from levels import maintenance
+    from levels.service import maintenance
 
     entries = [e for e in maintenance.history(sodium) if e["action"] == "compute-rates"]
     assert len(entries) == 2 and all(e["target"] == "dataset rates Na I A=23" for e in entries)

@@ -137,8 +137,8 @@ def test_migration_0002_fills_roles_and_renames_user_sets(store_url):
 
 
 def test_migrated_store_passes_check_and_rebuilds_by_role(store_url):
-    from levels import maintenance
     from levels.catalog import Catalog
+    from levels.service import maintenance
 
     engine = database.make_engine(store_url)
     _old_store(engine)
@@ -158,7 +158,7 @@ def test_migrated_store_passes_check_and_rebuilds_by_role(store_url):
 
 
 def test_check_reports_role_problems(catalog, tmp_path):
-    from levels import maintenance
+    from levels.service import maintenance
 
     path = tmp_path / "na.csv"
     path.write_text("spectrum,configuration,term,j,energy_cm1\nNa I,3s,2S,1/2,0\nNa I,3p,2P°,1/2,17000\n"

@@ -338,7 +338,7 @@ def test_diagram_reads_the_lines_once_per_store_revision(app, store, monkeypatch
 def test_writes_by_another_process_show_at_once(app, store, store_url):
     """A write through another Catalog (as the command line would) changes the revision; nothing stale is served."""
     from levels.catalog import Catalog
-    from levels.maintenance import retract_dataset
+    from levels.service.maintenance import retract_dataset
 
     from tests.webui.conftest import XSS_DATASET
 

@@ -16,8 +16,8 @@ import re
 import pytest
 
 from levels.catalog import EMISSION_COLUMNS, Catalog
-from levels.emission import UV_CAUTION
 from levels.physics.colour import srgb_swatch
+from levels.service.emission import UV_CAUTION
 from levels.units import temperature_k
 
 from webui import create_app

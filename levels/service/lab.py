@@ -1,8 +1,8 @@
 """Lab-sample workflow on the store: measured lines, series limits, level optimisation, line identification.
 
-These are catalog operations (units of work on one store) kept in their own
-module so :mod:`levels.catalog` stays readable; :class:`levels.catalog.Catalog`
-exposes them as methods. Physics comes from :mod:`levels.physics` (series,
+Units of work on one store (:func:`fit_and_store_limit`, :func:`optimize_dataset`, :func:`identify_peaks`)
+and the steps they share with the import path (:func:`store_measured_lines`);
+:class:`levels.catalog.Catalog` exposes them as methods. Physics comes from :mod:`levels.physics` (series,
 ritz, air); reading and validation from :mod:`levels.io`.
 """
 
@@ -10,20 +10,88 @@ from __future__ import annotations
 
 import math
 from collections.abc import Sequence
+from pathlib import Path
 
 import numpy as np
 from sqlalchemy.orm import Session
 
 from levels.errors import InputFileError, NotFoundError, PhysicsInputError, Problem
 from levels.io import records as io_records
+from levels.io.records import read_peaks_file
 from levels.isotopes import isotope
-from levels.notation import label_pattern_to_regex
+from levels.notation import label_pattern_to_regex, parse_spectrum
 from levels.physics.lines import air, ritz, series
+from levels.service.contract import LineQuery
+from levels.service.lines import species_lines
 from levels.store import queries
-from levels.store.schema import IonizationLimit, Level, Line, Species
+from levels.store.schema import Line, Species
 
 LIMIT_METHOD = "extended-ritz-fit"
 IDENTIFY_COLUMNS = ("peak_nm", "medium", "rank", "spectrum", "lower", "upper", "line_nm", "delta_nm", "a_per_s", "note")
+
+
+# ----------------------------------------------------------------- units of work
+
+def fit_and_store_limit(catalog, spectrum: str, patterns: Sequence[str], *, datasets: Sequence[str] | None = None,
+                        n_defect_terms: int = 2, n_min: int | None = None, save: bool = True) -> dict:
+    """Fit a series limit (extended Ritz formula, :func:`fit_limit`); optionally store it as its own dataset."""
+    spec = parse_spectrum(spectrum)
+    if not patterns:
+        raise PhysicsInputError("give at least one --series pattern, like 'ns 2S1/2'")
+
+    def work(session: Session) -> dict:
+        report = fit_limit(session, spec, patterns, datasets=datasets, n_defect_terms=n_defect_terms, n_min=n_min)
+        if save:
+            species = queries.require_species(session, spec)
+            name = f"series limit {species.name} A={species.mass_number}"
+            save_limit(session, species, report, catalog.actor, name)
+            queries.record_audit(session, "fit-limit", f"dataset {name}",
+                                 {"patterns": list(patterns), "limit_cm1": report["limit_cm1"]}, actor=catalog.actor)
+            report["saved_as"] = name
+        return report
+
+    return catalog.write(work) if save else catalog.read(work)
+
+
+def optimize_dataset(catalog, dataset: str | int, *, fix: str | None = None) -> dict:
+    """Least-squares level energies from a dataset's measured lines (:func:`optimize`; nothing written)."""
+    return catalog.read(lambda session: optimize(session, dataset, fix_label=fix))
+
+
+def identify_peaks(catalog, spectra: Sequence[str], peaks_path, *, tolerance_nm: float = 0.0,
+                   content: bytes | None = None, source: str | None = None, max_candidates: int = 3,
+                   window: str = "tolerance", n_sigma: float = 3.0, tolerance_cm1: float | None = None) -> list[dict]:
+    """Match a peaks file against the lines (engine) of one or more species (see :func:`identify`;
+    ``delta_nm`` is peak - line; ``tolerance_cm1`` a wavenumber tolerance converted at each peak)."""
+    peaks = read_peaks_file(content if content is not None else peaks_path,
+                            source=source or (Path(peaks_path).name if peaks_path else None))
+    if tolerance_cm1 is not None:
+        tolerance_nm = max(peak_tolerance_nm(p.peak_nm, tolerance_cm1) for p in peaks)
+    widest_unc = max((p.unc_nm or 0.0) for p in peaks) if window == "uncertainty" else 0.0
+    margin = 10 * tolerance_nm + 2 * n_sigma * widest_unc + 1.0
+    lo = min(p.peak_nm for p in peaks) - margin
+    hi = max(p.peak_nm for p in peaks) + margin
+    candidates: list[dict] = []
+    for spectrum in spectra:
+        rows, _ = species_lines(catalog, LineQuery(spectrum=spectrum, from_nm=max(lo, 1e-3), to_nm=hi,
+                                                   medium="vacuum"), multipoles=("E1", "M1", "E2"))
+        rows_air, _ = species_lines(catalog, LineQuery(spectrum=spectrum, from_nm=max(lo, 1e-3), to_nm=hi,
+                                                       medium="air"), multipoles=("E1", "M1", "E2"))
+        seen = {(r["lower_id"], r["upper_id"], r["multipole"]) for r in rows}
+        candidates.extend(rows)
+        candidates.extend(r for r in rows_air if (r["lower_id"], r["upper_id"], r["multipole"]) not in seen)
+    return identify(peaks, candidates, tolerance_nm=tolerance_nm, max_candidates=max_candidates,
+                    window=window, n_sigma=n_sigma, tolerance_cm1=tolerance_cm1)
+
+
+def peak_tolerance_nm(peak_nm: float, tolerance_cm1: float) -> float:
+    """A wavenumber tolerance as a wavelength tolerance at ``peak_nm``: |d lambda| = lambda^2 d sigma
+    (lambda in nm, sigma in cm-1, the 1e-7 from nm cm-1).
+
+    >>> round(peak_tolerance_nm(500.0, 1.0), 6)
+    0.025
+    """
+    return peak_nm * peak_nm * tolerance_cm1 * 1e-7
 
 
 # ----------------------------------------------------------------- measured lines
@@ -158,8 +226,10 @@ def _ritz_problems(rows, records, pairs, source: str, combination, allow_off_rit
         lower, upper = pairs[k]
         ritz_cm1 = upper.energy_cm1 - lower.energy_cm1
         delta, unc = float(check.delta_cm1[k]), float(check.combined_unc_cm1[k])
-        sigmas = f"{abs(delta) / unc:.3g} combined standard uncertainties ({unc:.3g} cm-1)" if unc > 0 else             "with no uncertainty given"
-        text = (f"{rows[k]['observed_nm']!r} nm ({rows[k]['medium']}) is {delta:+.6g} cm-1 ({100 * delta / ritz_cm1:+.3g} %) "
+        sigmas = (f"{abs(delta) / unc:.3g} combined standard uncertainties ({unc:.3g} cm-1)" if unc > 0
+                  else "with no uncertainty given")
+        text = (f"{rows[k]['observed_nm']!r} nm ({rows[k]['medium']}) is {delta:+.6g} cm-1 "
+                f"({100 * delta / ritz_cm1:+.3g} %) "
                 f"from the Ritz wavenumber {ritz_cm1:.6f} cm-1 of {lower.label} - {upper.label}, {sigmas}; more than "
                 f"{combination.OFF_RITZ_SIGMAS:g} is refused")
         if allow_off_ritz is None:
@@ -255,8 +325,8 @@ def save_limit(session: Session, species: Species, report: dict, actor: str, dat
         options_json=json.dumps({"series": [s["pattern"] for s in report["series"]]}), actor=actor,
         citation="extended Ritz formula fit (levels.physics.lines.series)",
         description=f"series limit of {species.name} fitted to stored levels")
-    session.add(IonizationLimit(dataset_id=ds.id, species_id=species.id, energy_cm1=report["limit_cm1"],
-                                unc_cm1=report["limit_unc_cm1"], method=LIMIT_METHOD))
+    queries.add_ionization_limit(session, dataset_id=ds.id, species_id=species.id, energy_cm1=report["limit_cm1"],
+                                 unc_cm1=report["limit_unc_cm1"], method=LIMIT_METHOD)
 
 
 # ----------------------------------------------------------------- level optimisation
@@ -264,12 +334,12 @@ def save_limit(session: Session, species: Species, report: dict, actor: str, dat
 def optimize(session: Session, dataset: str | int, *, fix_label: str | None = None) -> dict:
     """Least-squares level energies from the measured lines of a dataset (Ritz principle)."""
     ds = queries.require_dataset(session, dataset)
-    lines = session.query(Line).filter(Line.dataset_id == ds.id).order_by(Line.id).all()
+    lines = queries.dataset_lines(session, ds.id)
     lines = [ln for ln in lines if ln.observed_nm is not None]
     if not lines:
         raise PhysicsInputError(f"dataset {ds.name!r} has no measured lines to optimise levels from")
     level_ids = sorted({ln.lower_id for ln in lines} | {ln.upper_id for ln in lines})
-    levels = {lv.id: lv for lv in session.query(Level).filter(Level.id.in_(level_ids)).all()}
+    levels = queries.levels_by_id(session, level_ids)
     order = sorted(level_ids, key=lambda i: (levels[i].energy_cm1, levels[i].label))
     index = {level_id: k for k, level_id in enumerate(order)}
     if fix_label is None:
@@ -332,7 +402,7 @@ RIVAL_STRENGTH_RATIO = 0.1
 
 def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict], *, tolerance_nm: float,
              max_candidates: int = 3, air_formula: str = "iau2000", window: str = "tolerance",
-             n_sigma: float = 3.0) -> list[dict]:
+             n_sigma: float = 3.0, tolerance_cm1: float | None = None) -> list[dict]:
     """Match peaks to lines; rank candidates by distance and expected strength.
 
     ``candidates`` are line rows (LINE_COLUMNS). A peak is compared in its own
@@ -340,7 +410,8 @@ def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict],
     lies to the red of the line).
 
     Window: with ``window="tolerance"`` (the default) a line is a candidate when
-    |peak - line| <= ``tolerance_nm``, exactly the width the user asked for.
+    |peak - line| <= ``tolerance_nm``, exactly the width the user asked for (with
+    ``tolerance_cm1``, a wavenumber tolerance, that tolerance at each peak's wavelength).
     With ``window="uncertainty"`` the window of each pair is
     max(tolerance, ``n_sigma`` u), u the peak's and the line's (Ritz)
     uncertainties added in quadrature.
@@ -366,8 +437,8 @@ def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict],
     >>> identify([peak], [line], tolerance_nm=0.005)[0]["note"]
     'unmatched'
     """
-    if not tolerance_nm > 0:
-        raise PhysicsInputError("tolerance must be a positive wavelength")
+    if not (tolerance_nm > 0 if tolerance_cm1 is None else tolerance_cm1 > 0):
+        raise PhysicsInputError("tolerance must be a positive wavelength, wavenumber, energy or frequency")
     if window not in IDENTIFY_WINDOWS:
         raise PhysicsInputError(f"window must be one of {', '.join(IDENTIFY_WINDOWS)}, not {window!r}")
     if window == "uncertainty" and not n_sigma > 0:
@@ -381,16 +452,17 @@ def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict],
     for peak in peaks:
         values, order = (air_nm, order_a) if peak.medium == "air" and peak.peak_nm > 200 else (vacuum, order_v)
         u_peak = peak.unc_nm or 0.0
-        reach = max(tolerance_nm, n_sigma * (u_peak + widest)) if window == "uncertainty" else tolerance_nm
+        tol = tolerance_nm if tolerance_cm1 is None else peak_tolerance_nm(peak.peak_nm, tolerance_cm1)
+        reach = max(tol, n_sigma * (u_peak + widest)) if window == "uncertainty" else tol
         sorted_values = values[order]
         lo = np.searchsorted(sorted_values, peak.peak_nm - reach, "left")
         hi = np.searchsorted(sorted_values, peak.peak_nm + reach, "right")
         hits = order[lo:hi]
         delta = peak.peak_nm - values[hits]
         if window == "uncertainty":
-            win = np.maximum(tolerance_nm, n_sigma * np.hypot(u_peak, line_unc[hits]))
+            win = np.maximum(tol, n_sigma * np.hypot(u_peak, line_unc[hits]))
         else:
-            win = np.full(hits.size, tolerance_nm)
+            win = np.full(hits.size, tol)
         inside = np.abs(delta) <= win
         hits, delta, win = hits[inside], delta[inside], win[inside]
         if hits.size == 0:

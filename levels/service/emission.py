@@ -1,6 +1,6 @@
 """Discharge emission of one species: populations, line intensities, synthetic spectrum, lamp metrics.
 
-A unit of work of the catalog (exposed as :meth:`levels.catalog.Catalog.emission`).
+A unit of work on one store (:func:`discharge_emission`, exposed as :meth:`levels.catalog.Catalog.emission`).
 The physics is in :mod:`levels.physics.plasma.equilibrium` (Boltzmann, Saha, cutoff,
 emissivity, escape factor), :mod:`levels.physics.discharge` (the
 collisional-radiative balance, escape factors, pressure broadening, slab
@@ -29,12 +29,14 @@ is used where it does not hold.
 from __future__ import annotations
 
 import math
+from collections.abc import Sequence
 from dataclasses import dataclass, field
 
 import numpy as np
 
 from levels.errors import PhysicsInputError
 from levels.isotopes import isotope
+from levels.notation import Spectrum, parse_spectrum
 from levels.physics import colour
 from levels.physics.discharge import balance as cr
 from levels.physics.discharge import escape as discharge_escape
@@ -42,6 +44,9 @@ from levels.physics.discharge import excitation as cr_excitation
 from levels.physics.discharge import neutral_broadening, slab_transfer, stark, validity
 from levels.physics.plasma import equilibrium as plasma
 from levels.physics.plasma import spectrum as spectra
+from levels.service.contract import LineQuery
+from levels.service.lines import species_lines
+from levels.store import queries
 from levels.units import CM1_J, C, H
 
 UV_CAUTION = ("CAUTION: this spectrum puts more than 1 % of its power into UV-C or UV-B. Ultraviolet radiation "
@@ -85,6 +90,52 @@ class EmissionResult:
         return {"conditions": self.conditions, "lines": self.lines, "metrics": self.metrics,
                 "warnings": self.warnings, "model": self.model, "populations": self.populations,
                 "validity": self.validity}
+
+
+def discharge_emission(catalog, spectrum: str, *, te_k: float, ne_m3: float, tgas_k: float = 300.0,
+                       from_nm: float | None = None, to_nm: float | None = None, medium: str = "air",
+                       instrument_fwhm_nm: float = 0.0, path_length_m: float | None = None,
+                       element_density_m3: float | None = None, cutoff_method: str = "debye",
+                       datasets: Sequence[str] | None = None, grid_points: int | None = None,
+                       **model_options) -> EmissionResult:
+    """Relative line intensities, synthetic spectrum and lamp metrics of a discharge of one stored species.
+
+    The lines are the engine's (:func:`levels.service.lines.species_lines`) under the precedence of
+    ``datasets``; levels, the ionization limit and the next ion's levels come from the same precedence.
+    ``model_options`` go to :func:`compute_emission`: ``model`` ("lte" or "cr"), ``loss_rate_per_s``,
+    ``geometry``, ``broadening``, ``perturber``, ``pressure_pa``, ``cool_layer_m``, ``forbidden_omega``.
+    """
+    check_conditions(te_k, ne_m3, tgas_k)
+    if from_nm is not None and to_nm is not None and from_nm >= to_nm:
+        raise PhysicsInputError(f"empty window: from {from_nm:g} nm is not below to {to_nm:g} nm")
+    if medium not in ("air", "vacuum"):
+        raise PhysicsInputError(f"medium must be 'vacuum' or 'air', not {medium!r}")
+    spec = parse_spectrum(spectrum)
+    rows, info = species_lines(catalog, LineQuery(spectrum=spectrum, datasets=tuple(datasets) if datasets else None))
+
+    def work(session):
+        species = queries.require_species(session, spec)
+        chosen = queries.visible_datasets(session, datasets)
+        levels = queries.levels_by_precedence(session, species, chosen)
+        limit = queries.ionization_limit(session, species, chosen)
+        next_ion = None
+        if species.charge + 1 < species.z:
+            nxt = queries.find_species(session, Spectrum(species.z, species.charge + 1, species.mass_number))
+            if nxt is not None:
+                next_ion = queries.levels_by_precedence(session, nxt, chosen)
+        return species, levels, limit, next_ion
+
+    species, levels, limit, next_ion = catalog.read(work)
+    result = compute_emission(
+        spectrum_name=species.name, z=species.z, charge=species.charge, mass_number=species.mass_number,
+        levels=levels, lines=rows, ionization_cm1=limit.energy_cm1 if limit else None, next_ion_levels=next_ion,
+        te_k=te_k, ne_m3=ne_m3, tgas_k=tgas_k, window=(from_nm, to_nm), medium=medium,
+        instrument_fwhm_nm=instrument_fwhm_nm, path_length_m=path_length_m,
+        element_density_m3=element_density_m3, cutoff_method=cutoff_method, grid_points=grid_points,
+        **model_options)
+    used = {row["dataset"] for row in result.lines}
+    result.conditions["datasets"] = [name for name in info["datasets"] if name in used]
+    return result
 
 
 def check_conditions(te_k: float, ne_m3: float, tgas_k: float) -> None:

@@ -23,17 +23,19 @@ from __future__ import annotations
 import json
 import os
 from collections.abc import Callable
+from typing import TYPE_CHECKING
 
-from sqlalchemy import and_, func, or_, select
 from sqlalchemy.orm import Session
 
-from levels.catalog import Catalog
 from levels.errors import LevelsError
 from levels.io import limits
 from levels.io.paths import check_output_path
 from levels.service.derived import store_derived_lines
 from levels.store import backup, integrity, queries
-from levels.store.schema import TABLE_ORDER, AuditEntry, Base, Dataset, IonizationLimit, Level, Line, Species
+from levels.store.schema import TABLE_ORDER, AuditEntry, Base
+
+if TYPE_CHECKING:
+    from levels.catalog import Catalog
 
 #: kinds of dataset that can be retracted (computed sets are replaced by recomputing them)
 RETRACTABLE_KINDS = ("measured", "imported")
@@ -83,34 +85,25 @@ def limit_problems(catalog: Catalog, tables=TABLE_ORDER) -> list[str]:
         for name in TABLE_ORDER:
             if name not in tables:
                 continue
-            table = Base.metadata.tables[name]
+            stored = Base.metadata.tables[name].c
             specs = limits.COLUMNS[name]
             # numbers: one query per column, the bounds as SQL (NaN fails every comparison on SQLite, where
             # it is stored as NULL anyway, and passes 'x > -1e300 AND x < 1e300' on neither engine)
             for column, spec in specs.items():
-                if spec.kind not in ("int", "float") or column not in table.c:
+                if spec.kind not in ("int", "float") or column not in stored:
                     continue
-                col = table.c[column]
-                inside = []
-                if spec.low is not None:
-                    inside.append(col > spec.low if spec.low_open else col >= spec.low)
-                if spec.high is not None and not (spec.infinity_ok and spec.high == float("inf")):
-                    inside.append(col < spec.high if spec.high_open else col <= spec.high)
-                if not inside:
-                    continue
-                bad = select(table.c.id).where(col.is_not(None), ~and_(*inside))
-                ids = list(session.scalars(bad.order_by(table.c.id).limit(integrity.SHOWN_IDS + 1)))
+                high = None if spec.infinity_ok and spec.high == float("inf") else spec.high
+                ids, total, value = queries.rows_outside(session, name, column, low=spec.low, low_open=spec.low_open,
+                                                         high=high, high_open=spec.high_open,
+                                                         first=integrity.SHOWN_IDS + 1)
                 if ids:
-                    total = int(session.scalar(select(func.count()).select_from(bad.subquery())))
-                    value = session.scalar(select(col).where(table.c.id == ids[0]))
                     report(name, column, ids, total, limits.value_problem(name, column, value) or f"is {value!r}")
             # texts: length and control characters, read in chunks
-            texts = [c for c, spec in specs.items() if spec.kind == "text" and c in table.c]
+            texts = [c for c, spec in specs.items() if spec.kind == "text" and c in stored]
             if not texts:
                 continue
             found: dict[str, tuple[list[int], str]] = {}
-            query = select(table.c.id, *[table.c[c] for c in texts]).order_by(table.c.id)
-            for row in session.execute(query.execution_options(yield_per=10000)):
+            for row in queries.text_rows(session, name, texts):
                 for column, value in zip(texts, row[1:]):
                     if value is None or (value.isprintable() and len(value) <= (specs[column].length or len(value))):
                         continue
@@ -215,7 +208,7 @@ def history(catalog: Catalog, *, limit: int | None = 50, action: str | None = No
     action : str, optional
         Only entries of this action (``import-levels``, ``retract-dataset`` ...).
     target : str, optional
-        Only entries whose target contains this text (``dataset li-cell-7``).
+        Only entries whose target contains this text (``dataset li-cell-amber``).
 
     Returns
     -------
@@ -226,14 +219,8 @@ def history(catalog: Catalog, *, limit: int | None = 50, action: str | None = No
         raise ValueError("limit must not be negative")
 
     def work(session: Session) -> list[dict]:
-        query = select(AuditEntry).order_by(AuditEntry.id.desc())
-        if action:
-            query = query.where(AuditEntry.action == action)
-        if target:
-            query = query.where(AuditEntry.target.contains(target, autoescape=True))
-        if limit:
-            query = query.limit(limit)
-        return [audit_row(entry) for entry in session.scalars(query)]
+        return [audit_row(entry) for entry in queries.audit_entries(session, limit=limit, action=action,
+                                                                     target=target)]
 
     return catalog.read(work)
 
@@ -250,29 +237,6 @@ def audit_row(entry: AuditEntry) -> dict:
 
 # ----------------------------------------------------------------- retract / restore
 
-def dataset_species(session: Session, dataset: Dataset) -> list[Species]:
-    """The species a dataset has levels, lines or limits of, by Z, charge and mass number."""
-    ids = set(session.scalars(select(Level.species_id).where(Level.dataset_id == dataset.id).distinct()))
-    ids |= set(session.scalars(select(Line.species_id).where(Line.dataset_id == dataset.id).distinct()))
-    ids |= set(session.scalars(select(IonizationLimit.species_id)
-                               .where(IonizationLimit.dataset_id == dataset.id).distinct()))
-    if not ids:
-        return []
-    return list(session.scalars(select(Species).where(Species.id.in_(ids))
-                                .order_by(Species.z, Species.charge, Species.mass_number)))
-
-
-def _dependent_lines(session: Session, dataset: Dataset) -> dict[str, int]:
-    """Lines of other visible datasets that join levels of ``dataset``: dataset name -> count."""
-    own = select(Level.id).where(Level.dataset_id == dataset.id)
-    rows = session.execute(
-        select(Dataset.name, func.count(Line.id)).join(Dataset, Dataset.id == Line.dataset_id)
-        .where(Line.dataset_id != dataset.id, Dataset.retracted == 0,
-               or_(Line.lower_id.in_(own), Line.upper_id.in_(own)))
-        .group_by(Dataset.name).order_by(Dataset.name))
-    return {name: int(count) for name, count in rows}
-
-
 def _set_retracted(catalog: Catalog, dataset: str | int, retracted: bool, reason: str) -> dict:
     verb = "retract" if retracted else "restore"
 
@@ -288,9 +252,9 @@ def _set_retracted(catalog: Catalog, dataset: str | int, retracted: bool, reason
         ds.retracted = 1 if retracted else 0
         session.flush()
         derived = {}
-        for species in dataset_species(session, ds):
+        for species in queries.dataset_species(session, ds):
             derived[species.name] = store_derived_lines(session, species, catalog.actor)
-        dependent = _dependent_lines(session, ds) if retracted else {}
+        dependent = queries.dependent_line_counts(session, ds) if retracted else {}
         detail = {"dataset_id": ds.id, "kind": ds.kind, "reason": reason, "derived_lines": derived}
         if dependent:
             detail["lines_of_other_datasets"] = dependent
