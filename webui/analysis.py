@@ -12,8 +12,10 @@ Every form carries a CSRF token, as the sample desk's forms do.
 from __future__ import annotations
 
 import math
+from typing import Any
 
 from flask import Blueprint, current_app, redirect, render_template, request, url_for
+from flask.typing import ResponseReturnValue
 from itsdangerous import BadSignature, SignatureExpired, URLSafeTimedSerializer
 from werkzeug.utils import secure_filename
 
@@ -52,7 +54,7 @@ def _form_defaults() -> dict:
     }
 
 
-def _page(status: int = 200, **context):
+def _page(status: int = 200, **context: object) -> tuple[str, int]:
     allow_plot_styles()
     context.setdefault("values", _form_defaults())
     context.setdefault("errors", {})
@@ -60,12 +62,12 @@ def _page(status: int = 200, **context):
 
 
 @bp.get("/")
-def page():
+def page() -> ResponseReturnValue:
     """The empty analysis form."""
     return _page()
 
 
-def _quantity(values: dict, errors: dict, name: str, kind: str):
+def _quantity(values: dict, errors: dict, name: str, kind: str) -> float | None:
     from levels.units import temperature_k, wavelength_nm
 
     text = values.get(name, "").strip()
@@ -79,7 +81,7 @@ def _quantity(values: dict, errors: dict, name: str, kind: str):
 
 
 @bp.post("/")
-def analyse():
+def analyse() -> ResponseReturnValue:
     """Fit the uploaded spectrum and, with species named, diagnose it; nothing is written."""
     from levels.figures import boltzmann_figure, figure_json, peak_fit_figure
     from levels.service import spectra as service
@@ -89,6 +91,7 @@ def analyse():
     upload = request.files.get("spectrum")
     if upload is None or not upload.filename:
         errors["spectrum"] = "choose a spectrum file (CSV, TSV or FITS)"
+    min_snr: float | None
     try:
         min_snr = float(values["min_snr"])
         if not (math.isfinite(min_snr) and min_snr > 0):
@@ -103,9 +106,9 @@ def analyse():
     instrument = _quantity(values, errors, "instrument", "wavelength")
     tolerance = _quantity(values, errors, "tolerance", "wavelength")
     tgas = _quantity(values, errors, "tgas", "temperature")
-    if errors:
+    if errors or upload is None or min_snr is None or tgas is None:    # the last three are None only with errors
         return _page(400, values=values, errors=errors)
-    name = secure_filename(upload.filename) or "spectrum.csv"
+    name = secure_filename(upload.filename or "") or "spectrum.csv"
     content = upload.read()
     cal = request.files.get("calibration")
     cal_content = cal.read() if cal is not None and cal.filename else None
@@ -134,7 +137,7 @@ def analyse():
             peak_fit_figure(peaks.data.x, peaks.data.intensity, peaks.model(), peaks.rows, axis_title=axis, title=title)
         )
     )
-    context = {"values": values, "peaks": peaks, "fit_figure": fit_figure, "source": name}
+    context: dict[str, Any] = {"values": values, "peaks": peaks, "fit_figure": fit_figure, "source": name}
     species = [s.strip() for s in values["species"].split(",") if s.strip()]
     if species and peaks.rows:
         import csv
@@ -168,7 +171,7 @@ def analyse():
 
 
 @bp.post("/commit")
-def commit():
+def commit() -> ResponseReturnValue:
     """Write the identified lines of an analysis as a new measured dataset of a sample."""
     from webui.edit import desk_locked
 

@@ -111,6 +111,20 @@ class _Group:
     fit: ic.FitResult | None = None
     e_avg: float = 0.0
 
+    @property
+    def fitted(self) -> ic.FitResult:
+        """The configuration's fit; only groups :func:`_fit_group` kept are asked for it."""
+        if self.fit is None:
+            raise PhysicsInputError(f"configuration {self.key} has not been fitted")
+        return self.fit
+
+
+def _two_j(lv: LevelInput) -> int:
+    """2J of a level :func:`_group_levels` accepted (it skips levels whose J is not resolved)."""
+    if lv.two_j is None:
+        raise PhysicsInputError(f"level {lv.label}: J not resolved")
+    return lv.two_j
+
 
 def coupled_rates(levels: list[LevelInput], *, ionization_cm1: float | None,
                   spectrum: str | None = None) -> MethodResult:
@@ -230,14 +244,15 @@ def _drop_impossible_j(group: _Group, result: MethodResult) -> None:
     keep = []
     counts: dict[int, int] = {}
     for lv in group.levels:
-        counts[lv.two_j] = counts.get(lv.two_j, 0) + 1
+        counts[_two_j(lv)] = counts.get(_two_j(lv), 0) + 1
     for index, lv in enumerate(group.levels):
-        sub = group.model.subspaces.get(lv.two_j)
+        tj = _two_j(lv)
+        sub = group.model.subspaces.get(tj)
         if sub is None:
             result.skipped.append((lv.level_id, f"configuration {group.key} has no level with J = "
-                                                f"{format_j(lv.two_j)}"))
-        elif counts[lv.two_j] > sub.basis.shape[1]:
-            result.skipped.append((lv.level_id, f"{counts[lv.two_j]} measured levels with J = {format_j(lv.two_j)} "
+                                                f"{format_j(tj)}"))
+        elif counts[tj] > sub.basis.shape[1]:
+            result.skipped.append((lv.level_id, f"{counts[tj]} measured levels with J = {format_j(tj)} "
                                                 f"in configuration {group.key}, which has {sub.basis.shape[1]}: "
                                                 "a level is misassigned"))
         else:
@@ -257,7 +272,7 @@ def _fit_group(group: _Group, z: int | None, charge: int, ionization_cm1: float,
         return None
     model = group.model
     energies = np.array([lv.energy_cm1 for lv in group.levels])
-    two_j = np.array([lv.two_j for lv in group.levels])
+    two_j = np.array([_two_j(lv) for lv in group.levels])
     if not model.parameters:                      # closed shells: one 1S0 state
         if len(group.levels) != 1 or two_j[0] != 0:
             for lv in group.levels:
@@ -313,7 +328,7 @@ def _percent_text(weights: np.ndarray, labels: list[str]) -> str:
 
 def _compositions(group: _Group) -> tuple[list[dict], list[str]]:
     """Leading LS and jK components of each matched eigenvector, and contradicted labels."""
-    fit = group.fit
+    fit = group.fitted
     rows, conflicts = [], []
     parent_l = group.model.shells.shells[0][1]
     parent_mult = 2
@@ -332,23 +347,23 @@ def _compositions(group: _Group) -> tuple[list[dict], list[str]]:
         rows.append({"level_id": lv.level_id, "label": lv.label, "j": format_j(tj), "energy_cm1": lv.energy_cm1,
                      "fitted_cm1": float(vals[column]), "ls": _percent_text(ls_w[:, column], ls_names),
                      "jk": _percent_text(jk_w[:, column], jk_names), "lande_g": g_value})
-        index, weights, shown = None, None, None
+        found: tuple[int, np.ndarray] | None = None        # (basis state, weights of its basis)
         if isinstance(term, Term):
             key = (term.multiplicity - 1, term.L)
             shown = format_term(term)
             if key in sub.ls_labels:
-                index, weights = sub.ls_labels.index(key), ls_w
+                found = sub.ls_labels.index(key), ls_w
         elif isinstance(term, JKTerm):
             shown = f"parent J = {format_j(parent)} {term}" if parent is not None else str(term)
-            key = (parent, term.two_k)
-            if parent is not None and key in sub.jk_labels:
-                index, weights = sub.jk_labels.index(key), jk_w
+            if parent is not None and (parent, term.two_k) in sub.jk_labels:
+                found = sub.jk_labels.index((parent, term.two_k)), jk_w
         else:
             continue
-        if index is None:
+        if found is None:
             conflicts.append(f"{lv.label}: {shown} with J = {format_j(tj)} does not occur in configuration "
                              f"{group.key}")
             continue
+        index, weights = found
         if weights[index, column] < LABEL_SHARE * float(weights[index].max()):
             other = int(np.argmax(weights[index]))
             conflicts.append(f"{lv.label}: labelled {shown} but by J and energy order it is "
@@ -359,7 +374,7 @@ def _compositions(group: _Group) -> tuple[list[dict], list[str]]:
 
 def _limit_offset(group: _Group, leaving_core: bool) -> float:
     """Average ion-limit offset above the lowest limit for the core left behind, cm-1."""
-    fit = group.fit
+    fit = group.fitted
     if leaving_core or "zeta_core" not in fit.names:
         return 0.0
     n, l, k = group.model.shells.shells[0]
@@ -462,8 +477,8 @@ def _amplitude_kernel(ga: _Group, gb: _Group, tja: int, tjb: int) -> np.ndarray 
 
 def _perturbed_vectors(group: _Group) -> list[tuple[float, dict]]:
     """Eigenvectors with each free non-constant parameter moved by its standard error."""
-    fit = group.fit
-    out = []
+    fit = group.fitted
+    out: list[tuple[float, dict]] = []
     if fit.covariance is None:
         return out
     for position, index in enumerate(fit.free):
@@ -489,10 +504,10 @@ def _pair_lines(ga: _Group, gb: _Group, radial: float, out_of_range: bool, radia
     """E1 lines between the measured levels of two configurations, one array computation per J pair."""
     rows: list[LineRate] = []
     perturbed_a, perturbed_b = _perturbed_vectors(ga), _perturbed_vectors(gb)
-    tj_a = np.array([tj for tj, _ in ga.fit.assignment])
-    tj_b = np.array([tj for tj, _ in gb.fit.assignment])
-    col_a = np.array([c for _, c in ga.fit.assignment])
-    col_b = np.array([c for _, c in gb.fit.assignment])
+    tj_a = np.array([tj for tj, _ in ga.fitted.assignment])
+    tj_b = np.array([tj for tj, _ in gb.fitted.assignment])
+    col_a = np.array([c for _, c in ga.fitted.assignment])
+    col_b = np.array([c for _, c in gb.fitted.assignment])
     e_a = np.array([lv.energy_cm1 for lv in ga.levels])
     e_b = np.array([lv.energy_cm1 for lv in gb.levels])
     for tja in np.unique(tj_a).tolist():
@@ -503,8 +518,8 @@ def _pair_lines(ga: _Group, gb: _Group, radial: float, out_of_range: bool, radia
             if kernel is None:
                 continue
             ia, ib = np.flatnonzero(tj_a == tja), np.flatnonzero(tj_b == tjb)
-            va = ga.fit.eigen[tja][1][:, col_a[ia]]
-            vb = gb.fit.eigen[tjb][1][:, col_b[ib]]
+            va = ga.fitted.eigen[tja][1][:, col_a[ia]]
+            vb = gb.fitted.eigen[tjb][1][:, col_b[ib]]
             amp = va.T @ kernel @ vb                                   # (levels of a, levels of b)
             var = np.zeros_like(amp)
             for _, vectors in perturbed_a:
@@ -542,7 +557,7 @@ def _possible_uppers(ga: _Group, gb: _Group) -> set[int]:
     out = set()
     for lva in ga.levels:
         for lvb in gb.levels:
-            if abs(lva.two_j - lvb.two_j) <= 2 and lva.two_j + lvb.two_j > 0:
+            if abs(_two_j(lva) - _two_j(lvb)) <= 2 and _two_j(lva) + _two_j(lvb) > 0:
                 out.add(lva.level_id if lva.energy_cm1 > lvb.energy_cm1 else lvb.level_id)
     return out
 

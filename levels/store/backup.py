@@ -487,7 +487,7 @@ def _suppress():
 
 def store_counts(session: Session) -> dict[str, int]:
     """Rows per table of the store seen by ``session``."""
-    return {name: int(session.scalar(select(func.count()).select_from(Base.metadata.tables[name])))
+    return {name: int(session.execute(select(func.count()).select_from(Base.metadata.tables[name])).scalar_one())
             for name in TABLE_ORDER}
 
 
@@ -524,10 +524,13 @@ def insert_rows_from_file(session: Session, path: str | os.PathLike, header: dic
     def flush() -> None:
         if not pending:
             return
+        table = current
+        if table is None:   # unreachable: a row is appended only after its table became ``current``
+            raise StoreFileError(f"{path}: rows without a table")
         if postgres:
-            _copy_rows(session, current, [c for c, _ in columns[current]], pending)
+            _copy_rows(session, table, [c for c, _ in columns[table]], pending)
         else:
-            session.execute(insert(Base.metadata.tables[current]), pending)
+            session.execute(insert(Base.metadata.tables[table]), pending)
         pending.clear()
 
     with _open_read(path) as handle:
@@ -582,7 +585,10 @@ def _copy_rows(session: Session, table: str, names: list[str], rows: list[dict])
     """Bulk-load rows on PostgreSQL with COPY (in the session's transaction)."""
     import psycopg
 
-    cursor = session.connection().connection.driver_connection.cursor()
+    driver = session.connection().connection.driver_connection   # None only once the connection is invalidated
+    if driver is None:
+        raise StoreFileError("the PostgreSQL connection was closed during the import; nothing was written")
+    cursor = driver.cursor()
     try:
         with cursor.copy(f"COPY {table} ({', '.join(names)}) FROM STDIN") as copy:
             for row in rows:

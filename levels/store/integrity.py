@@ -187,7 +187,8 @@ def _run_checks(engine: Engine, report: StoreReport) -> None:
 
 def _count(engine: Engine, report: StoreReport, name: str) -> None:
     with engine.connect() as conn:
-        report.counts[name] = int(conn.scalar(select(func.count()).select_from(Base.metadata.tables[name])))
+        table = Base.metadata.tables[name]
+        report.counts[name] = int(conn.execute(select(func.count()).select_from(table)).scalar_one())
 
 
 def _sqlite_pragma(engine: Engine, report: StoreReport, pragma: str) -> None:
@@ -197,12 +198,12 @@ def _sqlite_pragma(engine: Engine, report: StoreReport, pragma: str) -> None:
             if rows != ["ok"]:
                 report.problems.extend(f"sqlite: integrity_check: {r}" for r in rows)
         else:
-            rows = conn.exec_driver_sql("PRAGMA foreign_key_check").all()
-            for row in rows[:SHOWN_IDS]:
+            broken = conn.exec_driver_sql("PRAGMA foreign_key_check").all()
+            for row in broken[:SHOWN_IDS]:
                 report.problems.append(f"sqlite: foreign_key_check: table {row[0]} row {row[1]} refers to "
                                        f"missing {row[2]}")
-            if len(rows) > SHOWN_IDS:
-                report.problems.append(f"sqlite: foreign_key_check: {len(rows) - SHOWN_IDS} more rows refer to "
+            if len(broken) > SHOWN_IDS:
+                report.problems.append(f"sqlite: foreign_key_check: {len(broken) - SHOWN_IDS} more rows refer to "
                                        "missing parents")
 
 

@@ -400,6 +400,7 @@ def fit_configuration(model: ConfigurationModel, two_j: ArrayLike, energy_cm1: A
         result = optimize.least_squares(residuals, guess, bounds=(lower, np.inf), x_scale="jac")
         if best is None or result.cost < best.cost - 1e-9:
             best = result
+    assert best is not None  # scales is a fixed, non-empty list: the loop ran at least once
     x_best = full(best.x)
     res = residuals(best.x)
     dof = len(e) - len(free)

@@ -180,7 +180,7 @@ def wigner_3j(j1: float, j2: float, j3: float, m1: float, m2: float, m3: float) 
         return 0.0
     pre = _delta(a, b, c) * math.exp(0.5 * sum(math.lgamma(float(v) + 1) for v in
                                                (a + d, a - d, b + e, b - e, c + f, c - f)))
-    t_min = int(max(0, b - c - d, a - c + e))
+    t_min = int(max(Fraction(0), b - c - d, a - c + e))
     t_max = int(min(a + b - c, a - d, b + e))
     total = 0.0
     for t in range(t_min, t_max + 1):
@@ -247,7 +247,7 @@ class SeriesChoice:
 
     def as_dict(self) -> dict:
         """Plain mapping for reports and the dataset options."""
-        out = {"l": self.l, "two_j": None if self.two_j < 0 else self.two_j, "method": self.method,
+        out: dict[str, object] = {"l": self.l, "two_j": None if self.two_j < 0 else self.two_j, "method": self.method,
                "levels": self.levels, "reason": self.reason}
         if self.fit is not None:
             out.update({"a1": self.fit.a1, "a3": self.fit.a3, "r_c": self.fit.r_c, "rms_nu": self.fit.rms_nu})
@@ -362,8 +362,8 @@ def compute_single_valence(n: ArrayLike, l: ArrayLike, two_j: ArrayLike, energy_
     skipped: list[tuple[int, str]] = []
     warnings: list[str] = []
     above = e >= ionization_cm1
-    for i in np.flatnonzero(above):
-        skipped.append((int(i), f"at or above the series limit {ionization_cm1:.3f} cm-1: not a bound level"))
+    for index in np.flatnonzero(above):
+        skipped.append((int(index), f"at or above the series limit {ionization_cm1:.3f} cm-1: not a bound level"))
     use = np.flatnonzero(~above)
     nu = np.full(len(e), np.nan)
     nu[use] = coulomb_approximation.effective_quantum_number(ionization_cm1 - e[use], rydberg_cm1, zeta)
@@ -396,12 +396,13 @@ def compute_single_valence(n: ArrayLike, l: ArrayLike, two_j: ArrayLike, energy_
                 choice.reason = (f"potential fit poor (r.m.s. {fit.rms_nu:.3g} in effective quantum number; "
                                  f"{fit.message}): Coulomb approximation instead")
         series.append(choice)
-        for i in members:
-            if choice.method == "model potential":
-                column_params[int(i)] = ("model", choice.fit.a1, choice.fit.a3, choice.fit.r_c, choice.fit.a2,
-                                         choice.fit.a4)
+        chosen_fit = choice.fit if choice.method == "model potential" else None
+        for member in members:
+            if chosen_fit is not None:
+                column_params[int(member)] = ("model", chosen_fit.a1, chosen_fit.a3, chosen_fit.r_c, chosen_fit.a2,
+                                              chosen_fit.a4)
             else:
-                column_params[int(i)] = ("coulomb", 0.0, 0.0, model_potential.default_cutoff(alpha), np.nan, 0.0)
+                column_params[int(member)] = ("coulomb", 0.0, 0.0, model_potential.default_cutoff(alpha), np.nan, 0.0)
     fallbacks = [s for s in series if s.method != "model potential" and method == "model"]
     for s in fallbacks:
         if s.levels and "non-penetrating" not in s.reason:
@@ -505,8 +506,7 @@ def compute_single_valence(n: ArrayLike, l: ArrayLike, two_j: ArrayLike, energy_
     lowest = use[np.argmin(e[use])]
     metastable = [int(i) for i in use if not has_e1_decay[i] and i != lowest]
     for i in metastable:
-        for k in use:
-            k = int(k)
+        for k in map(int, use):
             if e[k] >= e[i] or tj[i] < 0 or tj[k] < 0:
                 continue
             li, lk = int(l_[i]), int(l_[k])
@@ -515,14 +515,14 @@ def compute_single_valence(n: ArrayLike, l: ArrayLike, two_j: ArrayLike, energy_
                 ang = e2_angular_factor(li, int(tj[i]), lk, int(tj[k]))
                 if ang > 0:
                     r2 = float(numerov.radial_integrals(ci[:, None], ck[:, None], x, r * r)[0, 0])
-                    spread = float(numerov.radial_integrals(np.abs(ci)[:, None], np.abs(ck)[:, None], x,
-                                                            r * r)[0, 0])
-                    cancel = abs(r2) / spread if spread > 0 else 0.0
+                    spread_e2 = float(numerov.radial_integrals(np.abs(ci)[:, None], np.abs(ck)[:, None], x,
+                                                               r * r)[0, 0])
+                    cancel_e2 = abs(r2) / spread_e2 if spread_e2 > 0 else 0.0
                     lines["lower"].append(np.array([k]))
                     lines["upper"].append(np.array([i]))
                     lines["multipole"].append(np.array(["E2"]))
                     lines["S"].append(np.array([ang * r2**2]))
-                    lines["unc"].append(np.array([min(BASE_REL_UNC["E2"] / min(1.0, cancel / 0.3), MAX_REL_UNC)]))
+                    lines["unc"].append(np.array([min(BASE_REL_UNC["E2"] / min(1.0, cancel_e2 / 0.3), MAX_REL_UNC)]))
             if li == lk and tj[i] != tj[k] and n_[i] == n_[k]:
                 overlap = float(numerov.radial_integrals(ci[:, None], ck[:, None], x, np.ones_like(r))[0, 0])
                 lines["lower"].append(np.array([k]))
@@ -545,10 +545,10 @@ def compute_single_valence(n: ArrayLike, l: ArrayLike, two_j: ArrayLike, energy_
                  np.where(multipole == "E2", E2_COEFFICIENT * sigma**5, M1_COEFFICIENT * sigma**3)) * strength / g_up
     f = a * g_up / g_lo / (_A_PER_F * sigma**2)
     total = np.bincount(upper, weights=a, minlength=len(e))
-    spread = np.bincount(upper, weights=a * rel_unc, minlength=len(e))
+    a_unc = np.bincount(upper, weights=a * rel_unc, minlength=len(e))     # sum of A times its relative uncertainty
     with np.errstate(divide="ignore", invalid="ignore"):
         lifetime = np.where(total > 0, 1.0 / total, np.nan)
-        lifetime_unc = np.where(total > 0, spread / total, np.nan)
+        lifetime_unc = np.where(total > 0, a_unc / total, np.nan)
     return SingleValenceResult(lower=lower, upper=upper, multipole=multipole, wavenumber_cm1=sigma,
                                line_strength=strength, a_per_s=a, f_abs=f, rel_unc=rel_unc, lifetime_s=lifetime,
                                lifetime_rel_unc=lifetime_unc, series=series, skipped=skipped, warnings=warnings,

@@ -165,6 +165,7 @@ class _Basis:
                 if len(only_i) > 2:
                     continue
                 only_j = sorted(sets[j] - sets[i])
+                value: NDArray[np.float64] | float     # one value per stacked operator, or 0 for all
                 if not only_i:
                     occ = list(det_i)
                     value = 0.5 * anti[:, occ][:, :, occ][:, :, :, occ][..., occ]
@@ -329,8 +330,8 @@ def _common_eigenvectors(a: NDArray[np.float64], b: NDArray[np.float64]) -> tupl
 @functools.lru_cache(maxsize=64)
 def _model(ls: tuple[int, ...], occupancy: tuple[int, ...]) -> tuple:
     if not ls:      # closed shells: one state, 1S0
-        one = np.ones((1, 1))
-        return (), {0: JSubspace(0, np.array([0]), one, one.copy(), [(0, 0)], one.copy(), [(0, 0)],
+        unit = np.ones((1, 1))
+        return (), {0: JSubspace(0, np.array([0]), unit, unit.copy(), [(0, 0)], unit.copy(), [(0, 0)],
                                  np.zeros((0, 1, 1)))}, [()]
     basis = _basis(ls, occupancy)
     ops = _single_particle(basis)
