@@ -778,6 +778,120 @@ def display_configuration(text: str, superscripts: bool = False) -> str:
     return " ".join(parts)
 
 
+#: noble-gas cores a configuration may abbreviate in brackets (``[Ar].4s``), with their electron counts
+#: (checked against the ground configurations of the mendeleev package in tests/test_notation_identity.py)
+NOBLE_GAS_CORES: dict[str, int] = {name: sum(k for _, _, k in shells) for name, shells in _CORES.items()}
+
+
+def madelung_order(n_max: int = 8) -> tuple[tuple[int, int], ...]:
+    """Subshells ``(n, l)`` in the order of increasing n + l, then n (the Madelung rule).
+
+    The filling order of neutral ground configurations in the textbook aufbau scheme (e.g.
+    Cowan 1981, sec. 1-5); the noble-gas cores are closed at its boundaries. Used here only
+    to complete inner closed subshells a configuration leaves out, never to predict ground states.
+
+    >>> madelung_order()[:8]
+    ((1, 0), (2, 0), (2, 1), (3, 0), (3, 1), (4, 0), (3, 2), (4, 1))
+    """
+    pairs = [(n, l) for n in range(1, n_max + 1) for l in range(n)]
+    return tuple(sorted(pairs, key=lambda nl: (nl[0] + nl[1], nl[0])))
+
+
+def _implied_inner(written: tuple[tuple[int, int, int], ...], missing: int) -> tuple[tuple[int, int, int], ...] | None:
+    """Closed subshells, in Madelung order and skipping any subshell written, holding exactly ``missing``
+    electrons; None when no run of whole subshells holds that many."""
+    taken = {(n, l) for n, l, _ in written}
+    out: list[tuple[int, int, int]] = []
+    count = 0
+    for n, l in madelung_order():
+        if count == missing:
+            break
+        if (n, l) in taken:
+            continue
+        out.append((n, l, 4 * l + 2))
+        count += 4 * l + 2
+    return tuple(out) if count == missing else None
+
+
+def canonical_configuration(configuration: str | Configuration, electrons: int | None = None) -> str:
+    """The one form of a configuration used to recognise a state across datasets and files.
+
+    A closed core written out (``1s2.2s2.2p6.3s2.3p6.4s``), abbreviated (``[Ar].4s``, ``[Ar]4s``,
+    ``[Ar] 4s``) or, given the species' number of ``electrons``, left out (``4s`` of K I) gives the
+    same text. The rule: a bracketed core is expanded; electrons the configuration leaves out are put
+    back as whole closed subshells in Madelung order (:func:`madelung_order`), skipping the subshells it
+    writes (when no run of whole subshells holds exactly the missing number, nothing is added); the
+    leading closed subshells are sorted by (n, l) and the largest noble-gas core among them is written
+    in brackets. Subshells after the first open one (or after a parent term) keep their written order.
+
+    Parameters
+    ----------
+    configuration : str or Configuration
+        As written by a user or stored.
+    electrons : int, optional
+        Bound electrons of the species (``Spectrum.electrons``); without it an omitted core is not
+        completed.
+
+    Returns
+    -------
+    str
+        Dotted text, e.g. ``'[Ar].4s'``.
+
+    Raises
+    ------
+    NotationError
+        When the text is not a configuration, or holds more electrons than ``electrons``.
+
+    Examples
+    --------
+    >>> [canonical_configuration(c, 19) for c in ("1s2.2s2.2p6.3s2.3p6.4s", "[Ar].4s", "[Ar] 4s", "4s")]
+    ['[Ar].4s', '[Ar].4s', '[Ar].4s', '[Ar].4s']
+    >>> canonical_configuration("2p5(2P°3/2)3p", 10)
+    '[He].2s2.2p5(2P°3/2)3p'
+    >>> canonical_configuration("3d10.4s", 29), canonical_configuration("2p", 1)
+    ('[Ar].3d10.4s', '2p')
+    """
+    config = parse_configuration(configuration) if isinstance(configuration, str) else configuration
+    shells = config.all_subshells
+    offset = len(shells) - len(config.subshells)   # parent indices count from the written subshells
+    parent_at = {index + offset: (term, two_j) for index, term, two_j in config.parents}
+    written = config.electrons
+    if electrons is not None:
+        if written > electrons:
+            raise NotationError(f"configuration {format_configuration(config)!r} holds {written} electrons, "
+                                f"the species {electrons}")
+        inner = _implied_inner(shells, electrons - written) if written < electrons else ()
+        if inner:
+            shells = inner + shells
+            parent_at = {index + len(inner): value for index, value in parent_at.items()}
+    lead = 0
+    while lead < len(shells) and shells[lead][2] == 4 * shells[lead][1] + 2 and lead not in parent_at:
+        lead += 1
+    closed = sorted(shells[:lead], key=lambda s: (s[0], s[1]))
+    closed_set = set(closed)
+    core = None
+    for name, core_shells in sorted(_CORES.items(), key=lambda kv: -len(kv[1])):
+        if set(core_shells) <= closed_set:
+            core = name
+            break
+    kept = [s for s in closed if core is None or s not in set(_CORES[core])]
+    rest = list(shells[lead:])
+    parents = tuple((len(kept) + index - lead, term, two_j) for index, (term, two_j) in sorted(parent_at.items()))
+    return format_configuration(Configuration(tuple(kept + rest), core, parents))
+
+
+def state_key(configuration: str, term: str, two_j: int | None, electrons: int | None = None) -> tuple:
+    """Identity of a level within a species: (canonical configuration, term, 2J).
+
+    Text that is not a configuration is kept as written.
+    """
+    try:
+        canonical = canonical_configuration(configuration, electrons)
+    except NotationError:
+        canonical = configuration
+    return (canonical, term, two_j)
+
+
 def level_label(configuration: str, term: str, two_j: int) -> str:
     """Level label ``<configuration> <term><J>``, e.g. ``'3d 2D5/2'``."""
     j_text = format_j(two_j)

@@ -499,6 +499,8 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     provenance = obj.catalog.provenance(query.describe(), used, air_formula=air_formula_description(air_formula),
                                         lines=f"{len(rows)} of {info['total']}",
                                         rates=f"{info['without_rates']} lines without known rates (A, f, S empty)")
+    if info.get("warnings"):
+        provenance["states"] = " ".join(info["warnings"])
     columns = LINE_LIST_COLUMNS
     if lower_pattern or series_pattern or line_name:
         rows = filter_lines(rows, lower=lower_pattern, series=series_pattern, name=line_name)[:limit]
@@ -520,6 +522,7 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
          rows_key=("lines", "rows"))
     if fmt == "table" and info["without_rates"]:
         click.echo(f"{info['without_rates']} of {len(rows)} lines have no known rates (A, f, S left empty)", err=True)
+    _warnings(info.get("warnings", ()))
 
 
 REPORT_FORMATS = ("table", "json")

@@ -22,6 +22,7 @@ from levels.notation import (
     JKTerm,
     Spectrum,
     Term,
+    canonical_configuration,
     format_configuration,
     format_term,
     jk_term_problem,
@@ -65,11 +66,14 @@ class LevelRecord:
     lande_g: float | None = None
     dataset: str | None = None
     line: int | None = None
+    #: the canonical configuration (:func:`levels.notation.canonical_configuration`): the same text
+    #: whether the closed core is written out, bracketed or left out; ``configuration`` keeps the form given
+    state_configuration: str | None = None
 
     @property
     def state_key(self) -> tuple:
-        """Identity of the state within a species: (configuration, term, two_j)."""
-        return (self.configuration, self.term, self.two_j)
+        """Identity of the state within a species: (canonical configuration, term, two_j)."""
+        return (self.state_configuration or self.configuration, self.term, self.two_j)
 
 
 class _Row:
@@ -258,6 +262,7 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
     if row.problems:
         return None, row.problems
     config_canonical = format_configuration(configuration)
+    state_config = canonical_configuration(configuration, spectrum.electrons)
     term_canonical = format_term(term)
     if two_j + 1 > INT_MAX:
         row.fail("j", f"J = {field_text(row, 'j')} is too large to store (2J + 1 must not exceed {INT_MAX})")
@@ -265,7 +270,8 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
         if value is not None and value > INT_MAX:
             what = "the principal quantum number" if field == "configuration" else "the multiplicity"
             row.fail(field, f"{field_text(row, field)!r}: {what} {value} is too large to store (at most {INT_MAX})")
-    for field, value in (("configuration", config_canonical), ("term", term_canonical), ("dataset", dataset)):
+    for field, value in (("configuration", config_canonical), ("configuration", state_config),
+                         ("term", term_canonical), ("dataset", dataset)):
         column = "name" if field == "dataset" else field
         length = limits.COLUMNS["datasets" if field == "dataset" else "levels"][column].length
         problem = None if value is None else limits.text_problem(value, length)
@@ -283,6 +289,7 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
         multiplicity=term.multiplicity if isinstance(term, Term) else None,
         big_l=term.L if isinstance(term, Term) else None,
         n=n, l=l_value, lifetime_s=lifetime, lande_g=lande, dataset=dataset, line=line,
+        state_configuration=state_config,
     )
     return record, []
 
@@ -306,7 +313,7 @@ def validate_levels(items: Iterable[tuple[int | None, Mapping[str, object]]], *,
     """
     records: list[LevelRecord] = []
     problems: list[Problem] = []
-    seen_state: dict[tuple, int | None] = {}
+    seen_state: dict[tuple, tuple[int | None, str]] = {}
     seen_label: dict[tuple, int | None] = {}
     for line, fields in items:
         record, row_problems = validate_level(fields, source=source, line=line, default_dataset=default_dataset)
@@ -314,13 +321,17 @@ def validate_levels(items: Iterable[tuple[int | None, Mapping[str, object]]], *,
         if record is not None:
             key = (record.spectrum, record.state_key)
             if key in seen_state:
+                first_line, first_label = seen_state[key]
+                same = "" if first_label == record.label else (
+                    f" as {first_label!r} (the same state: {record.state_key[0]} {record.term}, the closed core "
+                    "written out, bracketed or left out)")
                 problems.append(Problem(source, line, "j", f"duplicate state {record.label!r} of {record.spectrum.name}, "
-                                                          f"first given on line {seen_state[key]}"))
+                                                          f"first given on line {first_line}{same}"))
             elif (record.spectrum, record.label) in seen_label:
                 problems.append(Problem(source, line, "label", f"duplicate label {record.label!r}, first given on line "
                                                                f"{seen_label[(record.spectrum, record.label)]}"))
             else:
-                seen_state[key] = line
+                seen_state[key] = (line, record.label)
                 seen_label[(record.spectrum, record.label)] = line
                 records.append(record)
         if len(problems) >= MAX_PROBLEMS:

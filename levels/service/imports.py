@@ -23,6 +23,7 @@ from levels.io.tables import read_delimited
 from levels.notation import Spectrum
 from levels.service.contract import ImportReport
 from levels.service.derived import precheck_derived_lines, rebuild_derived_lines
+from levels.service.duplicates import import_duplicate_warnings
 from levels.store import queries
 from levels.store.schema import Dataset, Level
 
@@ -106,6 +107,7 @@ def import_level_records(catalog, records: Sequence[level_io.LevelRecord], *, so
                                     author=catalog.actor, description=description or f"imported from {source}",
                                     method="file import", sample=sample_row, content_sha256=content_sha256)
         species_ids, n_levels = insert_level_records(session, records, ds.id)
+        warnings.extend(import_duplicate_warnings(session, ds.id, ds.name, source, species_ids.values()))
         derived = sum(rebuild_derived_lines(session, species_ids, catalog.actor, max_lines=max_derived_lines,
                                             source=source).values())
         names = sorted({s.name for s in species_ids})
@@ -194,6 +196,7 @@ def import_dataset(catalog, level_records: Sequence[level_io.LevelRecord],
                                     description=description or f"imported from {source}", method=method,
                                     sample=sample_row, options={"air_formula": air_formula})
         species_ids, n_levels = insert_level_records(session, level_records, ds.id)
+        same_states = import_duplicate_warnings(session, ds.id, ds.name, source, species_ids.values())
         checked: dict = {}
         count = (lab.store_measured_lines(session, line_records, ds.id, line_source or source, air_formula,
                                           allow_off_ritz=allow_off_ritz, report=checked)
@@ -206,7 +209,7 @@ def import_dataset(catalog, level_records: Sequence[level_io.LevelRecord],
                              {"source": source, "levels": n_levels, "lines": count, "species": names,
                               "sample": sample, "derived_lines": derived}, actor=catalog.actor)
         return ImportReport(source=source, kind=kind, dataset=ds.name, dataset_id=ds.id, sample=sample,
-                            species=names, levels=n_levels, lines=count)
+                            species=names, levels=n_levels, lines=count, warnings=same_states)
 
     return catalog.write(work)
 
@@ -308,7 +311,8 @@ def level_insert_row(rec: level_io.LevelRecord, dataset_id: int, species_id: int
         lande = float(lande_g_ls(rec.multiplicity - 1, rec.big_l, rec.two_j))
     return {
         "dataset_id": dataset_id, "species_id": species_id, "label": rec.label,
-        "configuration": rec.configuration, "term": rec.term, "two_j": rec.two_j, "g": rec.two_j + 1,
+        "configuration": rec.configuration, "state_configuration": rec.state_configuration,
+        "term": rec.term, "two_j": rec.two_j, "g": rec.two_j + 1,
         "parity": rec.parity,
         "energy_cm1": rec.energy_cm1, "unc_cm1": rec.unc_cm1, "multiplicity": rec.multiplicity,
         "big_l": rec.big_l, "n": rec.n, "l": rec.l, "lifetime_s": rec.lifetime_s, "lande_g": lande,

@@ -368,16 +368,20 @@ def dump(engine: Engine, *, tables: tuple[str, ...] = TABLE_ORDER) -> str:
     when the stores hold the same data, whatever the backend.
     """
     lines = []
-    existing = set(inspect(engine).get_table_names())
+    inspector = inspect(engine)
+    existing = set(inspector.get_table_names())
     with engine.connect() as connection:
         for name in tables:
             if name not in existing:
                 lines.append(f"-- {name}: absent")
                 continue
             table = Base.metadata.tables[name]
-            columns = [c.name for c in table.columns]
+            # the columns the store has (an older revision lacks the newer ones)
+            present = {c["name"] for c in inspector.get_columns(name)}
+            kept = [c for c in table.columns if c.name in present]
+            columns = [c.name for c in kept]
             lines.append(f"-- {name}: {','.join(columns)}")
-            for row in connection.execute(select(table).order_by(*table.primary_key.columns)):
+            for row in connection.execute(select(*kept).order_by(*table.primary_key.columns)):
                 lines.append(json.dumps([_canonical(v) for v in row], ensure_ascii=False))
     return "\n".join(lines) + "\n"
 

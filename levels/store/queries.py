@@ -516,7 +516,11 @@ def visible_datasets(session: Session, names: Sequence[str] | None = None,
 
 
 def levels_by_precedence(session: Session, species: Species, datasets: Sequence[Dataset]) -> list[Level]:
-    """Levels of a species, one per state: the first dataset in ``datasets`` that has the state wins."""
+    """Levels of a species, one per state: the first dataset in ``datasets`` that has the state wins.
+
+    A state is the canonical configuration (``state_configuration``; the closed core written out,
+    bracketed or left out is one state), the term and 2J.
+    """
     if not datasets:
         return []
     rank = {d.id: i for i, d in enumerate(datasets)}
@@ -524,7 +528,7 @@ def levels_by_precedence(session: Session, species: Species, datasets: Sequence[
                                                Level.dataset_id.in_(list(rank)))).all()
     chosen: dict[tuple, Level] = {}
     for level in sorted(rows, key=lambda lv: rank[lv.dataset_id]):
-        chosen.setdefault((level.configuration, level.term, level.two_j), level)
+        chosen.setdefault((level.state_configuration or level.configuration, level.term, level.two_j), level)
     return sorted(chosen.values(), key=lambda lv: (lv.energy_cm1, lv.label))
 
 
@@ -553,7 +557,8 @@ def level_columns(session: Session, species_id: int, dataset_ids: Sequence[int],
     if resolved_only:
         where.append(Level.two_j.is_not(None))
     rank = case({dataset_id: i for i, dataset_id in enumerate(ids)}, value=Level.dataset_id)
-    order = func.row_number().over(partition_by=(Level.configuration, Level.term, Level.two_j),
+    order = func.row_number().over(partition_by=(func.coalesce(Level.state_configuration, Level.configuration),
+                                                 Level.term, Level.two_j),
                                    order_by=rank).label("choice")
     inner = select(Level.id, Level.energy_cm1, Level.unc_cm1, Level.two_j, Level.parity, order).where(*where).subquery()
     query = select(inner.c.id, inner.c.energy_cm1, inner.c.unc_cm1, inner.c.two_j, inner.c.parity).where(
@@ -837,3 +842,54 @@ def dependent_line_counts(session: Session, dataset: Dataset) -> dict[str, int]:
 
 
 # ----------------------------------------------------------------- the same state in several datasets
+
+
+# ----------------------------------------------------------------- the same state in several datasets
+
+def same_state_levels(session: Session, dataset_id: int, *, species_ids: Sequence[int] | None = None,
+                      limit: int = 10_000) -> list[tuple]:
+    """Levels of ``dataset_id`` whose state a level of another user dataset of the same species holds.
+
+    A state is (species, canonical configuration ``state_configuration``, term, 2J). Only datasets
+    that are not retracted and that the tool does not rebuild (``role`` NULL) are compared; levels
+    without a canonical configuration take no part.
+
+    Returns
+    -------
+    list of tuple
+        ``(species name, label in dataset_id, label in the other dataset, other dataset name,
+        state_configuration, term, two_j)``, ordered by species, other dataset and label; at most ``limit``.
+    """
+    from sqlalchemy.orm import aliased
+
+    new = aliased(Level)
+    old = aliased(Level)
+    query = (select(Species.name, new.label, old.label, Dataset.name, new.state_configuration, new.term, new.two_j)
+             .join(old, (old.species_id == new.species_id) & (old.state_configuration == new.state_configuration)
+                   & (old.term == new.term)
+                   & ((old.two_j == new.two_j) | (old.two_j.is_(None) & new.two_j.is_(None))))
+             .join(Dataset, Dataset.id == old.dataset_id)
+             .join(Species, Species.id == new.species_id)
+             .where(new.dataset_id == dataset_id, old.dataset_id != dataset_id, Dataset.retracted == 0,
+                    Dataset.role.is_(None), new.state_configuration.is_not(None))
+             .order_by(Species.name, Dataset.name, new.label).limit(limit))
+    if species_ids is not None:
+        query = query.where(new.species_id.in_(list(species_ids)))
+    return [tuple(row) for row in session.execute(query)]
+
+
+def states_in_several_datasets(session: Session, species_id: int, dataset_ids: Sequence[int]) -> list[tuple]:
+    """States of a species held by more than one of ``dataset_ids``: (state configuration, term, two_j, count).
+
+    The state is the canonical configuration (or the configuration where none is stored), term and 2J.
+    """
+    ids = list(dataset_ids)
+    if not ids:
+        return []
+    state = func.coalesce(Level.state_configuration, Level.configuration)
+    query = (select(state, Level.term, Level.two_j, func.count(func.distinct(Level.dataset_id)))
+             .where(Level.species_id == species_id, Level.dataset_id.in_(ids))
+             .group_by(state, Level.term, Level.two_j)
+             .having(func.count(func.distinct(Level.dataset_id)) > 1)
+             .order_by(state, Level.term, Level.two_j))
+    return [tuple(row) for row in session.execute(query)]

@@ -168,6 +168,7 @@ class Level(Base):
         CheckConstraint("l IS NULL OR l >= 0", name="l_nonneg"),
         Index("ix_levels_species_energy", "species_id", "energy_cm1"),
         Index("ix_levels_dataset", "dataset_id"),
+        Index("ix_levels_species_state", "species_id", "state_configuration", "term", "two_j"),
     )
 
     id: Mapped[int] = mapped_column(primary_key=True)
@@ -175,6 +176,11 @@ class Level(Base):
     species_id: Mapped[int] = mapped_column(ForeignKey("species.id", ondelete="RESTRICT"))
     label: Mapped[str] = mapped_column(String(200))
     configuration: Mapped[str] = mapped_column(String(200))
+    #: the canonical configuration (``levels.notation.canonical_configuration``: the closed core written
+    #: out, bracketed or left out gives one text), for recognising a state across datasets; ``configuration``
+    #: keeps the form the data gave. NULL (rows written before migration 0004 that did not parse, and
+    #: computed rows) means the same as ``configuration``
+    state_configuration: Mapped[Optional[str]] = mapped_column(String(200))
     term: Mapped[str] = mapped_column(String(32), default="")
     #: 2J; NULL for a term whose J components are not resolved (then ``g`` is the term's weight)
     two_j: Mapped[Optional[int]] = mapped_column(Integer)
