@@ -139,7 +139,8 @@ def bench_e1_rates_n200() -> BenchResult:
             R = radial_dipole(a, b, c, d, 1, mu)
             S = 2.0 * max(b, d) * R * R
             sigma = _R_INF_CM1 * mu * (1.0 / (c * c) - 1.0 / (a * a))
-            rows.append((S, A_COEFFICIENT * sigma**3 * S / (2 * (2 * b + 1)), F_COEFFICIENT * sigma * S / (2 * (2 * d + 1))))
+            rows.append((S, A_COEFFICIENT * sigma**3 * S / (2 * (2 * b + 1)),
+                         F_COEFFICIENT * sigma * S / (2 * (2 * d + 1))))
         return rows
 
     t_sub = best_time(scalar, repeat=1)

@@ -40,7 +40,10 @@ SCALE = float(os.environ.get("LEVELS_BENCH_MEMORY_SCALE", "1"))
 
 
 def write_even_odd_levels(path: Path, n_levels: int, n_odd: int, spectrum: str = "Na I") -> int:
-    """INVENTED levels: ``n_levels - n_odd`` even ``ks 2S1/2`` and ``n_odd`` odd ``kp 2P°1/2|3/2``; E1 lines = even x odd."""
+    """INVENTED levels: ``n_levels - n_odd`` even ``ks 2S1/2`` and ``n_odd`` odd ``kp 2P°1/2|3/2``.
+
+    E1 lines = even x odd.
+    """
     n_even = n_levels - n_odd
     with path.open("w", encoding="utf-8") as out:
         out.write("# INVENTED levels (tests/bench/bench_memory.py)\nspectrum,configuration,term,j,energy_cm1\n")
@@ -88,6 +91,7 @@ def store_levels_without_rebuild(store: Path, levels_file: Path) -> int:
     """Write a levels file's rows into a measured dataset directly (no derived-line rebuild), for the rebuild case."""
     from levels.io import records
     from levels.io.tables import read_delimited
+    from levels.service import lookup
     from levels.store import database, queries
     from levels.store.schema import Level
 
@@ -97,7 +101,7 @@ def store_levels_without_rebuild(store: Path, levels_file: Path) -> int:
 
     def work(session):
         ds = queries.create_dataset(session, name="complex", kind="measured")
-        species = queries.get_or_create_species(session, recs[0].spectrum)
+        species = lookup.get_or_create_species(session, recs[0].spectrum)
         rows = [{"dataset_id": ds.id, "species_id": species.id, "label": r.label, "configuration": r.configuration,
                  "term": r.term, "two_j": r.two_j, "g": r.two_j + 1, "parity": r.parity, "energy_cm1": r.energy_cm1,
                  "unc_cm1": r.unc_cm1, "multiplicity": r.multiplicity, "big_l": r.big_l, "n": r.n, "l": r.l,

@@ -100,7 +100,8 @@ def test_rows_behind_the_constraints_are_found(filled):
                     f"UPDATE levels SET energy_cm1 = 1e308 WHERE id = {level}")
     problems = integrity.check_store(filled.engine)
     text_ = "\n".join(problems)
-    assert f"pointing through lower_id to a missing levels row (foreign key fk_lines_lower_id_levels) (id {line})" in text_
+    assert (f"pointing through lower_id to a missing levels row (foreign key fk_lines_lower_id_levels) (id {line})"
+            in text_)
     assert f"lines: 1 row whose lower level does not exist (id {line})" in text_
     assert "breaking the CHECK constraint ck_levels_energy_finite" in text_
     assert "levels: 1 row whose energy_cm1 is not a finite number" in text_

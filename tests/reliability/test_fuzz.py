@@ -364,7 +364,8 @@ def test_api_dataset_bodies(api, body):
 
 
 @settings(max_examples=30, **STORE)
-@given(data=ANY_BYTES, mimetype=st.sampled_from(["application/json", "text/plain", "application/x-www-form-urlencoded"]))
+@given(data=ANY_BYTES,
+       mimetype=st.sampled_from(["application/json", "text/plain", "application/x-www-form-urlencoded"]))
 def test_api_raw_bodies(api, data, mimetype):
     catalog, client = api
     _post_or_refuse(catalog, client, data=data, content_type=mimetype)

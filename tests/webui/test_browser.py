@@ -123,7 +123,9 @@ def test_diagram_filters_redraw_without_reload_and_a_click_shows_the_line(page, 
         let best = null, bestGap = -1;
         for (const p of all.filter(q => q.line)) {
             let gap = Infinity;
-            for (const q of all) { if (q !== p) { gap = Math.min(gap, Math.hypot(p.xy[0] - q.xy[0], p.xy[1] - q.xy[1])); } }
+            for (const q of all) {
+                if (q !== p) { gap = Math.min(gap, Math.hypot(p.xy[0] - q.xy[0], p.xy[1] - q.xy[1])); }
+            }
             if (gap > bestGap) { bestGap = gap; best = p; }
         }
         return {id: gd.data[best.trace].customdata[best.k][0], x: best.xy[0], y: best.xy[1], gap: bestGap};

@@ -22,7 +22,8 @@ ENDPOINTS = {
     "/species/Li_I": ["dataset", "config", "j", "parity", "sort", "dir", "page", "per", "from_nm", "to_nm", "medium",
                       "multipole", "min_a", "order", "lpage", "lper", "mass_number"],
     "/species/Li_I/diagram": ["from_nm", "to_nm", "medium", "multipole", "min_a", "unit", "max_lines"],
-    "/species/Li_I/diagram.json": ["from_nm", "to_nm", "medium", "multipole", "min_a", "unit", "max_lines", "mass_number"],
+    "/species/Li_I/diagram.json": ["from_nm", "to_nm", "medium", "multipole", "min_a", "unit", "max_lines",
+                                   "mass_number"],
     "/lines": ["species", "from_nm", "to_nm", "medium", "multipole", "min_a", "order", "page", "per"],
     "/species/Li_I/levels.csv": ["dataset", "config", "j", "parity", "sort", "dir"],
     "/species/Li_I/lines.json": ["from_nm", "to_nm", "medium", "multipole", "min_a", "order"],
@@ -67,7 +68,8 @@ def test_a_50_mb_upload_is_413_and_writes_nothing(reader, shared):
     cat = shared["catalog"]
     before = (dataset_names(cat), count_rows(cat, Level))
     token = csrf_token(reader)
-    big = io.BytesIO(b"spectrum,configuration,term,j,energy_cm1\n" + b"Li I,1s2.2s,2S,1/2,0\n" * (50 * 1024 * 1024 // 21))
+    big = io.BytesIO(b"spectrum,configuration,term,j,energy_cm1\n"
+                     + b"Li I,1s2.2s,2S,1/2,0\n" * (50 * 1024 * 1024 // 21))
     response = reader.post("/desk/upload", data={"csrf_token": token, "file": (big, "big.csv")},
                            content_type="multipart/form-data")
     assert response.status_code == 413 and "larger than" in response.get_data(as_text=True)
@@ -118,7 +120,8 @@ def test_the_diagram_escapes_hover_text(reader, shared):
 
 def test_an_uploaded_label_is_escaped_in_the_preview(reader, shared):
     content = f'spectrum,configuration,term,j,energy_cm1,label\nLi I,1s2.5s,2S,1/2,35012.0,"{XSS_LABEL}"\n'.encode()
-    response = reader.post("/desk/upload", data={"csrf_token": csrf_token(reader), "file": (io.BytesIO(content), "x.csv")},
+    response = reader.post("/desk/upload",
+                           data={"csrf_token": csrf_token(reader), "file": (io.BytesIO(content), "x.csv")},
                            content_type="multipart/form-data")
     text = response.get_data(as_text=True)
     assert response.status_code == 200 and XSS_LABEL not in text and str(escape(XSS_LABEL)) in text

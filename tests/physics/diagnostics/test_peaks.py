@@ -1,4 +1,7 @@
-"""Peak fitting: closed loop on spectra drawn by levels.physics.plasma.spectrum, and scipy's curve_fit on the same data."""
+"""Peak fitting: closed loop on spectra drawn by levels.physics.plasma.spectrum.
+
+Also scipy's curve_fit on the same data.
+"""
 
 from __future__ import annotations
 

@@ -60,8 +60,8 @@ def test_lorentz_from_voigt_against_scipy_voigt_profile(fg, fl):
 
 
 def test_density_closed_loop_through_the_project_line_shapes():
-    # H-beta drawn by levels.physics.plasma.spectrum with the Stark width of 3e21 m-3 (Lorentzian), Doppler at 1500 K and
-    # a 0.03 nm instrument; fitted with a Voigt profile; Gaussian part removed; ne back within 10 %
+    # H-beta drawn by levels.physics.plasma.spectrum with the Stark width of 3e21 m-3 (Lorentzian), Doppler at
+    # 1500 K and a 0.03 nm instrument; fitted with a Voigt profile; Gaussian part removed; ne back within 10 %
     ne0 = 3e21
     line = 486.1
     stark_w = float(stark.stark_fwhm_nm("H-beta", ne0))

@@ -191,7 +191,8 @@ def test_na_d2_d1_line_strength_ratio():
 
 def test_radial_integrals_equal_hydrogenic_when_pure_coulomb():
     # Coulomb approximation at integer effective quantum numbers and the model potential with
-    # Z = 1 (no core) against the exact integrals of levels.physics.one_electron.radial (Storey & Hummer 1991; Gordon 1929)
+    # Z = 1 (no core) against the exact integrals of levels.physics.one_electron.radial
+    # (Storey & Hummer 1991; Gordon 1929)
     states = [(n, l) for n in range(1, 8) for l in range(n)]
     nu = np.array([n for n, _ in states], dtype=float)
     ls = np.array([l for _, l in states])
