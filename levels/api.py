@@ -62,9 +62,12 @@ from levels.errors import LevelsError, UnitError
 from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
 from levels.service.vocabulary import (
     DEFAULT_AIR_FORMULA,
+    DEFAULT_MEDIUM,
+    add_spectral_column,
     air_formula_code,
     air_formula_description,
     air_wavelengths,
+    medium_statement,
 )
 from levels.units import parse_quantity, spectral_nm
 
@@ -85,6 +88,9 @@ COLUMN_UNITS: dict[str, u.UnitBase] = {
     "photon_share": u.dimensionless_unscaled,
     "a_rel_unc": u.dimensionless_unscaled, "lifetime_rel_unc": u.dimensionless_unscaled,
     "obs_nm": u.nm, "ritz_nm": u.nm, "obs_minus_ritz_nm": u.nm, "gf": u.dimensionless_unscaled,
+    # the position column in the unit asked (Store.lines(unit=...))
+    "wavelength_nm": u.nm, "wavelength_angstrom": u.AA, "wavelength_um": u.um, "photon_energy_ev": u.eV,
+    "photon_energy_kev": u.keV, "frequency_hz": u.Hz,
 }
 #: columns that hold whole numbers (kept as integers; missing ones become -1)
 INTEGER_COLUMNS = ("z", "charge", "mass_number", "levels", "lines", "g", "n", "l", "parity", "g_lower", "g_upper",
@@ -472,11 +478,11 @@ class Store:
         used = sorted({r["dataset"] for r in rows})
         return rows_to_table(rows, LEVEL_COLUMNS, self._catalog.provenance(f"show {spectrum}", used))
 
-    def lines(self, spectrum: str | None = None, window: Any = None, medium: str = "air",
+    def lines(self, spectrum: str | None = None, window: Any = None, medium: str = DEFAULT_MEDIUM,
               multipoles: Sequence[str] = ("E1",), min_a: Any = None, *, max_upper: Any = None,
               datasets: Sequence[str] | None = None, order: str = "wavelength", limit: int | None = None,
               air_formula: str = DEFAULT_AIR_FORMULA, lower: str | None = None, series: str | None = None,
-              name: str | None = None, multiplets: bool = False) -> QTable:
+              name: str | None = None, multiplets: bool = False, unit: str | None = None) -> QTable:
         """A line list (``levels lines``).
 
         With ``spectrum``, every line the selection rules allow between the species'
@@ -493,11 +499,18 @@ class Store:
             wavenumbers, photon energies or frequencies (``("15200cm-1", "16000cm-1")``, ``"6.9keV"``,
             ``617 * u.THz``): they name vacuum wavelengths, converted to ``medium``.
         medium : {"air", "vacuum"}
-            Medium of the window.
+            Medium of the window and of the position column: ``"air"`` (the default of every front end)
+            means air at and above 200 nm, vacuum below; ``meta["provenance"]["medium"]`` says it in words.
         multipoles : sequence of str
             Any of ``"E1", "M1", "E2"``.
         min_a : float or Quantity, optional
             Smallest Einstein A (s-1; lines without a known A are left out).
+        unit : str, optional
+            Add the position column in this unit (``"Å"``, ``"µm"``, ``"cm-1"``, ``"eV"``, ``"keV"``,
+            ``"Hz"``, ``"nm"``; ``"A"`` and ``"um"`` accepted): ``wavelength_angstrom [Angstrom]``,
+            ``wavelength_um``, ``wavenumber_cm1``, ``photon_energy_ev``, ``photon_energy_kev``,
+            ``frequency_hz`` or ``wavelength_nm`` (lengths in ``medium``). Every physical column carries
+            its astropy unit, so ``table["vacuum_nm"].to(u.eV, u.spectral())`` works as well.
         max_upper : str or Quantity, optional
             Highest upper-level energy (``"50000cm-1"``, ``"6.2eV"``).
         datasets : sequence of str, optional
@@ -567,10 +580,16 @@ class Store:
         else:
             add_ritz_columns(rows, medium, air_formula=air_formula)
         provenance["datasets"] = "; ".join(n for n in used if n in contributed) or "(none)"
+        provenance["medium"] = medium_statement(medium, air_formula)
+        if unit is not None:
+            key, heading = add_spectral_column(rows, unit, medium)
+            provenance["unit"] = f"{key}: {heading}"
+            if key not in columns:
+                columns = tuple(columns) + (key,)
         return rows_to_table(rows, columns, provenance)
 
     def emission(self, spectrum: str, *, te: Any, ne: Any, tgas: Any = "300K", window: Any = None,
-                 medium: str = "air", instrument_fwhm: Any = None, path_length: Any = None,
+                 medium: str = DEFAULT_MEDIUM, instrument_fwhm: Any = None, path_length: Any = None,
                  element_density: Any = None, cutoff: str = "debye", datasets: Sequence[str] | None = None,
                  points: int | None = None, model: str = "lte", loss_rate: Any = None, geometry: str = "slab",
                  broadening: str = "thermal", perturber: str | None = None, pressure: Any = None,

@@ -103,12 +103,28 @@ def _line_state(ref: services.SpeciesRef | None, errors: dict, prefix: str = "l"
     try:
         flt = params.line_filter(request.args)
         pg = params.page(request.args, prefix, _per_page())
-        rows, total = services.line_page(cat, ref, flt, pg)
+        if flt.selects:  # selections by label or name: filter the whole window, then page (as the JSON API)
+            every = _selected(services.all_lines(cat, ref, flt), flt)
+            rows, total = every[pg.offset:pg.offset + pg.per], len(every)
+        else:
+            rows, total = services.line_page(cat, ref, flt, pg)
         add_ritz_columns(rows, flt.medium)
     except BadParameter as exc:
         errors[exc.field] = exc.message
         flt, pg, rows, total = LineFilter(), Page(1, _per_page()), [], 0
     return flt, pg, rows, total
+
+
+def _selected(rows: list[dict], flt: LineFilter) -> list[dict]:
+    """Rows kept by the filter's lower-level, series and line-name selections (:func:`filter_lines`)."""
+    from levels.errors import LevelsError
+    from levels.service.line_selection import filter_lines
+
+    try:
+        return filter_lines(rows, lower=flt.lower, series=flt.series, name=flt.line_name)
+    except LevelsError as exc:
+        field = "line_name" if "line name" in str(exc) else ("series" if flt.series else "lower")
+        raise BadParameter(field, str(exc)) from None
 
 
 @bp.get("/species/<spectrum>")
@@ -148,10 +164,17 @@ def _line_download(ref: services.SpeciesRef | None, fmt: str, stem: str):
         flt = params.line_filter(request.args)
     except BadParameter as exc:
         abort(400, description=str(exc))
-    rows = add_ritz_columns(services.all_lines(cat, ref, flt), flt.medium)
+    try:
+        selected = _selected(services.all_lines(cat, ref, flt), flt) if flt.selects else None
+    except BadParameter as exc:
+        abort(400, description=str(exc))
+    rows = add_ritz_columns(selected if selected is not None else services.all_lines(cat, ref, flt), flt.medium)
     used = sorted({r["dataset"] for r in rows})
     provenance = cat.provenance(flt.query(services.line_name(ref)).describe(), used,
                                 medium=flt.medium, air_formula=services.air_formula(cat, used))
+    if flt.selects:
+        provenance["selection"] = (f"lower {flt.lower or 'any'}; upper series {flt.series or 'any'}; "
+                                   f"name {flt.line_name or 'any'}: {len(rows)} lines")
     return table_download(rows, LINE_LIST_COLUMNS, fmt, provenance, stem, LINE_UNITS)
 
 

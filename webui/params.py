@@ -17,6 +17,7 @@ from dataclasses import dataclass, replace
 from levels.catalog import MULTIPOLE_CODES, LineQuery
 from levels.errors import LevelsError, NotationError, UnitError
 from levels.notation import format_j, parse_j
+from levels.service.vocabulary import DEFAULT_MEDIUM
 from levels.units import parse_quantity
 
 #: longest text accepted in any filter field (characters)
@@ -174,16 +175,29 @@ def multipoles(args: Mapping, name: str = "multipole") -> tuple[str, ...] | None
 
 # ----------------------------------------------------------------- line filters
 
+#: query parameters that select lines by label (the JSON API's and the pages' names)
+LINE_SELECTION_KEYS = ("lower", "series", "line_name")
+
+
 @dataclass(frozen=True)
 class LineFilter:
     """Window (nm, in ``medium``), multipoles and minimum Einstein A (s-1) of a line request."""
 
     from_nm: float | None = None
     to_nm: float | None = None
-    medium: str = "vacuum"
+    medium: str = DEFAULT_MEDIUM  # one default medium across front ends (levels.service.vocabulary)
     multipoles: tuple[str, ...] | None = None
     min_a: float | None = None
     order: str = "wavelength"
+    #: selections by label (as ``levels lines --lower/--series/--name``): lower level, upper-level series, line name
+    lower: str | None = None
+    series: str | None = None
+    line_name: str | None = None
+
+    @property
+    def selects(self) -> bool:
+        """Whether the filter selects lines by level label or line name (applied to the whole window)."""
+        return bool(self.lower or self.series or self.line_name)
 
     def query(self, spectrum: str | None = None, *, limit: int | None = None, offset: int = 0,
               order: str | None = None) -> LineQuery:
@@ -199,7 +213,7 @@ class LineFilter:
             out["from_nm"] = f"{self.from_nm:g}"
         if self.to_nm is not None:
             out["to_nm"] = f"{self.to_nm:g}"
-        if self.medium != "vacuum":
+        if self.medium != DEFAULT_MEDIUM:
             out["medium"] = self.medium
         if self.multipoles:
             out["multipole"] = ",".join(self.multipoles)
@@ -207,6 +221,9 @@ class LineFilter:
             out["min_a"] = f"{self.min_a:g}"
         if self.order != "wavelength":
             out["order"] = self.order
+        for key in LINE_SELECTION_KEYS:
+            if getattr(self, key):
+                out[key] = getattr(self, key)
         return out
 
 
@@ -217,7 +234,7 @@ def line_filter(args: Mapping, *, strict: bool = False) -> LineFilter:
     ``from``/``to`` take any spectral unit (:func:`spectral`); bounds in energy, wavenumber or frequency
     may come in either order.
     """
-    medium = choice(args, "medium", ("vacuum", "air"), "vacuum")
+    medium = choice(args, "medium", ("vacuum", "air"), DEFAULT_MEDIUM)
     window: dict[str, float | None] = {}
     lengths = True
     for end in ("from", "to"):
@@ -241,6 +258,7 @@ def line_filter(args: Mapping, *, strict: bool = False) -> LineFilter:
         multipoles=multipoles(args),
         min_a=number(args, "min_a", minimum=0.0),
         order=LINE_ORDERS[choice(args, "order", tuple(LINE_ORDERS), "wavelength")],
+        **{key: text_param(args, key) or None for key in LINE_SELECTION_KEYS},
     )
     if flt.from_nm is not None and flt.to_nm is not None and flt.from_nm > flt.to_nm:
         raise BadParameter("to_nm", f"the window is empty: from {flt.from_nm:g} nm is above to {flt.to_nm:g} nm")

@@ -22,6 +22,7 @@ from levels.errors import InputFileError, LevelsError
 from levels.io.limits import text_problem
 from levels.io.paths import check_output_path
 from levels.io.tables import format_table, format_text_table, printable, write_atomic
+from levels.service.vocabulary import DEFAULT_MEDIUM, SPECTRAL_OUTPUT_CHOICES
 from levels.store import database
 
 TABLE_FORMATS = ("table", "csv", "json", "ecsv")
@@ -428,8 +429,12 @@ def _multipoles_option(value: str) -> tuple[str, ...]:
 @click.option("--from", "from_", metavar="POSITION",
               help="Window start in any spectral unit (400nm, 4000Å, 25000cm-1, 3.1eV, 750THz).")
 @click.option("--to", metavar="POSITION", help="Window end, with unit (wavelength, wavenumber, energy or frequency).")
-@click.option("--medium", type=click.Choice(["vacuum", "air"]), default="air", show_default=True,
-              help="Medium of the window (lines below 200 nm are always in vacuum).")
+@click.option("--medium", type=click.Choice(["vacuum", "air"]), default=DEFAULT_MEDIUM, show_default=True,
+              help="Medium of the window and of the listed wavelengths: air means air at and above 200 nm, vacuum "
+                   "below (the trade's rule; the same default in the web pages, the JSON API and the Python API).")
+@click.option("--unit", "out_unit", metavar="UNIT",
+              help=f"Add the position column in this unit: {', '.join(SPECTRAL_OUTPUT_CHOICES)} (A and um accepted; "
+                   "lengths in the --medium). Files keep vacuum_nm and air_nm and add the column at the end.")
 @click.option("--multipole", default="E1", show_default=True, help="Comma list of E1, M1, E2 (forbidden lines on request).")
 @click.option("--min-a", type=float, callback=_non_negative_finite, help="Smallest Einstein A, s-1 (lines without a known A are left out).")
 @click.option("--max-upper", metavar="ENERGY", help="Highest upper-level energy (50000cm-1, 6.2eV).")
@@ -451,7 +456,8 @@ def _multipoles_option(value: str) -> tuple[str, ...]:
 @click.option("--output", type=click.Path(dir_okay=False), help="Write to this file (atomically) instead of printing.")
 @click.pass_obj
 @reports_errors
-def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None, medium: str, multipole: str,
+def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None, medium: str, out_unit: str | None,
+          multipole: str,
           min_a: float | None, max_upper: str | None, datasets: tuple[str, ...], order: str, air_formula: str,
           limit: int | None, lower_pattern: str | None, series_pattern: str | None, line_name: str | None,
           multiplets: bool, fmt: str, output: str | None) -> None:
@@ -472,12 +478,24 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
       levels lines "Li I" --multipole E1,M1,E2 --output li-lines.ecsv --format ecsv
       levels lines --from 486nm --to 487nm
       levels lines "H I" --lower "2p 2P°3/2" --series "nd 2D5/2" --multiplets
+      levels lines "He II" --from 0.5keV --to 0.7keV --unit keV
     """
     from levels.catalog import LINE_COLUMNS, LINE_HEADINGS, LINE_LIST_COLUMNS, LINE_UNITS, LineQuery, add_ritz_columns
     from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
-    from levels.service.vocabulary import air_formula_code, air_formula_description
+    from levels.service.vocabulary import (
+        add_spectral_column,
+        air_formula_code,
+        air_formula_description,
+        medium_statement,
+        spectral_output_unit,
+    )
 
     air_formula = air_formula_code(air_formula)  # formulas are named by their authors; old names are aliases
+    try:
+        if out_unit is not None:
+            spectral_output_unit(out_unit)
+    except LevelsError as exc:
+        raise click.BadParameter(str(exc), param_hint="'--unit'") from None
     require_existing_store(obj)
     output_path(output)
     from_nm, to_nm = _window(from_, to, medium, air_formula)
@@ -517,9 +535,20 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
                                     "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
     else:
         add_ritz_columns(rows, medium, air_formula=air_formula)
+    # the listing says its medium and air formula in every format; the position column in the asked unit
+    provenance["medium"] = medium_statement(medium, air_formula)
+    headings = dict(LINE_HEADINGS)
+    if out_unit is not None:
+        key, headings[key] = add_spectral_column(rows, out_unit, medium)
+        if key not in columns:
+            at = columns.index("air_nm") + 1 if fmt == "table" else len(columns)
+            columns = tuple(columns[:at]) + (key,) + tuple(columns[at:])
+        provenance["unit"] = f"{key}: {headings[key]}"
     # one JSON shape for line rows (the emission report's "lines"); "rows" stays as an alias for older readers
-    emit(rows, columns, fmt, provenance, output=output, units=LINE_UNITS, headings=LINE_HEADINGS,
+    emit(rows, columns, fmt, provenance, output=output, units=LINE_UNITS, headings=headings,
          rows_key=("lines", "rows"))
+    if fmt == "table":  # the table's caption, under it (files say it in their header)
+        click.echo(provenance["medium"][0].upper() + provenance["medium"][1:] + " (window, observed and Ritz)")
     if fmt == "table" and info["without_rates"]:
         click.echo(f"{info['without_rates']} of {len(rows)} lines have no known rates (A, f, S left empty)", err=True)
     _warnings(info.get("warnings", ()))
@@ -639,7 +668,8 @@ def optimize(obj: Context, dataset: str, fix: str | None, fmt: str, output: str 
 @click.argument("spectra")
 @click.argument("peaks_file", type=click.Path(exists=True, dir_okay=False))
 @click.option("--tolerance", default="0.005nm", show_default=True,
-              help="Match window, with unit: |peak - line| <= tolerance (unless --window uncertainty).")
+              help="Match window, with unit: |peak - line| <= tolerance (unless --window uncertainty). Any spectral "
+                   "unit: a wavenumber, energy or frequency (0.5cm-1, 1e-4eV, 15GHz) is converted at each peak.")
 @click.option("--window", type=click.Choice(["tolerance", "uncertainty"]), default="tolerance", show_default=True,
               help="tolerance: the window is --tolerance; uncertainty: max(tolerance, N u) per pair, u the peak's "
                    "and line's uncertainties in quadrature.")
@@ -667,17 +697,20 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
       levels identify "H I,D I" peaks.csv --tolerance 0.01nm
     """
     from levels.service.lab import IDENTIFY_COLUMNS
-    from levels.units import wavelength_nm
+    from levels.units import spectral_nm
 
     require_existing_store(obj)
     output_path(output)
     names = [s.strip() for s in spectra.split(",") if s.strip()]
     try:
-        tolerance_nm = wavelength_nm(tolerance)
+        given = spectral_nm(tolerance)
     except LevelsError as exc:
         raise click.BadParameter(str(exc), param_hint="'--tolerance'") from None
-    rows = obj.catalog.identify_peaks(names, peaks_file, tolerance_nm=tolerance_nm,
-                                      max_candidates=candidates, window=window, n_sigma=n_sigma)
+    # a length is the window itself; a wavenumber, energy or frequency is a wavenumber width, converted at each
+    # peak's wavelength (|d lambda| = lambda^2 d sigma)
+    width = {"tolerance_nm": given.nm} if given.is_length else {"tolerance_cm1": 1e7 / given.nm}
+    rows = obj.catalog.identify_peaks(names, peaks_file, max_candidates=candidates, window=window, n_sigma=n_sigma,
+                                      **width)
     rule = (f"window |peak - line| <= {tolerance}" if window == "tolerance"
             else f"window max({tolerance}, {n_sigma:g} combined uncertainties)")
     from levels.service.vocabulary import air_formula_description
@@ -701,7 +734,8 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
 @click.option("--from", "from_", metavar="POSITION",
               help="Window start in any spectral unit (380nm, 26300cm-1, 3.3eV).")
 @click.option("--to", metavar="POSITION", help="Window end (780nm, 12800cm-1, 1.6eV).")
-@click.option("--medium", type=click.Choice(["air", "vacuum"]), default="air", show_default=True)
+@click.option("--medium", type=click.Choice(["air", "vacuum"]), default=DEFAULT_MEDIUM, show_default=True,
+              help="Medium of the window and the listed wavelengths (air: air at and above 200 nm, vacuum below).")
 @click.option("--instrument-fwhm", default="0nm", show_default=True, metavar="WAVELENGTH",
               help="Gaussian instrument profile FWHM.")
 @click.option("--length", "--path-length", "path_length", metavar="LENGTH",

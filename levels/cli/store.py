@@ -170,7 +170,7 @@ def retract(obj: Context, dataset: str, reason: str) -> None:
 
     \b
     Example:
-      levels retract li-cell-7/levels --reason "cell contaminated"
+      levels retract li-cell-amber/levels --reason "cell contaminated"
     """
     from levels.service import maintenance
 
@@ -188,7 +188,7 @@ def restore(obj: Context, dataset: str, reason: str) -> None:
 
     \b
     Example:
-      levels restore li-cell-7/levels
+      levels restore li-cell-amber/levels
     """
     from levels.service import maintenance
 

@@ -268,6 +268,9 @@ UNCERTAINTY_OF: dict[str, str] = {
     "area": "area_unc",
     "te_k": "te_unc_k",
     "ne_m3": "ne_unc_m3",
+    # a line list's position column in the unit asked (levels.service.vocabulary.add_spectral_column)
+    **{name: f"{name}_unc" for name in ("wavelength_nm", "wavelength_angstrom", "wavelength_um", "wavenumber_cm1",
+                                        "photon_energy_ev", "photon_energy_kev", "frequency_hz")},
 }
 
 

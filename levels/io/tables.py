@@ -286,6 +286,9 @@ COLUMN_CONTRACT: dict[str, tuple[str, str | None]] = {
     **{name: ("float64", None) for name in (
         "f_abs", "gf", "lande_g", "rel_intensity", "photon_share", "a_rel_unc", "lifetime_rel_unc", "area", "area_unc",
         "snr", "intensity", "intensity_unc")},
+    # a line list's position column in the unit asked (levels lines --unit)
+    "wavelength_angstrom": ("float64", "Angstrom"), "wavelength_um": ("float64", "um"),
+    "photon_energy_ev": ("float64", "eV"), "photon_energy_kev": ("float64", "keV"), "frequency_hz": ("float64", "Hz"),
     "pressure_pa": ("float64", "Pa"), "current_a": ("float64", "A"), "te_k": ("float64", "K"),
     "tgas_k": ("float64", "K"), "ne_m3": ("float64", "m-3"), "path_length_m": ("float64", "m"),
 }

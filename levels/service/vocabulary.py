@@ -28,6 +28,9 @@ DEFAULT_AIR_FORMULA = "iau2000"
 AIR_FLOOR_NM: float = _air.AIR_MIN_NM
 #: media of a wavelength window
 MEDIA: tuple[str, ...] = ("air", "vacuum")
+#: the one default medium of every front end (CLI, web pages, JSON API, Python API): "air" means the trade's
+#: rule, air wavelengths at and above the 200 nm floor and vacuum wavelengths below it (common practice, no source)
+DEFAULT_MEDIUM = "air"
 #: multipoles the line engine builds from levels
 ENGINE_MULTIPOLES: tuple[str, ...] = ("E1", "M1", "E2")
 #: the warning raised when an air formula is used outside its published range
@@ -123,6 +126,45 @@ AIR_FORMULA_ALIASES: dict[str, str] = {"morton2000": "iau2000"}
 AIR_FORMULA_CHOICES: tuple[str, ...] = ("morton2000", "edlen1966", "ciddor1996", "iau2000")
 #: the default air formula as people name it
 DEFAULT_AIR_FORMULA_NAME = "morton2000"
+
+
+def medium_statement(medium: str, air_formula: str | None = None) -> str:
+    """What the wavelengths of a listing are, in words, for every header and heading.
+
+    Parameters
+    ----------
+    medium : {"air", "vacuum"}
+        The listing's medium.
+    air_formula : str, optional
+        The air formula's code or name (default :data:`DEFAULT_AIR_FORMULA`), or the description a dataset
+        recorded; named for air listings only.
+
+    Raises
+    ------
+    PhysicsInputError
+        An unknown medium.
+
+    Examples
+    --------
+    >>> medium_statement("vacuum")
+    'wavelengths in vacuum'
+    >>> medium_statement("air", "edlen1966")
+    'wavelengths in air at and above 200 nm (Edlen 1966), in vacuum below'
+    """
+    if medium not in MEDIA:
+        raise PhysicsInputError(f"medium must be one of {', '.join(MEDIA)}, not {medium!r}")
+    if medium == "vacuum":
+        return "wavelengths in vacuum"
+    name = air_formula or DEFAULT_AIR_FORMULA
+    code = AIR_FORMULA_ALIASES.get(name, name)
+    # a formula's code or name gives its authors; a recorded description (a dataset's options) is quoted as it is
+    who = AIR_FORMULA_AUTHORS.get(code, name)
+    return f"wavelengths in air at and above {AIR_FLOOR_NM:g} nm ({who}), in vacuum below"
+
+
+#: the authors' short name of each air formula code, for headings
+AIR_FORMULA_AUTHORS: dict[str, str] = {"iau2000": "Morton 2000", "edlen1966": "Edlen 1966",
+                                       "ciddor1996": "Ciddor 1996"}
 
 
 def air_formula_code(name: str) -> str:
@@ -332,3 +374,91 @@ def hydrogenic_corrections(*, recoil: bool = True, qed: bool = True, finite_size
 
     return Corrections(recoil=recoil, self_energy=qed, vacuum_polarization=qed, finite_size=finite_size,
                        higher_order=qed)
+
+
+#: output units of a line list's position column, as people type them -> (canonical name, column key, kind,
+#: factor from the kind's base: nm for lengths, cm-1 for "wavenumber", eV for "energy", Hz for "frequency")
+SPECTRAL_OUTPUT_UNITS: dict[str, tuple[str, str, str, float]] = {
+    "nm": ("nm", "wavelength_nm", "length", 1.0),
+    "Å": ("Å", "wavelength_angstrom", "length", 10.0),
+    "A": ("Å", "wavelength_angstrom", "length", 10.0),
+    "angstrom": ("Å", "wavelength_angstrom", "length", 10.0),
+    "µm": ("µm", "wavelength_um", "length", 1e-3),
+    "um": ("µm", "wavelength_um", "length", 1e-3),
+    "cm-1": ("cm-1", "wavenumber_cm1", "wavenumber", 1.0),
+    "eV": ("eV", "photon_energy_ev", "energy", 1.0),
+    "keV": ("keV", "photon_energy_kev", "energy", 1e-3),
+    "Hz": ("Hz", "frequency_hz", "frequency", 1.0),
+}
+#: the unit choices offered to people (CLI --unit, web ``unit=``, Python API ``unit=``)
+SPECTRAL_OUTPUT_CHOICES: tuple[str, ...] = ("nm", "Å", "µm", "cm-1", "eV", "keV", "Hz")
+_UNIT_LABELS = {"cm-1": "cm⁻¹"}
+
+
+def spectral_output_unit(unit: str) -> tuple[str, str, str]:
+    """(canonical unit, column key, heading) of a line list's position column in ``unit``.
+
+    Lengths are wavelengths in the listing's medium; wavenumbers, photon energies and frequencies are
+    properties of the photon (vacuum quantities: sigma, h c sigma, c sigma).
+
+    Raises
+    ------
+    PhysicsInputError
+        An unknown unit (the message lists the choices).
+
+    Examples
+    --------
+    >>> spectral_output_unit("A"), spectral_output_unit("keV")[1]
+    (('Å', 'wavelength_angstrom', 'λ [Å]'), 'photon_energy_kev')
+    """
+    key = unit.strip() if isinstance(unit, str) else unit
+    lowered = {k.lower(): v for k, v in SPECTRAL_OUTPUT_UNITS.items()}
+    entry = SPECTRAL_OUTPUT_UNITS.get(key) or (lowered.get(key.lower()) if isinstance(key, str) else None)
+    if entry is None:
+        raise PhysicsInputError(f"unit must be one of {', '.join(SPECTRAL_OUTPUT_CHOICES)}, not {unit!r}")
+    name, column, kind, _ = entry
+    shown = _UNIT_LABELS.get(name, name)
+    heading = {"length": f"λ [{shown}]", "wavenumber": f"σ [{shown}]", "energy": f"photon energy [{shown}]",
+               "frequency": f"ν [{shown}]"}[kind]
+    return name, column, heading
+
+
+def add_spectral_column(rows: Sequence[dict], unit: str, medium: str) -> tuple[str, str]:
+    """Fill each row's position in ``unit`` (in place) and return (column key, heading).
+
+    A length is the row's wavelength in ``medium`` (the air wavelength at and above 200 nm when ``medium`` is
+    air, else the vacuum wavelength); a wavenumber, photon energy or frequency follows from the vacuum
+    wavenumber (``wavenumber_cm1``, else ``1e7 / vacuum_nm``). Constants: CODATA via scipy.constants.
+
+    Examples
+    --------
+    >>> rows = [{"vacuum_nm": 656.4696, "air_nm": 656.2796, "wavenumber_cm1": 15233.07}]
+    >>> add_spectral_column(rows, "Å", "air"), round(rows[0]["wavelength_angstrom"], 3)
+    (('wavelength_angstrom', 'λ (air ≥ 200 nm) [Å]'), 6562.796)
+    >>> add_spectral_column(rows, "eV", "air")[0], round(rows[0]["photon_energy_ev"], 5)
+    ('photon_energy_ev', 1.88866)
+    """
+    from levels.units import CM1_HZ, CM1_J, E_CHARGE
+
+    if medium not in MEDIA:
+        raise PhysicsInputError(f"medium must be one of {', '.join(MEDIA)}, not {medium!r}")
+    name, column, heading = spectral_output_unit(unit)
+    kind, factor = SPECTRAL_OUTPUT_UNITS[name][2], SPECTRAL_OUTPUT_UNITS[name][3]
+    scale = {"wavenumber": 1.0, "energy": CM1_J / E_CHARGE * factor, "frequency": CM1_HZ}
+    for row in rows:
+        vacuum, unc_nm = row.get("vacuum_nm"), row.get("unc_nm")
+        sigma = row.get("wavenumber_cm1") or (1e7 / vacuum if vacuum else None)
+        if kind == "length":
+            nm = row.get("air_nm") if medium == "air" and row.get("air_nm") is not None else vacuum
+            row[column] = None if nm is None else nm * factor
+            unc = None if unc_nm is None else unc_nm * factor
+        elif sigma is None:
+            row[column] = unc = None
+        else:
+            row[column] = sigma * scale[kind]
+            # |d sigma| = d lambda / lambda^2 (1e7 from nm cm-1)
+            unc = None if unc_nm is None or not vacuum else unc_nm * 1e7 / vacuum**2 * scale[kind]
+        row[column + "_unc"] = unc  # not a column: the display rounds the value to it
+    if kind == "length":
+        heading = heading.replace("λ ", "λ (air ≥ 200 nm) " if medium == "air" else "λ vacuum ")
+    return column, heading

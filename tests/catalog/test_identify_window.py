@@ -58,7 +58,7 @@ def test_weak_candidate_is_no_rival():
 
 
 def test_cli_identify_keeps_inside_tolerance(catalog, store_url):
-    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-7", dataset="li/levels")
+    catalog.import_file(DEMO / "sample-li-cell.csv", sample="li-cell-amber", dataset="li/levels")
     runner = CliRunner()
     args = ["--db", store_url, "identify", "Li I", str(DEMO / "peaks-li-cell.csv"), "--tolerance", "0.003nm"]
     table = runner.invoke(main, args)
