@@ -17,6 +17,7 @@ from sqlalchemy.orm import Session
 from levels import __version__
 from levels.errors import PhysicsInputError
 from levels.notation import Spectrum, format_j, parse_spectrum
+from levels.service import lookup
 from levels.service.contract import DEFAULT_MAX_STORE_BYTES
 from levels.service.derived import DERIVED_ROLE, store_derived_lines
 from levels.store import queries
@@ -82,7 +83,7 @@ def compute_hydrogenic(catalog, spectrum: str | Spectrum, *, mass_number: int | 
     lines = model.lines
 
     def work(session: Session) -> dict:
-        species = queries.get_or_create_species(session, species_spec)
+        species = lookup.get_or_create_species(session, species_spec)
         # the earlier computation is found by role and species (never by name); levels of it that
         # lines of other datasets (measured lines, say) join keep their ids and are updated in place
         ds = queries.replace_computed_dataset(

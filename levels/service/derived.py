@@ -20,6 +20,7 @@ from levels import __version__
 from levels.errors import PhysicsInputError, TooLargeError
 from levels.io import records as level_io
 from levels.notation import Spectrum
+from levels.service import lookup
 from levels.store import queries
 from levels.store.schema import Species
 
@@ -63,7 +64,7 @@ def rebuild_derived_lines(session: Session, spectra: Iterable[Spectrum], actor: 
     """
     counts: dict[str, int] = {}
     for spec in sorted(set(spectra), key=lambda sp: (sp.z, sp.charge, sp.mass_number or 0)):
-        species = queries.find_species(session, spec)
+        species = lookup.find_species(session, spec)
         if species is not None:
             counts[species.name] = store_derived_lines(session, species, actor, max_lines=max_lines, source=source)
     return counts

@@ -44,6 +44,7 @@ from levels.physics.discharge import excitation as cr_excitation
 from levels.physics.discharge import neutral_broadening, slab_transfer, stark, validity
 from levels.physics.plasma import equilibrium as plasma
 from levels.physics.plasma import spectrum as spectra
+from levels.service import lookup
 from levels.service.contract import LineQuery
 from levels.service.lines import species_lines
 from levels.store import queries
@@ -114,13 +115,13 @@ def discharge_emission(catalog, spectrum: str, *, te_k: float, ne_m3: float, tga
     rows, info = species_lines(catalog, LineQuery(spectrum=spectrum, datasets=tuple(datasets) if datasets else None))
 
     def work(session):
-        species = queries.require_species(session, spec)
+        species = lookup.require_species(session, spec)
         chosen = queries.visible_datasets(session, datasets)
         levels = queries.levels_by_precedence(session, species, chosen)
         limit = queries.ionization_limit(session, species, chosen)
         next_ion = None
         if species.charge + 1 < species.z:
-            nxt = queries.find_species(session, Spectrum(species.z, species.charge + 1, species.mass_number))
+            nxt = lookup.find_species(session, Spectrum(species.z, species.charge + 1, species.mass_number))
             if nxt is not None:
                 next_ion = queries.levels_by_precedence(session, nxt, chosen)
         return species, levels, limit, next_ion

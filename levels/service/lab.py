@@ -21,6 +21,7 @@ from levels.io.records import read_peaks_file
 from levels.isotopes import isotope
 from levels.notation import label_pattern_to_regex, parse_spectrum
 from levels.physics.lines import air, ritz, series
+from levels.service import lookup
 from levels.service.contract import LineQuery
 from levels.service.lines import species_lines
 from levels.store import queries
@@ -42,7 +43,7 @@ def fit_and_store_limit(catalog, spectrum: str, patterns: Sequence[str], *, data
     def work(session: Session) -> dict:
         report = fit_limit(session, spec, patterns, datasets=datasets, n_defect_terms=n_defect_terms, n_min=n_min)
         if save:
-            species = queries.require_species(session, spec)
+            species = lookup.require_species(session, spec)
             name = f"series limit {species.name} A={species.mass_number}"
             save_limit(session, species, report, catalog.actor, name)
             queries.record_audit(session, "fit-limit", f"dataset {name}",
@@ -129,7 +130,7 @@ def store_measured_lines(session: Session, records: Sequence[io_records.LineReco
     rows, kept, pairs = [], [], []
     for rec in records:
         if rec.spectrum not in by_species:
-            species = queries.find_species(session, rec.spectrum)
+            species = lookup.find_species(session, rec.spectrum)
             levels = queries.levels_by_precedence(session, species, chosen) if species else []
             by_species[rec.spectrum] = (species, {lv.label: lv for lv in levels})
         species, labels = by_species[rec.spectrum]
@@ -271,7 +272,7 @@ def fit_limit(session: Session, spectrum, patterns: Sequence[str], *, datasets: 
     Returns the design's report: ``limit_cm1``, ``limit_unc_cm1``, ``series`` (pattern, n_used,
     quantum_defects, residuals_cm1), ``warnings``, plus the stored limit of the species for comparison.
     """
-    species = queries.require_species(session, spectrum)
+    species = lookup.require_species(session, spectrum)
     chosen = queries.visible_datasets(session, datasets)
     levels = queries.levels_by_precedence(session, species, chosen)
     data, warnings = [], []

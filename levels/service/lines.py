@@ -16,7 +16,7 @@ from sqlalchemy.orm import Session
 
 from levels.errors import NotFoundError, PhysicsInputError
 from levels.notation import hydrogen_line_name, parse_spectrum, principal_number
-from levels.service import duplicates
+from levels.service import duplicates, lookup
 from levels.service.contract import MULTIPOLE_CODES, LineQuery
 from levels.service.derived import store_derived_lines
 from levels.store import queries
@@ -43,7 +43,7 @@ def line_rows(catalog, query: LineQuery, *, air_formula: str | None = None) -> t
         convert = air_formula is not None and any(code != air_formula for code in recorded.values())
         species_ids = None
         if query.spectrum is not None:
-            species_ids = [queries.require_species(session, parse_spectrum(query.spectrum)).id]
+            species_ids = [lookup.require_species(session, parse_spectrum(query.spectrum)).id]
         window = {}
         if query.medium == "air" and convert:
             lo, hi = vocabulary.air_window_to_vacuum(query.from_nm, query.to_nm, air_formula)
@@ -89,7 +89,7 @@ def species_lines(catalog, query: LineQuery, *, multipoles: Sequence[str] = ("E1
     spec = parse_spectrum(query.spectrum)
 
     def work(session: Session):
-        species = queries.require_species(session, spec)
+        species = lookup.require_species(session, spec)
         chosen = queries.visible_datasets(session, query.datasets)
         levels = queries.levels_by_precedence(session, species, chosen)
         stored = queries.stored_lines_between(session, [lv.id for lv in levels], [d.id for d in chosen])
@@ -130,7 +130,7 @@ def recompute_lines(catalog, spectrum: str) -> int:
     spec = parse_spectrum(spectrum)
 
     def work(session: Session) -> int:
-        species = queries.require_species(session, spec)
+        species = lookup.require_species(session, spec)
         count = store_derived_lines(session, species, catalog.actor)
         queries.record_audit(session, "recompute-lines", f"species {species.name}",
                              {"derived_lines": count}, actor=catalog.actor)

@@ -45,6 +45,7 @@ from sqlalchemy.orm import Session
 from levels import __version__
 from levels.errors import NotationError, NotFoundError, PhysicsInputError
 from levels.notation import Spectrum, Term, format_j, l_letter, parse_configuration, parse_level_term, parse_spectrum
+from levels.service import lookup
 from levels.service.rates_common import LevelInput, LineRate, MethodResult
 from levels.store import queries
 from levels.store.schema import Dataset, IonizationLimit, Level, Species
@@ -347,7 +348,7 @@ def compute_rates(catalog, spectrum: str | Spectrum, *, method: str = "auto",
     spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
 
     def read(session: Session):
-        species = queries.require_species(session, spec)
+        species = lookup.require_species(session, spec)
         chosen = [d for d in queries.visible_datasets(session, datasets)
                   if not (d.role == RATES_ROLE and d.owner_species_id == species.id)]
         levels = queries.levels_by_precedence(session, species, chosen)

@@ -23,6 +23,7 @@ import numpy as np
 
 from levels.errors import PhysicsInputError
 from levels.notation import Spectrum
+from levels.service import lookup
 from levels.store import columns as store_columns
 from levels.store import database, queries
 
@@ -199,7 +200,7 @@ class ReadCache:
 
     def _load_lines(self, spectrum: Spectrum) -> SpeciesLines:
         def work(session):
-            species = queries.require_species(session, spectrum)
+            species = lookup.require_species(session, spectrum)
             chosen = queries.visible_datasets(session)
             cols = store_columns.species_line_columns(session, species.id, [d.id for d in chosen])
             return species.name, {d.id: d.name for d in chosen}, cols

@@ -12,6 +12,7 @@ from sqlalchemy.orm import Session
 
 from levels.errors import NotFoundError
 from levels.notation import Spectrum, format_j, parse_spectrum
+from levels.service import lookup
 from levels.store import queries
 from levels.store.schema import Level
 
@@ -45,7 +46,7 @@ def species_rows(catalog) -> list[dict]:
 def species_row(catalog, spectrum: str | Spectrum) -> dict:
     """One row of :func:`species_rows` (NotFoundError if the species is not stored)."""
     spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
-    name = catalog.read(lambda session: queries.require_species(session, spec).name)
+    name = catalog.read(lambda session: lookup.require_species(session, spec).name)
     for row in species_rows(catalog):
         if row["spectrum"] == name:
             return row
@@ -57,7 +58,7 @@ def level_rows(catalog, spectrum: str | Spectrum, datasets: Sequence[str] | None
     spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
 
     def work(session: Session) -> list[dict]:
-        species = queries.require_species(session, spec)
+        species = lookup.require_species(session, spec)
         chosen = queries.visible_datasets(session, datasets)
         names = {d.id: d.name for d in chosen}
         levels = queries.levels_by_precedence(session, species, chosen)

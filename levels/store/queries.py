@@ -25,7 +25,6 @@ from levels.errors import (
     Problem,
     ReservedNameError,
 )
-from levels.isotopes import default_isotope, isotope
 from levels.notation import Spectrum
 from levels.store.schema import (
     COMPUTED_ROLES,
@@ -59,11 +58,12 @@ def record_audit(session: Session, action: str, target: str, detail: dict | None
 
 # ----------------------------------------------------------------- species
 
-def find_species(session: Session, spectrum: Spectrum) -> Species | None:
+def find_species(session: Session, spectrum: Spectrum, *, default_mass_number: int | None = None) -> Species | None:
     """The stored species for a spectrum, or None.
 
-    Without a mass number, the default isotope is preferred; if it is absent and
-    exactly one isotope of that ion is stored, that one is taken.
+    Without a mass number, the isotope ``default_mass_number`` is preferred (the service's choice,
+    :func:`levels.service.lookup.find_species`); if it is absent and exactly one isotope of that ion
+    is stored, that one is taken.
     """
     if spectrum.mass_number is not None:
         return session.scalars(select(Species).where(
@@ -73,16 +73,15 @@ def find_species(session: Session, spectrum: Spectrum) -> Species | None:
                            .order_by(Species.mass_number)).all()
     if not rows:
         return None
-    default_a = default_isotope(spectrum.z).mass_number
     for row in rows:
-        if row.mass_number == default_a:
+        if default_mass_number is not None and row.mass_number == default_mass_number:
             return row
     return rows[0] if len(rows) == 1 else None
 
 
-def require_species(session: Session, spectrum: Spectrum) -> Species:
+def require_species(session: Session, spectrum: Spectrum, *, default_mass_number: int | None = None) -> Species:
     """Like :func:`find_species` but raise :class:`NotFoundError`."""
-    species = find_species(session, spectrum)
+    species = find_species(session, spectrum, default_mass_number=default_mass_number)
     if species is None:
         others = session.scalars(select(Species).where(Species.z == spectrum.z, Species.charge == spectrum.charge)
                                  .order_by(Species.mass_number)).all()
@@ -96,13 +95,8 @@ def require_species(session: Session, spectrum: Spectrum) -> Species:
     return species
 
 
-def get_or_create_species(session: Session, spectrum: Spectrum) -> Species:
-    """The stored species, created (default isotope if none given) when absent."""
-    found = find_species(session, spectrum)
-    if found is not None:
-        return found
-    mass_number = spectrum.mass_number or default_isotope(spectrum.z).mass_number
-    isotope(spectrum.z, mass_number)  # raises NotFoundError for an unknown isotope
+def create_species(session: Session, spectrum: Spectrum, mass_number: int) -> Species:
+    """Add a species (isotope ``mass_number``; hydrogen's isotopes get their own names, D I, T I)."""
     named = Spectrum(spectrum.z, spectrum.charge, mass_number)
     species = Species(z=spectrum.z, charge=spectrum.charge, mass_number=mass_number,
                       name=named.name if spectrum.z == 1 else spectrum.name)

@@ -17,9 +17,10 @@ from pathlib import Path
 
 import numpy as np
 
-from levels.catalog import Catalog, _hydrogenic_level_rows
+from levels.catalog import Catalog
 from levels.isotopes import isotope
 from levels.physics.one_electron import hydrogenic
+from levels.service.computed import hydrogenic_level_rows
 from levels.store.queries import LINE_INSERT_COLUMNS
 
 from tests.bench.harness import BenchResult
@@ -32,7 +33,7 @@ def _fresh_store(folder: Path, name: str) -> Catalog:
 
 
 def _raw_insert(path: Path, model) -> float:
-    levels = _hydrogenic_level_rows(model)
+    levels = hydrogenic_level_rows(model)
     level_cols = list(levels[0])
     lines = model.lines
     count = len(lines["upper"])

@@ -30,6 +30,7 @@ import numpy as np
 
 from levels.catalog import Catalog
 from levels.notation import Spectrum, format_configuration, l_letter, level_label, parse_configuration
+from levels.service import lookup
 from levels.store import database, queries
 from levels.store.schema import Level, Line
 
@@ -73,7 +74,7 @@ def big_store() -> tuple[str, str]:
     chosen = _synthetic_rows()
 
     def work(session):
-        species = queries.get_or_create_species(session, Spectrum(11, 0))
+        species = lookup.get_or_create_species(session, Spectrum(11, 0))
         ds = queries.create_dataset(session, name="synthetic-big", kind="computed", method="synthetic benchmark data",
                                     method_version="1")
         rows = []
