@@ -21,6 +21,7 @@ from levels.errors import AlreadyExistsError, InputFileError, PhysicsInputError,
 from levels.io import records as level_io
 from levels.io.tables import read_delimited
 from levels.notation import Spectrum
+from levels.service import lookup
 from levels.service.contract import ImportReport
 from levels.service.derived import precheck_derived_lines, rebuild_derived_lines
 from levels.service.duplicates import import_duplicate_warnings
@@ -295,7 +296,7 @@ def insert_level_records(session: Session, records: Sequence[level_io.LevelRecor
         rows = []
         for rec in records[start:start + block]:
             if rec.spectrum not in species_ids:
-                species_ids[rec.spectrum] = queries.get_or_create_species(session, rec.spectrum).id
+                species_ids[rec.spectrum] = lookup.get_or_create_species(session, rec.spectrum).id
             rows.append(level_insert_row(rec, dataset_id, species_ids[rec.spectrum]))
         queries.insert_full_rows(session, Level, rows)
     session.flush()
