@@ -124,7 +124,8 @@ def _counts(counts: dict) -> str:
 
 
 @main.command()
-@click.option("--limit", type=click.IntRange(min=0), default=50, show_default=True, help="At most this many entries (0: all).")
+@click.option("--limit", type=click.IntRange(min=0), default=50, show_default=True,
+              help="At most this many entries (0: all).")
 @click.option("--action", metavar="ACTION", help="Only this action (import-levels, retract-dataset, ...).")
 @click.option("--target", metavar="TEXT", help="Only entries whose target contains TEXT.")
 @click.option("--format", "fmt", type=click.Choice(["table", "json"]), default="table", show_default=True)

@@ -115,11 +115,13 @@ COLUMNS: dict[str, dict[str, Column]] = {
     },
     "levels": {
         "id": _ID, "dataset_id": _FK, "species_id": _FK, "label": _text(200), "configuration": _text(200),
-        "state_configuration": _text(200), "term": _text(32), "two_j": _int(0, INT_MAX - 1, nullable=True), "g": _int(1), "parity": _int(-1, 1),
+        "state_configuration": _text(200), "term": _text(32), "two_j": _int(0, INT_MAX - 1, nullable=True),
+        "g": _int(1), "parity": _int(-1, 1),
         "energy_cm1": _float(0.0, MAX_ENERGY_CM1, low_open=False, high_open=False),
         "unc_cm1": _float(0.0, MAX_ENERGY_CM1, low_open=False, high_open=False, nullable=True),
         "multiplicity": _int(1, nullable=True), "big_l": _int(0, nullable=True), "n": _int(1, nullable=True),
-        "l": _int(0, nullable=True), "lifetime_s": Column("float", 0.0, math.inf, True, False, nullable=True, infinity_ok=True),
+        "l": _int(0, nullable=True),
+        "lifetime_s": Column("float", 0.0, math.inf, True, False, nullable=True, infinity_ok=True),
         "lande_g": _float(-1e3, 1e3, low_open=False, high_open=False, nullable=True),
     },
     "lines": {

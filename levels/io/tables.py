@@ -198,7 +198,8 @@ def read_delimited(path_or_bytes: str | os.PathLike | bytes, *, source: str | No
             problems.append(Problem(name, offset, None, f"malformed CSV: {exc}"))
             continue
         if len(cells) != len(header):
-            problems.append(Problem(name, offset, None, f"expected {len(header)} fields as in the header, found {len(cells)}"))
+            problems.append(Problem(name, offset, None,
+                                    f"expected {len(header)} fields as in the header, found {len(cells)}"))
             if len(problems) >= MAX_PROBLEMS:
                 break
             continue

@@ -87,7 +87,8 @@ class Sample(Base):
 
     __tablename__ = "samples"
     __table_args__ = (
-        CheckConstraint(_finite("pressure_pa", True) + " AND (pressure_pa IS NULL OR pressure_pa >= 0)", name="pressure"),
+        CheckConstraint(_finite("pressure_pa", True) + " AND (pressure_pa IS NULL OR pressure_pa >= 0)",
+                        name="pressure"),
         CheckConstraint("te_k IS NULL OR (te_k > 0 AND te_k < 1e12)", name="te"),
         CheckConstraint("ne_m3 IS NULL OR (ne_m3 > 0 AND ne_m3 < 1e40)", name="ne"),
         CheckConstraint("tgas_k IS NULL OR (tgas_k > 0 AND tgas_k < 1e12)", name="tgas"),
@@ -215,7 +216,8 @@ class Line(Base):
         CheckConstraint("air_nm IS NULL OR (air_nm > 0 AND air_nm < 1e300)", name="air_positive"),
         CheckConstraint("a_per_s IS NULL OR (a_per_s >= 0 AND a_per_s < 1e300)", name="a_valid"),
         CheckConstraint("f_abs IS NULL OR (f_abs >= 0 AND f_abs < 1e300)", name="f_valid"),
-        CheckConstraint("line_strength_au IS NULL OR (line_strength_au >= 0 AND line_strength_au < 1e300)", name="s_valid"),
+        CheckConstraint("line_strength_au IS NULL OR (line_strength_au >= 0 AND line_strength_au < 1e300)",
+                        name="s_valid"),
         CheckConstraint("unc_nm IS NULL OR (unc_nm >= 0 AND unc_nm < 1e300)", name="unc_valid"),
         CheckConstraint("observed_nm IS NULL OR (observed_nm > 0 AND observed_nm < 1e300)", name="observed_positive"),
         CheckConstraint("medium IN ('air', 'vacuum', '')", name="medium_name"),

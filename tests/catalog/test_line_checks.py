@@ -69,7 +69,8 @@ def test_a_line_within_its_uncertainty_is_accepted(na, tmp_path):
 
 def test_off_ritz_lines_accepted_with_a_recorded_reason(na, tmp_path):
     body = "Na I,3s 2S1/2,3p 2P°1/2,735.294118,vacuum,0.001,E1\n"
-    report = na.import_file(_lines(tmp_path, body), dataset="drifting lamp", allow_off_ritz="lamp drifted; kept for the record")
+    report = na.import_file(_lines(tmp_path, body), dataset="drifting lamp",
+                            allow_off_ritz="lamp drifted; kept for the record")
     assert report.lines == 1 and any("accepted" in w for w in report.warnings)
     info = na.dataset_info("drifting lamp")
     assert info["options"]["allow_off_ritz"] == "lamp drifted; kept for the record"

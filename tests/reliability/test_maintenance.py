@@ -34,7 +34,8 @@ def test_every_catalog_write_records_one_audit_entry(catalog):
         (lambda: catalog.compute_hydrogenic("H I", n_max=4), ("compute-hydrogenic", "dataset hydrogenic H I A=1")),
         (lambda: catalog.import_file(DEMO / "sample-li-cell.csv", sample="s", dataset="li/levels"),
          ("import-levels", "dataset li/levels")),
-        (lambda: catalog.import_file(DEMO / "lines-li-cell.csv", dataset="li/lines"), ("import-lines", "dataset li/lines")),
+        (lambda: catalog.import_file(DEMO / "lines-li-cell.csv", dataset="li/lines"),
+         ("import-lines", "dataset li/lines")),
         (lambda: catalog.fit_limit("Li I", ["ns 2S1/2"], n_min=4), ("fit-limit", "dataset series limit Li I A=7")),
         (lambda: catalog.create_sample("cell-9", gas_fill="Ne"), ("create-sample", "sample cell-9")),
         (lambda: catalog.add_levels("li/levels", validate_levels(

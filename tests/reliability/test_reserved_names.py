@@ -101,6 +101,7 @@ def test_user_data_under_reserved_file_names_survives_every_rebuild(catalog, tmp
         made.append(report.dataset)
     cross = catalog.import_file(_file(tmp_path, "derived lines Na I A=23 (li).csv", LEVEL_HEADER, LI),
                                 dataset="li cell")
+    assert cross.dataset == "li cell" and cross.levels == 4  # an explicit name wins over the file's reserved-form name
     lines = catalog.import_file(_file(tmp_path, "derived lines Na I A=23.csv", LINE_HEADER, NA_LINE))
     assert lines.dataset == "measured derived lines Na I A=23 (2)"
     before = _user_rows(catalog)

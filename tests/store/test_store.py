@@ -85,7 +85,8 @@ def test_second_import_gets_a_new_dataset_name_and_explicit_clash_is_refused(cat
 
 def test_precedence_first_dataset_wins(catalog, tmp_path):
     a = tmp_path / "a.csv"
-    a.write_text("spectrum,configuration,term,j,energy_cm1\nNa I,3s,2S,1/2,0\nNa I,3p,2P°,1/2,100.0\n", encoding="utf-8")
+    a.write_text("spectrum,configuration,term,j,energy_cm1\nNa I,3s,2S,1/2,0\nNa I,3p,2P°,1/2,100.0\n",
+                 encoding="utf-8")
     b = tmp_path / "b.csv"
     b.write_text("spectrum,configuration,term,j,energy_cm1\nNa I,3s,2S,1/2,0\nNa I,3p,2P°,1/2,200.0\n"
                  "Na I,3p,2P°,3/2,210.0\n", encoding="utf-8")
@@ -116,7 +117,8 @@ def _raw_level(catalog, **overrides):
 
 
 @pytest.mark.parametrize("overrides", [
-    {"two_j": -1, "g": 0}, {"g": 3}, {"parity": 0}, {"energy_cm1": math.inf}, {"energy_cm1": -math.inf}, {"energy_cm1": math.nan},
+    {"two_j": -1, "g": 0}, {"g": 3}, {"parity": 0},
+    {"energy_cm1": math.inf}, {"energy_cm1": -math.inf}, {"energy_cm1": math.nan},
     {"unc_cm1": -1.0}, {"species_id": 999}, {"dataset_id": 999},
 ])
 def test_schema_constraints_refuse_bad_rows(catalog, overrides):
