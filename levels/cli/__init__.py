@@ -541,7 +541,7 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     if out_unit is not None:
         key, headings[key] = add_spectral_column(rows, out_unit, medium)
         if key not in columns:
-            at = columns.index("air_nm") + 1 if fmt == "table" else len(columns)
+            at = columns.index("upper") + 1 if fmt == "table" else len(columns)  # people see it first
             columns = tuple(columns[:at]) + (key,) + tuple(columns[at:])
         provenance["unit"] = f"{key}: {headings[key]}"
     # one JSON shape for line rows (the emission report's "lines"); "rows" stays as an alias for older readers
