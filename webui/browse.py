@@ -108,7 +108,7 @@ def _line_state(ref: services.SpeciesRef | None, errors: dict, prefix: str = "l"
             rows, total = every[pg.offset:pg.offset + pg.per], len(every)
         else:
             rows, total = services.line_page(cat, ref, flt, pg)
-        add_ritz_columns(rows, flt.medium)
+        services.add_ritz_columns(ref, rows, flt.medium)
     except BadParameter as exc:
         errors[exc.field] = exc.message
         flt, pg, rows, total = LineFilter(), Page(1, _per_page()), [], 0
@@ -168,7 +168,8 @@ def _line_download(ref: services.SpeciesRef | None, fmt: str, stem: str):
         selected = _selected(services.all_lines(cat, ref, flt), flt) if flt.selects else None
     except BadParameter as exc:
         abort(400, description=str(exc))
-    rows = add_ritz_columns(selected if selected is not None else services.all_lines(cat, ref, flt), flt.medium)
+    rows = services.add_ritz_columns(ref, selected if selected is not None else services.all_lines(cat, ref, flt),
+                                     flt.medium)
     used = sorted({r["dataset"] for r in rows})
     provenance = cat.provenance(flt.query(services.line_name(ref)).describe(), used,
                                 medium=flt.medium, air_formula=services.air_formula(cat, used))
@@ -313,27 +314,61 @@ def diagram_json(spectrum: str):
     """The diagram figure with at most ``max_lines`` lines, strongest A first, and what was left out.
 
     The species' levels (and their part of the figure, serialised once) and its stored
-    lines (as arrays) are kept until the store changes; a request filters and picks
-    lines with numpy and serialises only the line traces.
+    lines (as arrays) are kept until the store changes; so is each figure drawn from
+    stored lines, serialised and gzip-compressed, under the lines it draws: a request
+    whose filter draws the same lines only writes its own head (counts, filter, the list
+    beside the figure). A weak ETag (store revision and query) answers a repeated request
+    with 304 Not Modified.
     """
     try:
         ref = services.resolve_species(services.catalog(), spectrum, request.args.get("mass_number"))
     except NotFoundError as exc:
         return json_response({"error": {"code": "not_found", "message": str(exc), "field": "spectrum"}}, 404)
+    tag = services.response_tag(current_app.config["LEVELS_DIAGRAM_MAX_LINES"])
+    if request.if_none_match.contains_weak(tag):
+        return services.not_modified(tag)
     cat = services.catalog()
     without_rates = None
-    hover_json = level_index = None
 
     def layer_of(energy_unit: str, axis: str = "linear"):
         return services.cached(("diagram-levels", ref.spectrum, energy_unit, axis),
                                lambda: level_layer(services.species_levels(ref), energy_unit, axis,
                                                    ref.row["ionization_cm1"]))
 
+    def start_of(energy_unit: str, axis: str) -> tuple[str, GzipPrefix]:
+        # the figure's start (the level traces) is the same for every filter until the store changes:
+        # written, and its gzip encoding begun, once
+        def start():
+            text = '{"figure":' + diagram_json_start(layer_of(energy_unit, axis))
+            return text, GzipPrefix(text.encode("utf-8"))
+
+        return services.cached(("diagram-start", ref.spectrum, energy_unit, axis), start)
+
+    def rest_of(arrays: LineArrays, hover_json=None, level_index=None) -> tuple[str, int]:
+        return diagram_json_rest(layer_of(unit, axis), arrays, medium=flt.medium,
+                                 ionization_cm1=ref.row["ionization_cm1"], title=f"{ref.name} level diagram",
+                                 hover_json=hover_json, level_index=level_index)
+
+    def stored_figure(stored, index: np.ndarray) -> tuple[str, GzipPrefix, int]:
+        # every line's hover text (JSON-encoded) and level rows, built once per store revision
+        every = services.cached(("diagram-hover", ref.spectrum, flt.medium), lambda: np.array(
+            [json.dumps(text, ensure_ascii=False)
+             for text in line_hover(LineArrays.from_columns(stored.columns), flt.medium, ref.name)],
+            dtype=object))
+        rows_of = services.cached(("diagram-level-rows", ref.spectrum), lambda: (
+            level_rows_of(layer_of("cm-1"), stored.columns["lower"]),
+            level_rows_of(layer_of("cm-1"), stored.columns["upper"])))
+        rest, unplaced = rest_of(LineArrays.from_columns(stored.columns, index), hover_json=every[index],
+                                 level_index=(rows_of[0][index], rows_of[1][index]))
+        text = start_of(unit, axis)[0] + rest
+        return text, GzipPrefix(text.encode("utf-8")), unplaced
+
     try:
         flt = params.line_filter(request.args)
         unit, max_lines = _diagram_options()
         axis = _diagram_axis()
         engine = _engine_flag()
+        figure = None
         if engine:
             rows, total, without_rates = engine_lines(cat, ref, flt, max_lines)
             arrays = LineArrays.from_rows(rows)
@@ -345,31 +380,26 @@ def diagram_json(spectrum: str):
                 arrays = LineArrays.from_rows(rows)
                 listed = [{k: ln[k] for k in LISTED_KEYS} for ln in rows[:LISTED_LINES]]
             else:
-                arrays = LineArrays.from_columns(stored.columns, index)
                 listed = stored.rows(index[:LISTED_LINES], LISTED_KEYS)
-                # every line's hover text (JSON-encoded) and level rows, built once per store revision
-                every = services.cached(("diagram-hover", ref.spectrum, flt.medium), lambda: np.array(
-                    [json.dumps(text, ensure_ascii=False)
-                     for text in line_hover(LineArrays.from_columns(stored.columns), flt.medium, ref.name)],
-                    dtype=object))
-                hover_json = every[index]
-                rows_of = services.cached(("diagram-level-rows", ref.spectrum), lambda: (
-                    level_rows_of(layer_of("cm-1"), stored.columns["lower"]),
-                    level_rows_of(layer_of("cm-1"), stored.columns["upper"])))
-                level_index = (rows_of[0][index], rows_of[1][index])
+                shown = len(index)
+                key = ("diagram-figure", ref.spectrum, unit, axis, flt.medium, services.digest(index))
+                figure = services.cached_figure(key, lambda: stored_figure(stored, index))
     except BadParameter as exc:
         return json_response({"error": {"code": "bad_parameter", "message": exc.message, "field": exc.field}}, 400)
     except PhysicsInputError as exc:
         return json_response({"error": {"code": "bad_parameter", "message": str(exc), "field": None}}, 400)
+    if figure is None:
+        shown = len(arrays)
+        rest, unplaced = rest_of(arrays)
+        prefix, packed = start_of(unit, axis)
+    else:
+        prefix, packed, unplaced = figure
+        rest = ""
     layer = layer_of(unit, axis)
-    figure_rest, unplaced = diagram_json_rest(layer, arrays, medium=flt.medium,
-                                              ionization_cm1=ref.row["ionization_cm1"],
-                                              title=f"{ref.name} level diagram", hover_json=hover_json,
-                                              level_index=level_index)
     head = json.dumps({
         "spectrum": ref.name, "unit": unit, "medium": flt.medium, "filter": flt.args(),
         "levels": layer.count, "columns": len(layer.keys),
-        "lines_total": total, "lines_shown": len(arrays), "lines_omitted": total - len(arrays),
+        "lines_total": total, "lines_shown": shown, "lines_omitted": total - shown,
         "lines_unplaced": unplaced, "max_lines": max_lines,
         "lines_reachable": ref.lines_reachable, "engine": engine, "lines_without_rates": without_rates,
         "ionization_cm1": ref.row["ionization_cm1"],
@@ -377,14 +407,9 @@ def diagram_json(spectrum: str):
         "strongest": listed, "panel_title": panel_title(listed),
         "axis": layer.axis["axis"], "axis_note": layer.axis["note"],
     }, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
-    # the figure first: its start (the level traces) is the same for every request until the store changes,
-    # so it is written, and its gzip encoding begun, once and kept
-    def start():
-        text = '{"figure":' + diagram_json_start(layer)
-        return text, GzipPrefix(text.encode("utf-8"))
-
-    prefix, packed = services.cached(("diagram-start", ref.spectrum, unit, axis), start)
-    return spliced_json_response(prefix, figure_rest + "," + head[1:], gzip_prefix=packed)
+    # the figure first, then this request's head
+    response = spliced_json_response(prefix, rest + "," + head[1:], gzip_prefix=packed)
+    return services.tagged(response, tag)
 
 
 # ----------------------------------------------------------------- line finder

@@ -20,22 +20,27 @@ workarounds (and do the work in the store):
 
 from __future__ import annotations
 
+import hashlib
+import json
 import math
+import os
 import re
 import threading
 from collections.abc import Sequence
 from dataclasses import dataclass
 
 import numpy as np
-from flask import current_app, g, has_request_context
+from flask import Response, current_app, g, has_request_context, request
 
-from levels.catalog import Catalog, LineQuery
+from levels.catalog import LINE_LIST_COLUMNS, Catalog, LineQuery
+from levels.catalog import add_ritz_columns as catalog_add_ritz_columns
 from levels.errors import NotationError, NotFoundError
 from levels.isotopes import default_isotope
 from levels.notation import Spectrum, parse_spectrum
 from levels.service.readcache import ReadCache, SpeciesLines
 from levels.units import CM1_EV
 
+from webui.downloads import clean
 from webui.params import LevelFilter, LineFilter, Page
 
 #: the longest list of lines scanned when a line is looked up without its wavelength
@@ -141,6 +146,59 @@ def cached(key, build):
     return read_cache().get(key, revision(), build)
 
 
+#: figures kept (serialised and gzip-compressed) per store revision, least recently used dropped first
+MAX_KEPT_FIGURES = 16
+
+
+def figure_cache() -> ReadCache:
+    """The application's cache of finished figures (kept apart from the read answers, which are smaller and
+    asked for by every request, so a run of different figures never pushes them out)."""
+    store = current_app.extensions["levels"]
+    cache = store.get("figure_cache")
+    if cache is None:
+        with _CACHE_LOCK:
+            cache = store.get("figure_cache")
+            if cache is None:
+                cache = ReadCache(store["catalog"], max_entries=MAX_KEPT_FIGURES)
+                store["figure_cache"] = cache
+    return cache
+
+
+def cached_figure(key, build):
+    """``build()`` (a finished figure), kept until the store changes (shared: do not modify the result)."""
+    return figure_cache().get(key, revision(), build)
+
+
+def digest(values: np.ndarray) -> bytes:
+    """A short digest of an array's values (a key of what a figure draws)."""
+    data = np.ascontiguousarray(values)
+    return hashlib.blake2b(str(data.dtype).encode() + data.tobytes(), digest_size=16).digest()
+
+
+#: changes with every start of the site, so a browser never keeps an answer of older code
+_STARTED = os.urandom(8).hex()
+
+
+def response_tag(*parts) -> str:
+    """A weak entity tag of the current GET request's answer: the store revision, the path, the query and
+    ``parts`` (settings the answer depends on); equal tags mean the same answer."""
+    text = repr((_STARTED, revision(), request.path, request.query_string, parts))
+    return hashlib.blake2b(text.encode("utf-8"), digest_size=16).hexdigest()
+
+
+def tagged(response: Response, tag: str) -> Response:
+    """``response`` with its weak ETag, revalidated by the browser at each use (``Cache-Control: no-cache``)."""
+    response.set_etag(tag, weak=True)
+    response.headers["Cache-Control"] = "no-cache"
+    response.vary.add("Accept-Encoding")
+    return response
+
+
+def not_modified(tag: str) -> Response:
+    """A 304 Not Modified answer for a request whose ``If-None-Match`` holds ``tag``."""
+    return tagged(Response(status=304), tag)
+
+
 def species_rows(cat: Catalog) -> list[dict]:
     """``Catalog.species_rows()``, kept until the store's revision changes.
 
@@ -155,8 +213,9 @@ def species_rows(cat: Catalog) -> list[dict]:
 
 
 def forget_species() -> None:
-    """Drop the kept answers (after this site wrote to the store; the revision would tell anyway)."""
+    """Drop the kept answers and figures (after this site wrote to the store; the revision would tell anyway)."""
     read_cache().clear()
+    figure_cache().clear()
     g.pop("levels_revision", None)
 
 
@@ -312,6 +371,72 @@ def line_window(ref: SpeciesRef, flt: LineFilter, limit: int | None = None, offs
     keep = lines.mask(from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium, multipoles=flt.multipoles,
                       min_a=flt.min_a)
     return lines.line_rows(lines.page(keep, order or flt.order, offset, limit)), int(keep.sum())
+
+
+def add_ritz_columns(ref: SpeciesRef | None, rows: list[dict], medium: str) -> list[dict]:
+    """:func:`levels.catalog.add_ritz_columns` for rows of one species (the same values, in place).
+
+    Only H I, D I and T I lines have customary names; for every other species ``line_name`` is None
+    without parsing each row's two level labels, which costs more than the rest of a page of 100 rows.
+    """
+    if ref is None or (ref.spectrum.z == 1 and ref.spectrum.charge == 0):
+        return list(catalog_add_ritz_columns(rows, medium))
+    named = [row.pop("spectrum", _MISSING) for row in rows]  # no spectrum: the catalog names no line
+    catalog_add_ritz_columns(rows, medium)
+    for row, name in zip(rows, named):
+        if name is not _MISSING:
+            row["spectrum"] = name
+    return rows
+
+
+_MISSING = object()
+
+
+def _line_texts(ref: SpeciesRef, lines: SpeciesLines, medium: str) -> np.ndarray:
+    """Each stored line's row of the JSON line list in ``medium`` (``LINE_LIST_COLUMNS``, Ritz columns and
+    line names filled, serialised as :func:`webui.downloads.json_response` writes it), None where not yet
+    written: kept per store revision and filled as pages ask for rows, so no request pays for all of them."""
+    return cached(("line-texts", ref.spectrum, medium), lambda: np.full(len(lines), None, dtype=object))
+
+
+def line_page_json(ref: SpeciesRef, flt: LineFilter, limit: int | None = None,
+                   offset: int = 0) -> tuple[list[str], int, list[str]] | None:
+    """:func:`line_window` as JSON text: each row serialised as the API writes it (``LINE_LIST_COLUMNS``
+    with the Ritz columns), how many rows match in all, and the datasets of the rows. A row is written
+    once per store revision and medium, then joined into pages. None when the species' lines are not
+    kept (too many): then use :func:`line_window`."""
+    if not ref.lines_reachable:
+        return [], 0, []
+    if not keeps_lines(ref):
+        return None
+    lines = read_cache().species_lines(ref.spectrum, revision())
+    keep = lines.mask(from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium, multipoles=flt.multipoles,
+                      min_a=flt.min_a)
+    index = lines.page(keep, flt.order, offset, limit)
+    texts = _line_texts(ref, lines, flt.medium)
+    chosen = texts[index]
+    missing = index[np.equal(chosen, None)]
+    if len(missing):
+        rows = add_ritz_columns(ref, lines.line_rows(missing), flt.medium)
+        # the same values and text as json_response(json_table(rows, LINE_LIST_COLUMNS, ...)) gives each row
+        texts[missing] = [json.dumps({c: clean(row.get(c)) for c in LINE_LIST_COLUMNS}, ensure_ascii=False,
+                                     allow_nan=False, separators=(",", ":")) for row in rows]
+        chosen = texts[index]
+    used = sorted(set(lines.columns["dataset"][index].tolist()))
+    return chosen.tolist(), int(keep.sum()), used
+
+
+def json_rows_response(payload: dict, placeholder: list, row_texts: Sequence[str]) -> Response:
+    """``json_response(payload)`` where each value of ``payload`` that is the list ``placeholder`` (the
+    same object) stands for the rows already serialised in ``row_texts``: the same bytes as serialising
+    the rows themselves, without encoding them again."""
+    def dumps(value) -> str:
+        return json.dumps(value, ensure_ascii=False, allow_nan=False, separators=(",", ":"))
+
+    rows = "[" + ",".join(row_texts) + "]"
+    body = "{" + ",".join(dumps(key) + ":" + (rows if value is placeholder else dumps(value))
+                          for key, value in payload.items()) + "}"
+    return Response(body, mimetype="application/json")
 
 
 def line_page(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter, page: Page) -> tuple[list[dict], int]:
