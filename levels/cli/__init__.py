@@ -519,7 +519,7 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
                                         rates=f"{info['without_rates']} lines without known rates (A, f, S empty)")
     if info.get("warnings"):
         provenance["states"] = " ".join(info["warnings"])
-    columns = LINE_LIST_COLUMNS
+    columns: tuple[str, ...] = LINE_LIST_COLUMNS
     if lower_pattern or series_pattern or line_name:
         rows = filter_lines(rows, lower=lower_pattern, series=series_pattern, name=line_name)[:limit]
         provenance["selection"] = (f"lower {lower_pattern or 'any'}; upper series {series_pattern or 'any'}; "
