@@ -132,7 +132,7 @@ def test_killed_import_of_100000_lines_sqlite(big_files, tmp_path):
         path = fresh_copy()
         wal = Path(f"{path}-wal")
         proc = _levels_cli(str(path), "import", str(lines), "--dataset", "big")
-        killed, wal_bytes = _kill_at(proc, at, probe=lambda: wal.stat().st_size if wal.exists() else 0)
+        killed, wal_bytes = _kill_at(proc, at, probe=lambda wal=wal: wal.stat().st_size if wal.exists() else 0)
         _assert_clean(f"sqlite:///{path}")
         with Catalog(path, actor="pytest") as cat:
             counts = _counts(cat)
