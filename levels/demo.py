@@ -35,9 +35,10 @@ def build_demo(catalog: Catalog, *, n_max: int = 20) -> list[str]:
                          "gas_fill": "Li vapour with 50 Pa Ar buffer (invented)", "pressure_pa": 50.0,
                          "instrument": "fictional echelle, 0.002 nm resolution", "tgas_k": 750.0}
     try:
-        levels = catalog.import_file(demo_file("sample-li-cell.csv"), sample="li-cell-amber", dataset="li-cell-amber/levels",
-                                     sample_conditions=sample_conditions)
-        lines = catalog.import_file(demo_file("lines-li-cell.csv"), sample="li-cell-amber", dataset="li-cell-amber/lines")
+        levels = catalog.import_file(demo_file("sample-li-cell.csv"), sample="li-cell-amber",
+                                     dataset="li-cell-amber/levels", sample_conditions=sample_conditions)
+        lines = catalog.import_file(demo_file("lines-li-cell.csv"), sample="li-cell-amber",
+                                    dataset="li-cell-amber/lines")
         out.append(f"imported the invented sample li-cell-amber: {levels.levels} levels, {lines.lines} measured lines")
     except AlreadyExistsError:
         out.append("the invented sample li-cell-amber is already in the store")

@@ -6,6 +6,6 @@
 | `combination` | the Ritz combination principle: lines from level pairs with propagated uncertainties | Ritz 1908 |
 | `air` | refractive index of air, vacuum to air wavelengths | Edlén 1966; Ciddor 1996; Morton 2000 |
 | `series` | extended Ritz formula fit of series limits | Ritz 1908; Edlén 1964 |
-| `ritz` | level optimisation from measured lines (weighted linear least squares) | Kramida 2011 (method), common practice |
+| `ritz` | level optimisation from measured lines (weighted linear least squares) | common practice, no source |
 | `lande` | Landé g in LS coupling | Landé 1923 |
 """

@@ -2,7 +2,8 @@
 
 | module | law or method | source |
 |---|---|---|
-| `equilibrium` | Boltzmann and Saha populations, partition-function cutoffs (Debye-Hückel, Inglis-Teller), emissivity, slab escape | Griem 1997 |
+| `equilibrium` | Boltzmann and Saha populations, partition-function cutoffs (Debye-Hückel, | Griem 1997 |
+| | Inglis-Teller), emissivity, slab escape | |
 | `spectrum` | Doppler, natural and instrument widths; windowed Voigt synthetic spectra | Olivero & Longbothum 1977 |
 
 Out-of-equilibrium discharges are in `levels.physics.discharge`; measured spectra in `levels.physics.diagnostics`.
