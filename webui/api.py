@@ -16,7 +16,7 @@ import math
 
 from flask import Blueprint, current_app, request, url_for
 
-from levels.catalog import LEVEL_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS, add_ritz_columns
+from levels.catalog import LEVEL_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS
 from levels.errors import AlreadyExistsError, InputFileError, LevelsError, NotFoundError, Problem, StoreError
 from levels.io.limits import text_problem
 from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
@@ -117,17 +117,22 @@ def lines(spectrum: str):
         if value is not None and len(value) > 200:
             return error(400, "bad_parameter", f"{key} is longer than 200 characters", key)
     if not any(chosen.values()):
-        rows, total = (cat.line_rows(flt.query(ref.name, limit=limit, offset=offset)) if ref.lines_reachable
-                       else ([], 0))
+        page = services.line_page_json(ref, flt, limit, offset)  # each row written once per store revision
+        if page is not None:
+            texts, total, used = page
+            provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium)
+            table = json_table([], LINE_LIST_COLUMNS, provenance, total=total, limit=limit, offset=offset)
+            return services.json_rows_response(table, table["rows"], texts)
+        rows, total = services.line_window(ref, flt, limit, offset)  # kept per store revision, no query
     else:  # selections by level label or line name: filter the whole window, then page
         try:
-            every = cat.line_rows(flt.query(ref.name))[0] if ref.lines_reachable else []
+            every = services.line_window(ref, flt)[0]
             every = filter_lines(every, lower=chosen["lower"], series=chosen["series"], name=chosen["line_name"])
         except LevelsError as exc:
             field = "line_name" if "line name" in str(exc) else ("series" if chosen["series"] else "lower")
             return error(400, "bad_parameter", str(exc), field)
         rows, total = every[offset:offset + limit], len(every)
-    add_ritz_columns(rows, flt.medium)
+    services.add_ritz_columns(ref, rows, flt.medium)
     used = sorted({r["dataset"] for r in rows})
     provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium)
     return json_response(json_table(rows, LINE_LIST_COLUMNS, provenance, total=total, limit=limit, offset=offset))
