@@ -350,11 +350,14 @@ def diagram_json(spectrum: str):
                                  hover_json=hover_json, level_index=level_index)
 
     def stored_figure(stored, index: np.ndarray) -> tuple[str, GzipPrefix, int]:
-        # every line's hover text (JSON-encoded) and level rows, built once per store revision
-        every = services.cached(("diagram-hover", ref.spectrum, flt.medium), lambda: np.array(
-            [json.dumps(text, ensure_ascii=False)
-             for text in line_hover(LineArrays.from_columns(stored.columns), flt.medium, ref.name)],
-            dtype=object))
+        # each line's hover text (JSON-encoded), written when a figure first draws the line and kept per
+        # store revision (None: not yet written), and every line's level rows, found once per store revision
+        every = services.cached(("diagram-hover", ref.spectrum, flt.medium),
+                                lambda: np.full(len(stored), None, dtype=object))
+        missing = index[np.equal(every[index], None)]
+        if len(missing):
+            every[missing] = [json.dumps(text, ensure_ascii=False) for text in
+                              line_hover(LineArrays.from_columns(stored.columns, missing), flt.medium, ref.name)]
         rows_of = services.cached(("diagram-level-rows", ref.spectrum), lambda: (
             level_rows_of(layer_of("cm-1"), stored.columns["lower"]),
             level_rows_of(layer_of("cm-1"), stored.columns["upper"])))
