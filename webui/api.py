@@ -13,8 +13,10 @@ from __future__ import annotations
 import hmac
 import json
 import math
+from dataclasses import replace
 
 from flask import Blueprint, current_app, request, url_for
+from werkzeug.datastructures import MultiDict
 
 from levels.catalog import LEVEL_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS
 from levels.errors import AlreadyExistsError, InputFileError, LevelsError, NotFoundError, Problem, StoreError
@@ -25,7 +27,7 @@ from levels.service.line_selection import filter_lines
 
 from webui import params, services
 from webui.downloads import json_response, json_table
-from webui.openapi import openapi_document
+from webui.openapi import openapi_document, query_problem, schema_problem
 
 bp = Blueprint("api", __name__, url_prefix="/api/v1")
 
@@ -85,14 +87,14 @@ def levels(spectrum: str):
         ref = _species(spectrum)
     except NotFoundError as exc:
         return error(404, "not_found", str(exc), "spectrum")
-    try:
-        names = params.list_param(request.args, "dataset")
-    except params.BadParameter as exc:
-        return error(400, "bad_parameter", exc.message, exc.field)
+    problem = query_problem(request.args, "listLevels")
+    if problem:
+        return error(400, "bad_parameter", problem[1], problem[0])
+    names = [part.strip() for raw in request.args.getlist("dataset") for part in raw.split(",") if part.strip()]
     cat = services.catalog()
     for name in names:
-        if name not in ref.datasets:
-            return error(400, "bad_parameter", f"{ref.name} has no levels in a dataset named {name!r}", "dataset")
+        if name not in ref.datasets:  # a name the document allows, naming nothing here: not found
+            return error(404, "not_found", f"{ref.name} has no levels in a dataset named {name!r}", "dataset")
     rows = cat.level_rows(ref.spectrum, names or None)
     used = sorted({r["dataset"] for r in rows})
     return json_response(json_table(rows, LEVEL_COLUMNS, cat.provenance(f"levels {ref.name}", used),
@@ -106,8 +108,11 @@ def lines(spectrum: str):
         ref = _species(spectrum)
     except NotFoundError as exc:
         return error(404, "not_found", str(exc), "spectrum")
+    problem = query_problem(request.args, "listLines")
+    if problem:
+        return error(400, "bad_parameter", problem[1], problem[0])
     try:
-        flt = params.line_filter(request.args, strict=True)
+        flt, empty = _api_line_filter(request.args)
         limit, offset = params.api_window(request.args)
     except params.BadParameter as exc:
         return error(400, "bad_parameter", exc.message, exc.field)
@@ -116,13 +121,15 @@ def lines(spectrum: str):
     for key, value in chosen.items():
         if value is not None and len(value) > 200:
             return error(400, "bad_parameter", f"{key} is longer than 200 characters", key)
-    if not any(chosen.values()):
+    if empty:  # the windows given do not overlap: no line lies in both
+        rows, total = [], 0
+    elif not any(chosen.values()):
         page = services.line_page_json(ref, flt, limit, offset)  # each row written once per store revision
         if page is not None:
             texts, total, used = page
             provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium)
-            table = json_table([], LINE_LIST_COLUMNS, provenance, total=total, limit=limit, offset=offset)
-            return services.json_rows_response(table, table["rows"], texts)
+            table = line_table([], provenance, total=total, limit=limit, offset=offset)
+            return services.json_rows_response(table, table["lines"], texts)
         rows, total = services.line_window(ref, flt, limit, offset)  # kept per store revision, no query
     else:  # selections by level label or line name: filter the whole window, then page
         try:
@@ -135,7 +142,46 @@ def lines(spectrum: str):
     services.add_ritz_columns(ref, rows, flt.medium)
     used = sorted({r["dataset"] for r in rows})
     provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium)
-    return json_response(json_table(rows, LINE_LIST_COLUMNS, provenance, total=total, limit=limit, offset=offset))
+    return json_response(line_table(rows, provenance, total=total, limit=limit, offset=offset))
+
+
+def line_table(rows: list[dict], provenance: dict, **extra) -> dict:
+    """A line table answer: rows under ``lines``, as the CLI's line-list JSON, and the same rows under the
+    deprecated ``rows`` (kept for older clients)."""
+    table = json_table(rows, LINE_LIST_COLUMNS, provenance)
+    return {"provenance": table["provenance"], "columns": table["columns"], "lines": table["rows"],
+            "rows": table["rows"], **extra}
+
+
+_WINDOWS = (("from", "to"), ("from_nm", "to_nm"))
+
+
+def _api_line_filter(args) -> tuple[params.LineFilter, bool]:
+    """The line filter of an API request and whether its window is empty.
+
+    Each pair of bounds (``from``/``to`` in any spectral unit, ``from_nm``/``to_nm`` in nm) may come in either
+    order; when both pairs are given the window is their overlap, empty when they do not overlap.
+    """
+    bounds = {name for pair in _WINDOWS for name in pair}
+    base = params.line_filter(MultiDict([(k, v) for k, v in args.items(multi=True) if k not in bounds]), strict=True)
+
+    def bound(name: str) -> float | None:
+        if not (args.get(name) or "").strip():
+            return None
+        one = params.line_filter(MultiDict([(name, args[name]), ("medium", base.medium)]), strict=True)
+        return one.from_nm if name.startswith("from") else one.to_nm
+
+    low = high = None
+    for start, end in _WINDOWS:
+        a, b = bound(start), bound(end)
+        if a is not None and b is not None and a > b:
+            a, b = b, a
+        if a is not None:
+            low = a if low is None else max(low, a)
+        if b is not None:
+            high = b if high is None else min(high, b)
+    empty = low is not None and high is not None and low > high
+    return replace(base, from_nm=low, to_nm=None if empty else high), empty
 
 
 @bp.get("/datasets/<int:dataset_id>")
@@ -222,44 +268,47 @@ def create_dataset():
     body = _json_body()
     if not isinstance(body, dict):
         return error(400, "bad_body", "the body must be a JSON object", None)
+    # 400: the body breaks the published document; 422: it follows the document, but its content is refused
+    broken = schema_problem(body, {"$ref": "#/components/schemas/NewDataset"})
+    bad = 400 if broken else 422
     unknown = sorted(set(body) - DATASET_KEYS)
     if unknown:
-        return error(400, "bad_body", f"unknown field {unknown[0]!r}; known: {', '.join(sorted(DATASET_KEYS))}",
+        return error(bad, "bad_body", f"unknown field {unknown[0]!r}; known: {', '.join(sorted(DATASET_KEYS))}",
                      unknown[0])
     for key in ("name", "sample", "citation", "description", "kind"):
         if key in body and body[key] is not None and not isinstance(body[key], str):
-            return error(400, "bad_body", f"{key} must be a string", key)
+            return error(bad, "bad_body", f"{key} must be a string", key)
     name = (body.get("name") or "").strip()
     if not name or len(name) > 200:
-        return error(400, "bad_body", "name (1 to 200 characters) is required", "name")
+        return error(bad, "bad_body", "name (1 to 200 characters) is required", "name")
     for key, limit, multiline in (("name", 200, False), ("sample", 200, False), ("citation", None, True),
                                   ("description", None, True)):
         problem = text_problem(body.get(key) or "", limit, multiline=multiline)
         if problem:
-            return error(400, "bad_body", f"{key} {problem}", key)
+            return error(bad, "bad_body", f"{key} {problem}", key)
     kind = body.get("kind") or "measured"
     if kind not in ("measured", "imported"):
-        return error(400, "bad_body", "kind must be 'measured' or 'imported'", "kind")
+        return error(bad, "bad_body", "kind must be 'measured' or 'imported'", "kind")
     sample = (body.get("sample") or "").strip() or None
     if sample and len(sample) > 200:
-        return error(400, "bad_body", "sample must be at most 200 characters", "sample")
+        return error(bad, "bad_body", "sample must be at most 200 characters", "sample")
     for key, limit in (("citation", 4000), ("description", 4000)):
         if len(body.get(key) or "") > limit:
-            return error(400, "bad_body", f"{key} must be at most {limit} characters", key)
+            return error(bad, "bad_body", f"{key} must be at most {limit} characters", key)
     items = body.get("levels") if body.get("levels") is not None else []
     line_items = body.get("lines") if body.get("lines") is not None else []
     for key, value in (("levels", items), ("lines", line_items)):
         if not isinstance(value, list):
-            return error(400, "bad_body", f"{key} must be a list of objects", key)
+            return error(bad, "bad_body", f"{key} must be a list of objects", key)
     if not items and not line_items:
-        return error(400, "bad_body", "levels must be a non-empty list of level objects (or give lines)", "levels")
+        return error(bad, "bad_body", "levels must be a non-empty list of level objects (or give lines)", "levels")
     if len(items) > MAX_LEVELS_PER_POST or len(line_items) > MAX_LEVELS_PER_POST:
         return error(413, "too_large", f"at most {MAX_LEVELS_PER_POST} levels and lines per request", "levels")
     shape_problems = _shape_problems("levels", items, LEVEL_KEYS) + _shape_problems("lines", line_items, LINE_KEYS)
     if shape_problems:
         first = shape_problems[0]
         code = "invalid_levels" if first["field"].startswith("levels") else "invalid_lines"
-        return error(400, code, first["message"], first["field"], shape_problems)
+        return error(bad, code, first["message"], first["field"], shape_problems)
     try:
         records = validate_levels(((i + 1, item) for i, item in enumerate(items)), source=API_SOURCE,
                                   default_dataset=name) if items else []
@@ -268,7 +317,10 @@ def create_dataset():
     except InputFileError as exc:
         problems = [_problem_json(p) for p in exc.problems]
         code = "invalid_lines" if problems[0]["field"].startswith("lines") else "invalid_levels"
-        return error(400, code, problems[0]["message"], problems[0]["field"], problems)
+        return error(bad, code, problems[0]["message"], problems[0]["field"], problems)
+    if broken:
+        where, why = broken
+        return error(400, "bad_body", f"{where or 'the body'} {why} (see /api/v1/openapi.json)", where or None)
     cat = services.catalog()
     try:
         report = cat.import_dataset(records, line_records, name=name, source=API_SOURCE, line_source=LINES_SOURCE,
@@ -281,7 +333,7 @@ def create_dataset():
     except InputFileError as exc:
         problems = [_problem_json(p) for p in exc.problems]
         code = "invalid_lines" if problems[0]["field"].startswith("lines") else "invalid_levels"
-        return error(400, code, problems[0]["message"], problems[0]["field"], problems)
+        return error(bad, code, problems[0]["message"], problems[0]["field"], problems)
     except StoreError as exc:
         return error(422, "store_refused", str(exc), None)
     services.forget_species()

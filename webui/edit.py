@@ -1,10 +1,18 @@
-"""The sample desk: create samples, add a level by form, upload a levels file (preview, then commit).
+"""The sample desk: create samples, add a level by form, upload a levels or measured-lines file (preview, then commit).
 
 Every form carries a CSRF token (Flask-WTF). Field problems are shown beside
 their field; an upload is parsed and validated in full, every problem listed,
 before anything is written; the file waits on the server between preview and
 commit (in the staging folder, named by a random id inside a signed, timed
 token) and is written as one transaction by the catalog.
+
+An upload's kind is read from its header as ``levels import`` reads it
+(:func:`levels.service.imports.detect_file_kind`: ``wavelength_nm`` makes a
+measured-lines file, anything else a levels file). Two kinds the desk does not
+import are named instead of being read as a levels file with unknown columns: a
+peaks file (``peak_nm``, as ``levels peaks`` writes it) and a measured spectrum
+(``wavelength_nm`` or ``pixel`` with ``intensity`` only); the answer says which
+command or page takes it.
 
 When the site has an API token, the desk asks for it once per browser session
 (the desk writes to the store like the API does).
@@ -45,6 +53,9 @@ from levels.errors import (
 )
 from levels.io.limits import automatic_dataset_name_problem, text_problem
 from levels.io.records import validate_level
+from levels.io.tables import read_delimited
+from levels.service.imports import detect_file_kind
+from levels.service.line_preview import check_line_file
 from levels.units import parse_quantity
 
 from webui import services
@@ -321,13 +332,64 @@ def _upload_options(form) -> tuple[dict, dict]:
     return options, errors
 
 
+#: columns of a measured spectrum (``levels peaks``, the spectrum page); such a file has no other column
+SPECTRUM_FILE_COLUMNS = frozenset({"wavelength_nm", "pixel", "intensity", "intensity_unc"})
+#: what to do with a file the desk does not import, by kind
+ELSEWHERE = {
+    "peaks": "it lists measured peaks (a peak_nm column, as 'levels peaks' writes), not levels or measured lines, "
+             "so the desk does not import it. Match its peaks to lines with 'levels identify SPECIES {name}', or "
+             "derive Te and ne with 'levels diagnose SPECIES {name}'; the spectrum page (Analysis) fits and "
+             "identifies peaks from the measured spectrum itself",
+    "spectrum": "it is a measured spectrum (wavelength or pixel with intensity), not levels or measured lines, so "
+                "the desk does not import it. Fit and identify its peaks on the spectrum page (Analysis), or with "
+                "'levels peaks {name}'",
+}
+#: how each kind is named on the preview page
+KIND_NAMES = {"levels": "levels file", "lines": "measured-lines file", "peaks": "peaks file",
+              "spectrum": "spectrum file"}
+
+
+def upload_kind(columns, source: str, header_line: int) -> str:
+    """The kind of an uploaded table by its header: ``levels`` or ``lines`` (as ``levels import`` decides, by
+    :func:`levels.service.imports.detect_file_kind`), or ``peaks`` / ``spectrum`` (files the desk does not
+    import)."""
+    names = set(columns)
+    if "peak_nm" in names:
+        return "peaks"
+    if "intensity" in names and names <= SPECTRUM_FILE_COLUMNS and names & {"wavelength_nm", "pixel"}:
+        return "spectrum"
+    return detect_file_kind(columns, source, header_line)
+
+
+def preview_upload(content: bytes, name: str) -> tuple[str, list, list[Problem]]:
+    """(kind, records, problems) of an uploaded file, validated in full and nothing written.
+
+    Measured lines get every check of their import, against the stored levels too (labels, the multipole's
+    parity and J rules, the Ritz wavenumber), in a transaction that is rolled back.
+    """
+    try:
+        table = read_delimited(content, source=name)
+    except InputFileError as exc:
+        return "levels", [], exc.problems
+    kind = upload_kind(table.columns, name, table.header_line)
+    if kind in ELSEWHERE:
+        message = f"{name} is a {KIND_NAMES[kind]}: {ELSEWHERE[kind].format(name=name)}."
+        return kind, [], [Problem(name, table.header_line, None, message)]
+    if kind == "lines":
+        records, problems = check_line_file(services.catalog(), content, name)
+        return kind, records, problems
+    records, problems = services.catalog().preview_levels(content, source=name)
+    return kind, records, problems
+
+
 @bp.post("/upload")
 def upload_preview():
-    """Parse and validate an uploaded levels file; show every problem, or the rows and a commit button."""
+    """Parse and validate an uploaded levels or measured-lines file; show every problem, or the rows and a commit
+    button; name a peaks or spectrum file and where it goes."""
     upload = request.files.get("file")
     options, errors = _upload_options(request.form)
     if upload is None or not upload.filename:
-        errors["file"] = "choose a levels file (CSV) to upload"
+        errors["file"] = "choose a levels or measured-lines file (CSV) to upload"
     if errors:
         return _desk(400, upload_errors=errors)
     name = secure_filename(upload.filename) or "upload.csv"
@@ -335,8 +397,7 @@ def upload_preview():
         return _desk(400, upload_errors={"dataset": f"{automatic_dataset_name_problem(options['sample'], name)}; "
                                                     "name the dataset"})
     content = upload.read()
-    cat = services.catalog()
-    records, problems = cat.preview_levels(content, source=name)
+    kind, records, problems = preview_upload(content, name)
     token = None
     if not problems:
         folder = staging_dir()
@@ -344,10 +405,11 @@ def upload_preview():
         stage_id = secrets.token_urlsafe(18)
         (folder / f"{stage_id}.upload").write_bytes(content)
         token = _serializer().dumps({"id": stage_id, "name": name, "sha256": hashlib.sha256(content).hexdigest(),
-                                     **options})
+                                     "file_kind": kind, **options})
     return render_template("preview.html", name=name, size=len(content), records=records[:PREVIEW_ROWS],
                            record_count=len(records), problems=problems, token=token, options=options,
-                           capped=len(problems) >= 100)
+                           capped=len(problems) >= 100, kind=kind, kind_name=KIND_NAMES[kind],
+                           elsewhere=kind in ELSEWHERE)
 
 
 @bp.post("/upload/commit")
@@ -381,13 +443,17 @@ def upload_commit():
                                  citation=staged.get("citation") or "")
     except InputFileError as exc:
         taken.unlink(missing_ok=True)
+        kind = staged.get("file_kind") or "levels"
         return render_template("preview.html", name=staged["name"], size=len(content), records=[], record_count=0,
-                               problems=exc.problems, token=None, options=staged, capped=False), 400
+                               problems=exc.problems, token=None, options=staged, capped=False, kind=kind,
+                               kind_name=KIND_NAMES.get(kind, "file"), elsewhere=False), 400
     except (AlreadyExistsError, StoreError) as exc:
         os.replace(taken, path)  # nothing was written: the same preview may be committed again after a fix
         field = "dataset" if isinstance(exc, AlreadyExistsError) else "file"
         return _desk(400, upload_errors={field: str(exc)})
     taken.unlink(missing_ok=True)
     services.forget_species()
-    flash(f"Wrote {report.levels} levels of {', '.join(report.species)} as dataset {report.dataset!r}.", "ok")
+    wrote = (f"{report.lines} measured line{'' if report.lines == 1 else 's'}" if staged.get("file_kind") == "lines"
+             else f"{report.levels} levels")
+    flash(f"Wrote {wrote} of {', '.join(report.species)} as dataset {report.dataset!r}.", "ok")
     return redirect(url_for("browse.dataset", dataset_id=report.dataset_id), code=303)
