@@ -13,7 +13,7 @@ from collections.abc import Sequence
 
 import numpy as np
 
-from levels.notation import hydrogen_line_name, principal_number
+from levels.notation import display_label, hydrogen_line_name, principal_number
 
 #: our palette (invented for this project): ink, slate, and an accent per multipole
 INK = "#1d2633"
@@ -45,7 +45,8 @@ def spectrum_figure(grid_nm: np.ndarray, density: np.ndarray, lines: Sequence[di
         ys.extend([0.0, peak * row["rel_intensity"] * 1.05, None])
         name = hydrogen_line_name(row["spectrum"], principal_number(row["lower"]), principal_number(row["upper"]))
         label = (f"{_escape(row['spectrum'])} {_escape(name) + ' ' if name else ''}"
-                 f"{_escape(row['lower'])} – {_escape(row['upper'])}"
+                 f"{_escape(display_label(row['lower'], superscripts=True))} – "
+                 f"{_escape(display_label(row['upper'], superscripts=True))}"
                  f"<br>{x:.4f} nm ({medium})"
                  f"<br>rel. intensity {row['rel_intensity']:.3g}<br>A {row['a_per_s']:.3e} s⁻¹")
         text.extend([label, label, None])
@@ -118,7 +119,8 @@ def model_comparison_figure(primary: dict, primary_model: str, other: dict | Non
         data.append({"type": "scatter", "mode": "markers", "xaxis": "x3", "yaxis": "y3",
                      "name": f"{model.upper()} departure coefficients", "meta": f"departure-{model}",
                      "x": [p["energy_cm1"] for p in rows], "y": [p["departure"] for p in rows],
-                     "text": [_escape(str(p["label"])) for p in rows], "hoverinfo": "text+x+y",
+                     "text": [_escape(display_label(str(p["label"]), superscripts=True)) for p in rows],
+                     "hoverinfo": "text+x+y",
                      "marker": {"size": 6, "color": colours[model],
                                 "symbol": "circle" if model == "cr" else "line-ew-open"}})
     axis_title = f"wavelength in {medium} [nm]"

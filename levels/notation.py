@@ -567,6 +567,9 @@ _CORES["Kr"] = _CORES["Ar"] + _core("3d10", "4s2", "4p6")
 _CORES["Xe"] = _CORES["Kr"] + _core("4d10", "5s2", "5p6")
 _CORES["Rn"] = _CORES["Xe"] + _core("4f14", "5d10", "6s2", "6p6")
 
+_SUPERSCRIPTS = str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹")
+_FROM_SUPERSCRIPTS = str.maketrans("⁰¹²³⁴⁵⁶⁷⁸⁹", "0123456789")
+
 _SUBSHELL = re.compile(r"^([0-9]+)([a-z]|\[[0-9]+\])([0-9]*)$")
 
 
@@ -629,10 +632,13 @@ def parse_configuration(text: str) -> Configuration:
     1
     >>> parse_configuration("2p").parity
     -1
+    >>> format_configuration(parse_configuration("1s² 2p⁶ 3s"))
+    '1s2.2p6.3s'
     """
     if not isinstance(text, str):
         raise NotationError(f"configuration must be text, got {type(text).__name__}")
-    stripped = text.strip()
+    # occupancies as the web pages show them (1s² 2p⁶) read as digits
+    stripped = text.translate(_FROM_SUPERSCRIPTS).strip()
     if not stripped:
         raise NotationError("empty configuration")
     core = None
@@ -726,7 +732,6 @@ def format_configuration(config: Configuration) -> str:
     return ".".join(parts)
 
 
-_SUPERSCRIPTS = str.maketrans("0123456789", "⁰¹²³⁴⁵⁶⁷⁸⁹")
 
 
 def display_configuration(text: str, superscripts: bool = False) -> str:
@@ -896,6 +901,69 @@ def level_label(configuration: str, term: str, two_j: int) -> str:
     """Level label ``<configuration> <term><J>``, e.g. ``'3d 2D5/2'``."""
     j_text = format_j(two_j)
     return f"{configuration} {term}{j_text}" if term else f"{configuration} J={j_text}"
+
+
+@functools.lru_cache(maxsize=65536)
+def _split_label(label: str) -> tuple[Configuration, str] | None:
+    """A level label as (configuration, rest): the rest is the last word (term and J, ``J=2``, or a bare
+    term); None when the text before it is not a configuration."""
+    head, space, tail = label.strip().rpartition(" ")
+    if not space or not head.strip() or not tail:
+        return None
+    try:
+        return parse_configuration(head), tail
+    except NotationError:
+        return None
+
+
+def display_label(label: str | None, superscripts: bool = False) -> str:
+    """A level label as people read it: its configuration with spaces (:func:`display_configuration`).
+
+    Display only, like :func:`display_configuration`: stored labels and the label columns of files keep
+    the stored form (``1s2.2s2.2p6.3s 2S1/2``), and :func:`label_key` reads both forms back. A label
+    whose first part is not a configuration (a name chosen by the user) is returned as it is.
+
+    Examples
+    --------
+    >>> display_label("1s2.2s2.2p6.3s 2S1/2")
+    '1s2 2s2 2p6 3s 2S1/2'
+    >>> display_label("2p5(2P°3/2)3p 2[5/2]3", superscripts=True)
+    '2p⁵(2P°3/2) 3p 2[5/2]3'
+    >>> display_label("3d 2D5/2"), display_label("ground"), display_label("[Ne].3s J=1/2")
+    ('3d 2D5/2', 'ground', '[Ne] 3s J=1/2')
+    """
+    if not isinstance(label, str):
+        return "" if label is None else str(label)
+    parts = _split_label(label)
+    if parts is None:
+        return label
+    config, rest = parts
+    return f"{display_configuration(format_configuration(config), superscripts=superscripts)} {rest}"
+
+
+def label_key(label: str, electrons: int | None = None) -> str:
+    """The stored form of a typed level label: subshells joined by dots, one space before the term.
+
+    ``'1s2 2s2 2p6 3s 2S1/2'`` (as tables show it) and ``'1s2.2s2.2p6.3s 2S1/2'`` give the same key;
+    with the species' number of ``electrons`` the configuration is made canonical
+    (:func:`canonical_configuration`), so ``'4s 2S1/2'`` and ``'[Ar] 4s 2S1/2'`` of K I give one key too.
+    Text that is not ``<configuration> <term><J>`` is returned stripped.
+
+    >>> label_key("1s2 2s2 2p6 3s 2S1/2"), label_key(" 3d 2D5/2 "), label_key("my level")
+    ('1s2.2s2.2p6.3s 2S1/2', '3d 2D5/2', 'my level')
+    >>> label_key("4s 2S1/2", 19) == label_key("[Ar] 4s 2S1/2", 19) == "[Ar].4s 2S1/2"
+    True
+    """
+    parts = _split_label(label)
+    if parts is None:
+        return label.strip()
+    config, rest = parts
+    if electrons is not None:
+        try:
+            return f"{canonical_configuration(config, electrons)} {rest}"
+        except NotationError:
+            pass
+    return f"{format_configuration(config)} {rest}"
 
 
 def label_pattern_to_regex(pattern: str) -> re.Pattern[str]:

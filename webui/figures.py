@@ -24,7 +24,7 @@ import numpy as np
 
 from levels.errors import NotationError
 from levels.figures import unit_html
-from levels.notation import l_letter, parse_jk_term, parse_term
+from levels.notation import display_label, l_letter, parse_jk_term, parse_term
 from levels.units import CM1_EV
 
 #: colour of each multipole's lines (our own palette)
@@ -225,7 +225,8 @@ def level_layer(levels: Sequence[dict], unit: str = "cm-1", axis: str = "linear"
         traces.append({"type": "scatter", "mode": "lines", "x": xs, "y": ys, "hoverinfo": "skip",
                        "line": {"color": LEVEL_COLOUR, "width": 1.6}, "name": "levels", "showlegend": False})
         hover = [
-            f"<b>{html.escape(lv['label'])}</b><br>E = {_fmt(lv['energy_cm1'], '.4f')} cm⁻¹"
+            f"<b>{html.escape(display_label(lv['label'], superscripts=True))}</b>"
+            f"<br>E = {_fmt(lv['energy_cm1'], '.4f')} cm⁻¹"
             f" ({_fmt(lv['energy_cm1'] * CM1_EV, '.6f')} eV)<br>J = {html.escape(lv['j'])}, g = {lv['g']}"
             f"<br>{html.escape(lv['dataset'])}"
             for lv in levels
@@ -309,7 +310,8 @@ def line_hover(lines: LineArrays, medium: str, spectrum: str | None = None) -> l
         else:
             where = f"vacuum {_fmt(vac, '.5f')} nm" + (f" (air {air_nm:.5f} nm)" if has_air else "")
         title = f"{html.escape(name)}: " if name else ""
-        out.append(f"<b>{title}{html.escape(str(lower))} – {html.escape(str(upper))}</b><br>λ {where}"
+        out.append(f"<b>{title}{html.escape(display_label(str(lower), superscripts=True))} – "
+                   f"{html.escape(display_label(str(upper), superscripts=True))}</b><br>λ {where}"
                    f"<br>σ = {_fmt(sigma, '.4f')} cm⁻¹<br>A = {_fmt(a, '.3e')} s⁻¹ · {html.escape(code or '?')}")
     return out
 

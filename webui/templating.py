@@ -86,6 +86,14 @@ def configuration(value) -> str:
     return display_configuration(value, superscripts=True)
 
 
+def level_label(value) -> str:
+    """A level label with its configuration spaced and superscript occupancies (display only; the stored
+    label, links and downloads keep the dotted form)."""
+    from levels.notation import display_label
+
+    return display_label(value, superscripts=True)
+
+
 def parity_word(value) -> str:
     return {1: "even", -1: "odd"}.get(value, "")
 
@@ -111,7 +119,7 @@ def query_string(mapping: dict) -> str:
 def init_app(app: Flask) -> None:
     """Register the helpers on ``app``'s Jinja environment."""
     app.jinja_env.filters.update(fixed=fixed, sci=sci, sig=sig, plain=plain, parity_word=parity_word, num=num, pm=pm,
-                                 unc=unc, configuration=configuration)
+                                 unc=unc, configuration=configuration, level_label=level_label)
     app.jinja_env.globals.update(display_rows=display_rows,
                                  with_query=with_query, query_string=query_string, tool_version=__version__,
                                  all_multipoles=MULTIPOLE_CODES)

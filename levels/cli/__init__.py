@@ -138,14 +138,15 @@ def _non_negative_finite(ctx, param, value):
 def text_table(rows: Sequence[dict], columns: Sequence[str], headings: dict | None = None,
                max_rows: int | None = None) -> str:
     """A table for people: headings from the one vocabulary (``levels.service.vocabulary.LABELS``, which wins
-    over ``headings``), parity as even/odd, configurations with spaces, numbers per ``levels.io.display``."""
-    from levels.notation import display_configuration
+    over ``headings``), parity as even/odd, configurations and level labels with spaces, numbers per
+    ``levels.io.display``."""
+    from levels.io.display import display_text_columns
     from levels.service.vocabulary import LABELS, PARITY_WORDS
 
-    if "parity" in columns or "configuration" in columns:
-        rows = [{**r, **({"parity": PARITY_WORDS.get(r.get("parity"), r.get("parity"))} if "parity" in r else {}),
-                 **({"configuration": display_configuration(r.get("configuration"))} if "configuration" in r else {})}
+    if "parity" in columns:
+        rows = [{**r, **({"parity": PARITY_WORDS.get(r.get("parity"), r.get("parity"))} if "parity" in r else {})}
                 for r in rows]
+    rows = display_text_columns(rows, columns)
     return format_text_table(rows, columns, headings={**(headings or {}), **LABELS}, max_rows=max_rows)
 
 

@@ -17,14 +17,21 @@ people only. The policy:
   prints as ``0``; missing values (None, NaN) print as an empty cell.
 
 The two-significant-digit rule for the uncertainty is common practice, no source.
+
+Words follow the same split: configurations and level labels are shown with spaces between
+subshells (``1s2 2s2 2p6 3s 2S1/2``; :func:`display_text_columns`), while files keep the stored
+form with dots, which every input accepts (``levels.notation.label_key`` reads both).
 """
 
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 
-__all__ = ["UNCERTAINTY_OF", "column_style", "format_column", "format_number", "format_rows", "format_uncertainty",
+from levels.notation import display_configuration, display_label
+
+__all__ = ["CONFIGURATION_COLUMNS", "LEVEL_LABEL_COLUMNS", "UNCERTAINTY_OF", "column_style",
+           "display_text_columns", "format_column", "format_number", "format_rows", "format_uncertainty",
            "format_with_uncertainty", "is_uncertainty_column"]
 
 #: significant digits of a value without an uncertainty (the least shown)
@@ -312,3 +319,37 @@ def format_rows(rows: Sequence, columns: Sequence[str]) -> list[list[str]]:
         else:
             cols.append([format_number(v) if isinstance(v, float) else "" if v is None else str(v) for v in vals])
     return [list(r) for r in zip(*cols)] if cols else [[] for _ in rows]
+
+
+#: columns that hold a level label (a level's own, a line's two levels) in every row shape
+LEVEL_LABEL_COLUMNS = ("label", "lower", "upper")
+#: columns that hold a configuration
+CONFIGURATION_COLUMNS = ("configuration",)
+
+
+def display_text_columns(rows: Sequence[Mapping], columns: Sequence[str] | None = None, *,
+                         superscripts: bool = False) -> list[dict]:
+    """Copies of ``rows`` whose level-label and configuration cells read as people write them.
+
+    Labels go through :func:`levels.notation.display_label`, configurations through
+    :func:`levels.notation.display_configuration` (spaces between subshells, optionally superscript
+    occupancies); other cells and the rows themselves are not changed. For tables shown to people
+    only: exports keep the stored form.
+
+    >>> display_text_columns([{"lower": "1s2.2s 2S1/2", "upper": "1s2.2p 2P°3/2", "vacuum_nm": 670.96}])
+    [{'lower': '1s2 2s 2S1/2', 'upper': '1s2 2p 2P°3/2', 'vacuum_nm': 670.96}]
+    """
+    names = set(columns) if columns is not None else None
+    labels = [c for c in LEVEL_LABEL_COLUMNS if names is None or c in names]
+    configs = [c for c in CONFIGURATION_COLUMNS if names is None or c in names]
+    out = []
+    for row in rows:
+        shown = dict(row)
+        for name in labels:
+            if isinstance(shown.get(name), str):
+                shown[name] = display_label(shown[name], superscripts=superscripts)
+        for name in configs:
+            if isinstance(shown.get(name), str):
+                shown[name] = display_configuration(shown[name], superscripts=superscripts)
+        out.append(shown)
+    return out

@@ -276,7 +276,8 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
         length = limits.COLUMNS["datasets" if field == "dataset" else "levels"][column].length
         problem = None if value is None else limits.text_problem(value, length)
         if problem:
-            shown = field_text(row, field) if field != "dataset" else (value if len(value) <= 40 else value[:37] + "...")
+            shown = (field_text(row, field) if field != "dataset"
+                     else (value if len(value) <= 40 else value[:37] + "..."))
             row.fail(field, f"{'dataset name ' if field == 'dataset' else ''}{shown!r} {problem}")
     if row.problems:
         return None, row.problems[:1]
@@ -325,8 +326,9 @@ def validate_levels(items: Iterable[tuple[int | None, Mapping[str, object]]], *,
                 same = "" if first_label == record.label else (
                     f" as {first_label!r} (the same state: {record.state_key[0]} {record.term}, the closed core "
                     "written out, bracketed or left out)")
-                problems.append(Problem(source, line, "j", f"duplicate state {record.label!r} of {record.spectrum.name}, "
-                                                          f"first given on line {first_line}{same}"))
+                problems.append(Problem(source, line, "j", f"duplicate state {record.label!r} of "
+                                                          f"{record.spectrum.name}, first given on line "
+                                                          f"{first_line}{same}"))
             elif (record.spectrum, record.label) in seen_label:
                 problems.append(Problem(source, line, "label", f"duplicate label {record.label!r}, first given on line "
                                                                f"{seen_label[(record.spectrum, record.label)]}"))
@@ -338,7 +340,8 @@ def validate_levels(items: Iterable[tuple[int | None, Mapping[str, object]]], *,
             break
     names = {r.dataset for r in records}
     if len(names) > 1:
-        problems.append(Problem(source, None, "dataset", f"rows name several datasets ({', '.join(sorted(map(str, names)))}); "
+        listed = ", ".join(sorted(map(str, names)))
+        problems.append(Problem(source, None, "dataset", f"rows name several datasets ({listed}); "
                                                         "one file makes one dataset"))
     if problems:
         raise InputFileError(problems)

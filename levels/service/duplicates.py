@@ -18,6 +18,7 @@ from collections.abc import Iterable, Sequence
 
 from sqlalchemy.orm import Session
 
+from levels.errors import AlreadyExistsError
 from levels.notation import format_j
 from levels.store import queries
 
@@ -64,8 +65,11 @@ def precedence_note(species_name: str, states: Sequence[tuple], chosen_names: Se
 
     None when no state is held twice.
 
-    >>> precedence_note("K I", [("[Ar].4s", "2S", 1, 2)], ["k-cell/a", "k-cell/b"])
-    "K I: 1 state is held by several datasets (e.g. [Ar].4s 2S1/2); each is listed once, from the first of 'k-cell/a', 'k-cell/b' that holds it (precedence)"
+    >>> note = precedence_note("K I", [("[Ar].4s", "2S", 1, 2)], ["k-cell/a", "k-cell/b"])
+    >>> note[:61]
+    'K I: 1 state is held by several datasets (e.g. [Ar].4s 2S1/2)'
+    >>> note[61:]
+    "; each is listed once, from the first of 'k-cell/a', 'k-cell/b' that holds it (precedence)"
     """
     if not states:
         return None
@@ -89,3 +93,18 @@ def line_list_notes(session: Session, species, chosen: Sequence) -> list[str]:
     names = [d.name for d in chosen if d.name in holding]
     note = precedence_note(species.name, states, names)
     return [note] if note else []
+
+
+def refuse_same_state_twice(session: Session, dataset_id: int, dataset_name: str) -> None:
+    """Raise :class:`~levels.errors.AlreadyExistsError` when the dataset now holds one state twice.
+
+    For levels added to an existing dataset (the schema's unique constraint compares the configuration as
+    given, so ``4s`` added beside ``[Ar].4s`` would pass it); the caller's transaction then rolls back.
+    """
+    twice = queries.states_twice_in_dataset(session, dataset_id)
+    if twice:
+        species, config, term, two_j = twice[0]
+        shown = f"{config} {term}{'' if two_j is None else format_j(two_j)}"
+        raise AlreadyExistsError(f"dataset {dataset_name!r} already holds the state {shown} of {species} "
+                                 "(the closed core written out, bracketed or left out is one state); nothing was "
+                                 "added")

@@ -24,7 +24,7 @@ from levels.notation import Spectrum
 from levels.service import lookup
 from levels.service.contract import ImportReport
 from levels.service.derived import precheck_derived_lines, rebuild_derived_lines
-from levels.service.duplicates import import_duplicate_warnings
+from levels.service.duplicates import import_duplicate_warnings, refuse_same_state_twice
 from levels.store import queries
 from levels.store.schema import Dataset, Level
 
@@ -224,6 +224,7 @@ def add_levels(catalog, dataset: str | int, records: Sequence[level_io.LevelReco
         if ds.kind == "computed":
             raise PhysicsInputError(f"dataset {ds.name!r} is computed; add measured levels to a measured dataset")
         species_ids, n_levels = insert_level_records(session, records, ds.id)
+        refuse_same_state_twice(session, ds.id, ds.name)
         rebuild_derived_lines(session, species_ids, catalog.actor, source=source)
         queries.record_audit(session, "add-levels", f"dataset {ds.name}", {"source": source, "levels": n_levels},
                              actor=catalog.actor)

@@ -19,7 +19,7 @@ from levels.errors import InputFileError, NotFoundError, PhysicsInputError, Prob
 from levels.io import records as io_records
 from levels.io.records import read_peaks_file
 from levels.isotopes import isotope
-from levels.notation import label_pattern_to_regex, parse_spectrum
+from levels.notation import label_key, label_pattern_to_regex, parse_spectrum
 from levels.physics.lines import air, ritz, series
 from levels.service import lookup
 from levels.service.contract import LineQuery
@@ -132,13 +132,16 @@ def store_measured_lines(session: Session, records: Sequence[io_records.LineReco
         if rec.spectrum not in by_species:
             species = lookup.find_species(session, rec.spectrum)
             levels = queries.levels_by_precedence(session, species, chosen) if species else []
-            by_species[rec.spectrum] = (species, {lv.label: lv for lv in levels})
+            # a label as stored, or typed another way (spaces between subshells, the core written otherwise)
+            keyed = {label_key(lv.label, rec.spectrum.electrons): lv for lv in levels}
+            by_species[rec.spectrum] = (species, {**keyed, **{lv.label: lv for lv in levels}})
         species, labels = by_species[rec.spectrum]
         if species is None:
             problems.append(Problem(source, rec.line, "spectrum", f"no levels of {rec.spectrum.name} in the store; "
                                                                   "import its levels first"))
             continue
-        lower, upper = labels.get(rec.lower), labels.get(rec.upper)
+        lower = labels.get(rec.lower) or labels.get(label_key(rec.lower, rec.spectrum.electrons))
+        upper = labels.get(rec.upper) or labels.get(label_key(rec.upper, rec.spectrum.electrons))
         for field, label, level in (("lower", rec.lower, lower), ("upper", rec.upper, upper)):
             if level is None:
                 problems.append(Problem(source, rec.line, field, f"no level labelled {label!r} of {rec.spectrum.name} "

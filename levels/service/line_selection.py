@@ -22,7 +22,13 @@ import re
 from collections.abc import Sequence
 
 from levels.errors import PhysicsInputError
-from levels.notation import hydrogen_line_name, hydrogen_series_of_name, label_pattern_to_regex, principal_number
+from levels.notation import (
+    hydrogen_line_name,
+    hydrogen_series_of_name,
+    label_key,
+    label_pattern_to_regex,
+    principal_number,
+)
 
 #: columns of a multiplet row: the line-list columns (lower/upper are "configuration term", energies the
 #: g-weighted means of the levels present, wavelengths from the weighted wavenumber) plus these
@@ -53,7 +59,8 @@ def level_matcher(pattern: str):
             regex = None
     if regex is not None:
         return lambda label: label == text or regex.match(label) is not None
-    return lambda label: label == text
+    key = label_key(text)   # a label typed as tables show it (spaces between subshells) matches the stored one
+    return lambda label: label == text or label_key(label) == key
 
 
 def filter_lines(rows: Sequence[dict], *, lower: str | None = None, series: str | None = None,

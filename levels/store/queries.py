@@ -837,9 +837,6 @@ def dependent_line_counts(session: Session, dataset: Dataset) -> dict[str, int]:
 
 # ----------------------------------------------------------------- the same state in several datasets
 
-
-# ----------------------------------------------------------------- the same state in several datasets
-
 def same_state_levels(session: Session, dataset_id: int, *, species_ids: Sequence[int] | None = None,
                       limit: int = 10_000) -> list[tuple]:
     """Levels of ``dataset_id`` whose state a level of another user dataset of the same species holds.
@@ -886,4 +883,15 @@ def states_in_several_datasets(session: Session, species_id: int, dataset_ids: S
              .group_by(state, Level.term, Level.two_j)
              .having(func.count(func.distinct(Level.dataset_id)) > 1)
              .order_by(state, Level.term, Level.two_j))
+    return [tuple(row) for row in session.execute(query)]
+
+
+def states_twice_in_dataset(session: Session, dataset_id: int) -> list[tuple]:
+    """States (species name, canonical configuration, term, two_j) that one dataset holds more than once."""
+    query = (select(Species.name, Level.state_configuration, Level.term, Level.two_j)
+             .join(Species, Species.id == Level.species_id)
+             .where(Level.dataset_id == dataset_id, Level.state_configuration.is_not(None))
+             .group_by(Species.name, Level.state_configuration, Level.term, Level.two_j)
+             .having(func.count() > 1)
+             .order_by(Species.name, Level.state_configuration, Level.term, Level.two_j))
     return [tuple(row) for row in session.execute(query)]

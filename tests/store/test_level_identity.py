@@ -131,3 +131,20 @@ def test_migration_0004_fills_the_canonical_configuration(store_url):
         assert indexes["ix_levels_species_state"] == ["species_id", "state_configuration", "term", "two_j"]
     finally:
         engine.dispose()
+
+
+def test_adding_the_same_state_in_another_notation_to_one_dataset_is_refused(catalog, tmp_path):
+    import pytest
+
+    from levels.errors import AlreadyExistsError
+    from levels.io.records import validate_levels
+
+    a = catalog.import_file(_file(tmp_path, "k-a.csv", K_BRACKETED), sample="k-cell")
+    (same,) = validate_levels([(1, {"spectrum": "K I", "configuration": "4s", "term": "2S", "j": "1/2",
+                                    "energy_cm1": "0"})], source="<form>")
+    with pytest.raises(AlreadyExistsError, match=r"already holds the state \[Ar\].4s 2S1/2 of K I"):
+        catalog.add_levels(a.dataset, [same])
+    (new,) = validate_levels([(1, {"spectrum": "K I", "configuration": "4d", "term": "2D", "j": "3/2",
+                                   "energy_cm1": "22000"})], source="<form>")
+    assert catalog.add_levels(a.dataset, [new]) == 1
+    assert len(catalog.level_rows("K I", [a.dataset])) == 5
