@@ -66,7 +66,8 @@ def test_create_sample_with_conditions_in_units(client, store):
 BAD_SAMPLES = [
     ({"name": ""}, "name"), ({"name": "x" * 201}, "name"), ({"name": "demo-1"}, "name"),
     ({"name": "s", "pressure": "-3 Pa"}, "pressure"), ({"name": "s", "pressure": "3 parsec"}, "pressure"),
-    ({"name": "s", "te": "0"}, "te"), ({"name": "s", "ne": "lots"}, "ne"), ({"name": "s", "current_a": "1A"}, "current_a"),
+    ({"name": "s", "te": "0"}, "te"), ({"name": "s", "ne": "lots"}, "ne"),
+    ({"name": "s", "current_a": "1A"}, "current_a"),
     ({"name": "s", "path_length": "1e9 m"}, "path_length"), ({"name": "s", "description": "d" * 2001}, "description"),
 ]
 
@@ -140,7 +141,8 @@ def test_duplicate_state_and_computed_target_are_refused(client, store):
     cat = store["catalog"]
     ground = {"spectrum": "Li I", "configuration": "1s2.2s", "term": "2S", "j": "1/2", "energy_cm1": "0"}
     response = post_form(client, "/desk/levels", {"target": store["demo_dataset"], **ground})
-    assert response.status_code == 400 and "already holds this state" in field_error(response.get_data(as_text=True), "lv", "label")
+    shown = field_error(response.get_data(as_text=True), "lv", "label")
+    assert response.status_code == 400 and "already holds this state" in shown
     database.run_in_transaction(cat.engine, lambda s: queries.create_dataset(s, name="computed-x", kind="computed",
                                                                             method="test"))
     before = level_count(cat)
@@ -176,7 +178,8 @@ def test_upload_with_errors_lists_every_problem_and_writes_nothing(reader, share
 
 def test_unreadable_uploads_are_reported(reader, shared):
     before = level_count(shared["catalog"])
-    for content in [b"", b"\x00\x01binary", "é".encode("latin-1") + b",x\n1,2\n", b"spectrum,configuration\nLi I,1s2.2s\n"]:
+    for content in [b"", b"\x00\x01binary", "é".encode("latin-1") + b",x\n1,2\n",
+                    b"spectrum,configuration\nLi I,1s2.2s\n"]:
         response = upload(reader, content)
         assert response.status_code == 200 and "nothing was written" in response.get_data(as_text=True), content
     assert level_count(shared["catalog"]) == before
@@ -206,7 +209,8 @@ def test_upload_preview_then_commit_writes_one_dataset(client, store, tmp_path):
 def test_commit_with_a_forged_or_expired_token_writes_nothing(client, app, store):
     cat = store["catalog"]
     before = level_count(cat)
-    forged = client.post("/desk/upload/commit", data={"csrf_token": csrf_token(client), "token": "eyJpZCI6IngifQ.forged"})
+    forged = client.post("/desk/upload/commit",
+                         data={"csrf_token": csrf_token(client), "token": "eyJpZCI6IngifQ.forged"})
     assert forged.status_code == 400
     text = upload(client, GOOD_CSV).get_data(as_text=True)
     token = re.search(r'name="token" value="([^"]+)"', text).group(1)
@@ -222,7 +226,8 @@ def test_commit_into_a_taken_dataset_name_is_refused(client, store):
     token = re.search(r'name="token" value="([^"]+)"', text).group(1)
     before = level_count(cat)
     response = client.post("/desk/upload/commit", data={"csrf_token": csrf_token(client), "token": token})
-    assert response.status_code == 400 and "already exists" in field_error(response.get_data(as_text=True), "up", "dataset")
+    shown = field_error(response.get_data(as_text=True), "up", "dataset")
+    assert response.status_code == 400 and "already exists" in shown
     assert level_count(cat) == before
 
 
