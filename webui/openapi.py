@@ -446,9 +446,10 @@ def schema_problem(value, schema: dict, path: str = "", components: dict | None 
     if value is None:
         return None if schema.get("nullable") else (path, "must not be null")
     if "anyOf" in schema:
-        found = [schema_problem(value, option, path, components) for option in schema["anyOf"]]
-        if all(found):
-            return found[0][0], "; or ".join(message for _, message in found)
+        misses = [schema_problem(value, option, path, components) for option in schema["anyOf"]]
+        failed = [miss for miss in misses if miss is not None]
+        if len(failed) == len(misses):
+            return failed[0][0], "; or ".join(message for _, message in failed)
         rest = {k: v for k, v in schema.items() if k != "anyOf"}
         return schema_problem(value, rest, path, components) if rest else None
     kind = schema.get("type")
