@@ -17,8 +17,8 @@ from levels.errors import InputFileError, NotationError
 from levels.io.records import validate_levels
 from levels.notation import (
     _CORES,
-    NOBLE_GAS_CORES,
     L_LETTERS,
+    NOBLE_GAS_CORES,
     canonical_configuration,
     madelung_order,
     state_key,

@@ -9,6 +9,7 @@ from sqlalchemy import select, text
 
 from levels.errors import AlreadyExistsError, ReservedNameError
 from levels.notation import parse_spectrum
+from levels.service import lookup
 from levels.store import database, queries
 from levels.store.schema import Dataset, IonizationLimit, Level, Line
 
@@ -24,8 +25,8 @@ def test_is_reserved_dataset_name():
 
 def test_replace_computed_dataset_touches_only_its_role_and_species(catalog):
     def work(session):
-        na = queries.get_or_create_species(session, parse_spectrum("Na I"))
-        li = queries.get_or_create_species(session, parse_spectrum("Li I"))
+        na = lookup.get_or_create_species(session, parse_spectrum("Na I"))
+        li = lookup.get_or_create_species(session, parse_spectrum("Li I"))
         first = queries.replace_computed_dataset(session, na.id, "rates", name="rates Na I A=23", method="m",
                                                  method_version="1", options_json='{"a": 1}', actor="pytest")
         other = queries.replace_computed_dataset(session, li.id, "rates", name="rates Li I A=7", method="m",
@@ -52,7 +53,7 @@ def test_replace_computed_dataset_touches_only_its_role_and_species(catalog):
 
 def test_one_computed_dataset_per_role_and_species_in_the_schema(catalog):
     def work(session):
-        na = queries.get_or_create_species(session, parse_spectrum("Na I"))
+        na = lookup.get_or_create_species(session, parse_spectrum("Na I"))
         queries.create_dataset(session, name="a", kind="computed", role="rates", owner_species_id=na.id)
         queries.create_dataset(session, name="b", kind="computed", role="rates", owner_species_id=na.id)
 
@@ -60,7 +61,7 @@ def test_one_computed_dataset_per_role_and_species_in_the_schema(catalog):
         catalog.write(work)
 
     def user_role(session):
-        na = queries.get_or_create_species(session, parse_spectrum("Na I"))
+        na = lookup.get_or_create_species(session, parse_spectrum("Na I"))
         queries.create_dataset(session, name="c", kind="measured", role="rates", owner_species_id=na.id)
 
     from levels.errors import StoreError
