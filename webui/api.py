@@ -24,6 +24,7 @@ from levels.io.limits import text_problem
 from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
 from levels.io.records import LINE_FILE_COLUMNS, validate_levels, validate_lines
 from levels.service.line_selection import filter_lines
+from levels.service.vocabulary import add_spectral_column, medium_statement
 
 from webui import params, services
 from webui.downloads import json_response, json_table
@@ -123,11 +124,12 @@ def lines(spectrum: str):
             return error(400, "bad_parameter", f"{key} is longer than 200 characters", key)
     if empty:  # the windows given do not overlap: no line lies in both
         rows, total = [], 0
-    elif not any(chosen.values()):
+    elif not any(chosen.values()) and not request.args.get("unit"):
         page = services.line_page_json(ref, flt, limit, offset)  # each row written once per store revision
         if page is not None:
             texts, total, used = page
-            provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium)
+            provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium,
+                                        wavelengths=medium_statement(flt.medium, services.air_formula(cat, used)))
             table = line_table([], provenance, total=total, limit=limit, offset=offset)
             return services.json_rows_response(table, table["lines"], texts)
         rows, total = services.line_window(ref, flt, limit, offset)  # kept per store revision, no query
@@ -141,14 +143,21 @@ def lines(spectrum: str):
         rows, total = every[offset:offset + limit], len(every)
     services.add_ritz_columns(ref, rows, flt.medium)
     used = sorted({r["dataset"] for r in rows})
-    provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium)
-    return json_response(line_table(rows, provenance, total=total, limit=limit, offset=offset))
+    provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium,
+                                wavelengths=medium_statement(flt.medium, services.air_formula(cat, used)))
+    extra_column = None
+    if request.args.get("unit"):  # the position column in the unit asked (levels lines --unit)
+        extra_column, heading = add_spectral_column(rows, request.args["unit"], flt.medium)
+        provenance["unit"] = f"{extra_column}: {heading}"
+    return json_response(line_table(rows, provenance, total=total, limit=limit, offset=offset,
+                                    extra_column=extra_column))
 
 
-def line_table(rows: list[dict], provenance: dict, **extra) -> dict:
+def line_table(rows: list[dict], provenance: dict, extra_column: str | None = None, **extra) -> dict:
     """A line table answer: rows under ``lines``, as the CLI's line-list JSON, and the same rows under the
-    deprecated ``rows`` (kept for older clients)."""
-    table = json_table(rows, LINE_LIST_COLUMNS, provenance)
+    deprecated ``rows`` (kept for older clients); ``extra_column`` (the ``unit`` column) after the list's."""
+    columns = LINE_LIST_COLUMNS + ((extra_column,) if extra_column and extra_column not in LINE_LIST_COLUMNS else ())
+    table = json_table(rows, columns, provenance)
     return {"provenance": table["provenance"], "columns": table["columns"], "lines": table["rows"],
             "rows": table["rows"], **extra}
 

@@ -66,6 +66,13 @@ LINE_ROW = {
         "ritz_nm": _nullable("number", description="nm, in the asked medium; Ritz wavelength from the two levels"),
         "obs_minus_ritz_nm": _nullable("number", description="nm; obs_nm - ritz_nm"),
         "line_name": _nullable("string", description="customary hydrogen line name (Hα, Lyβ); null otherwise"),
+        # the position column the 'unit' parameter adds (one of these, after the others)
+        "wavelength_nm": _nullable("number", description="nm, in the medium (unit=nm)"),
+        "wavelength_angstrom": _nullable("number", description="Å, in the medium (unit=Å)"),
+        "wavelength_um": _nullable("number", description="µm, in the medium (unit=µm)"),
+        "photon_energy_ev": _nullable("number", description="eV (unit=eV)"),
+        "photon_energy_kev": _nullable("number", description="keV (unit=keV)"),
+        "frequency_hz": _nullable("number", description="Hz (unit=Hz)"),
     },
 }
 PROVENANCE = {"type": "object", "additionalProperties": {"type": "string"},
@@ -291,7 +298,16 @@ def openapi_document() -> dict:
          "schema": SPECTRAL_SCHEMA, "example": "15200cm-1"},
         {"name": "to", "in": "query", "description": "window end in any spectral unit (see from)",
          "schema": SPECTRAL_SCHEMA, "example": "16000cm-1"},
-        {"name": "medium", "in": "query", "schema": {"type": "string", "enum": ["vacuum", "air"], "default": "vacuum"}},
+        {"name": "medium", "in": "query",
+         "description": "medium of the window and the position column: air means air at and above 200 nm, vacuum "
+                        "below (the default of every front end); the provenance's 'wavelengths' says it in words",
+         "schema": {"type": "string", "enum": ["vacuum", "air"], "default": "air"}},
+        {"name": "unit", "in": "query",
+         "description": "add the position column in this unit: nm (wavelength_nm), Å or A (wavelength_angstrom), "
+                        "µm or um (wavelength_um), cm-1 (wavenumber_cm1), eV (photon_energy_ev), keV "
+                        "(photon_energy_kev), Hz (frequency_hz); lengths in the medium",
+         "schema": {"type": "string", "enum": ["nm", "Å", "A", "angstrom", "µm", "um", "cm-1", "eV", "keV", "Hz"]},
+         "example": "keV"},
         {"name": "multipole", "in": "query", "style": "form", "explode": False,
          "schema": {"type": "array", "items": {"type": "string", "enum": list(MULTIPOLE_CODES)}}},
         {"name": "min_a", "in": "query", "description": "smallest Einstein A, s-1",

@@ -28,7 +28,7 @@ def _rich(catalog: Catalog) -> None:
     fill(catalog)
     catalog.create_sample("odd sample ✓", description=TRICKY_TEXT, gas_fill="Ne + 1% Ar", pressure_pa=0.1 + 0.2,
                           current_a=-1.2345678901234567e-5, te_k=math.pi * 1e4, ne_m3=9.999999999999999e39)
-    catalog.import_file(DEMO / "sample-li-cell.csv", dataset="li/levels-second-look")
+    catalog.import_file(DEMO / "sample-li-cell.csv", dataset="li/levels-second-look", again=True)
     maintenance.retract_dataset(catalog, "li/levels-second-look", reason=TRICKY_TEXT)
 
     def awkward(session):
