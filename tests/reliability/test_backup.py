@@ -335,7 +335,7 @@ def test_export_during_writes_is_a_consistent_snapshot(catalog, tmp_path):
                 for index in range(60):
                     path = tmp_path / f"{_workers.dataset_name(9, index)}.csv"
                     path.write_text(_workers.file_text(9, index), encoding="utf-8")
-                    other.import_file(path, dataset=_workers.dataset_name(9, index))
+                    other.import_file(path, dataset=_workers.dataset_name(9, index), again=True)
         except Exception as exc:  # reported below
             errors.append(exc)
         finally:
