@@ -94,7 +94,7 @@ def test_sqlite_to_postgresql_to_sqlite_is_lossless(tmp_path, postgres_url):
     assert description == TRICKY_TEXT
     # the id sequences continue after the imported ids: new writes work and get fresh ids
     before = pg.read(lambda s: s.scalar(select(Level.id).order_by(Level.id.desc()).limit(1)))
-    report = pg.import_file(DEMO / "sample-li-cell.csv", dataset="after-the-move")
+    report = pg.import_file(DEMO / "sample-li-cell.csv", dataset="after-the-move", again=True)
     first_new = pg.read(lambda s: s.scalar(select(Level.id).where(Level.dataset_id == report.dataset_id)
                                            .order_by(Level.id).limit(1)))
     assert first_new == before + 1
