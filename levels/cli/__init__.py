@@ -23,8 +23,8 @@ from levels.errors import InputFileError, LevelsError
 from levels.io.limits import text_problem
 from levels.io.paths import check_output_path
 from levels.io.tables import format_table, format_text_table, printable, write_atomic
+from levels.service import stores
 from levels.service.vocabulary import DEFAULT_MEDIUM, SPECTRAL_OUTPUT_CHOICES
-from levels.store import database
 
 if TYPE_CHECKING:
     from click._termui_impl import ProgressBar  # the type click.progressbar returns
@@ -94,7 +94,7 @@ def require_existing_store(obj: Context) -> None:
 
     from sqlalchemy.engine import make_url
 
-    url = make_url(database.normalize_url(obj.db))
+    url = make_url(stores.store_url(obj.db))
     if url.get_backend_name() == "sqlite" and url.database not in (None, "", ":memory:") \
             and not url.database.startswith("file:") and not Path(url.database).exists():
         raise LevelsError(f"no store file at {url.database} (create one with 'levels init')")
@@ -106,7 +106,7 @@ def output_path(path: str | None, option: str = "--output") -> str | None:
         return None
     ctx = click.get_current_context(silent=True)
     obj = ctx.find_object(Context) if ctx is not None else None
-    url = database.normalize_url(obj.db) if obj is not None else None
+    url = stores.store_url(obj.db) if obj is not None else None
     check_output_path(path, option=option, store_url=url)
     return path
 
@@ -249,8 +249,8 @@ def where(obj: Context) -> None:
     Example:
       levels where
     """
-    url = database.normalize_url(obj.db)
-    click.echo(database.display_url(url))
+    url = stores.store_url(obj.db)
+    click.echo(stores.display_url(url))
     if url.startswith("sqlite:///"):
         click.echo(f"file: {url[len('sqlite:///'):]}")
         try:
@@ -259,14 +259,14 @@ def where(obj: Context) -> None:
             click.echo("schema: not initialised (no store file there yet; 'levels init' creates it)")
             return
     try:
-        revision = database.current_revision(obj.catalog.engine)
+        revision = stores.schema_revision(obj.catalog)
     except LevelsError as exc:
         click.echo(f"schema: unreachable ({exc})")
         return
     if revision is None:
         click.echo("schema: not initialised (run 'levels init')")
     else:
-        state = "current" if revision == database.head_revision() else "needs 'levels init' to upgrade"
+        state = "current" if revision == stores.head_revision() else "needs 'levels init' to upgrade"
         click.echo(f"schema: {revision} ({state})")
 
 
@@ -979,7 +979,8 @@ class _Progress:
         self.bars.clear()
 
 
-def _progress() -> _Progress:
+def progress_bars() -> _Progress:
+    """Progress bars on standard error when it is a terminal (silent otherwise)."""
     return _Progress(sys.stderr.isatty())
 
 
@@ -1015,7 +1016,7 @@ def hydrogenic(obj: Context, spectrum: str, mass_number: int | None, n_max: int,
     from levels.service.vocabulary import hydrogenic_corrections
 
     corrections = hydrogenic_corrections(recoil=not no_recoil, qed=not no_qed, finite_size=not no_finite_size)
-    progress = _progress()
+    progress = progress_bars()
     try:
         report = obj.catalog.compute_hydrogenic(spectrum, mass_number=mass_number, n_max=n_max,
                                                 fine_structure=fine_structure, corrections=corrections,
