@@ -529,10 +529,10 @@ def jk_term_problem(configuration: Configuration, term: JKTerm) -> str | None:
     >>> jk_term_problem(parse_configuration("2p5(2P°1/2)3p"), parse_jk_term("2[5/2]"))
     'K = 5/2 is impossible for parent J = 1/2 and l = 1 (K = 1/2 .. 3/2)'
     """
-    if not configuration.parents or configuration.parents[-1][2] is None:
+    index, _, two_j_parent = configuration.parents[-1] if configuration.parents else (0, None, None)
+    if two_j_parent is None:
         return ("a jK term needs the parent term with its J in the configuration, "
                 "like '2p5(2P°3/2)3p'")
-    index, _, two_j_parent = configuration.parents[-1]
     between = configuration.subshells[index + 1:-1]
     if index >= len(configuration.subshells) - 1 or any(k != 4 * l + 2 for _, l, k in between):
         return "the parent term must stand before the outer subshell (closed subshells between), like '2p5(2P°3/2)3p'"

@@ -14,6 +14,7 @@ import hmac
 import json
 import math
 from dataclasses import replace
+from typing import Any
 
 from flask import Blueprint, current_app, request, url_for
 from werkzeug.datastructures import MultiDict
@@ -56,7 +57,7 @@ def _allow_header(response):
 def error(status: int, code: str, message: str, field: str | None = None, problems: list | None = None,
           headers: dict | None = None):
     """A JSON error response ``{"error": {"code", "message", "field"}}``."""
-    body = {"error": {"code": code, "message": message, "field": field}}
+    body: dict[str, dict[str, Any]] = {"error": {"code": code, "message": message, "field": field}}
     if problems is not None:
         body["error"]["problems"] = problems
     return json_response(body, status, headers)
@@ -122,6 +123,7 @@ def lines(spectrum: str):
     for key, value in chosen.items():
         if value is not None and len(value) > 200:
             return error(400, "bad_parameter", f"{key} is longer than 200 characters", key)
+    rows: list[dict]
     if empty:  # the windows given do not overlap: no line lies in both
         rows, total = [], 0
     elif not any(chosen.values()) and not request.args.get("unit"):

@@ -354,7 +354,7 @@ def diagram_json(spectrum: str):
         # store revision (None: not yet written), and every line's level rows, found once per store revision
         every = services.cached(("diagram-hover", ref.spectrum, flt.medium),
                                 lambda: np.full(len(stored), None, dtype=object))
-        missing = index[np.equal(every[index], None)]
+        missing = index[np.equal(every[index], np.array(None, dtype=object))]  # None as numpy's 0-d object array
         if len(missing):
             every[missing] = [json.dumps(text, ensure_ascii=False) for text in
                               line_hover(LineArrays.from_columns(stored.columns, missing), flt.medium, ref.name)]

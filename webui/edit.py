@@ -25,6 +25,7 @@ import hmac
 import os
 import secrets
 import time
+from collections.abc import Sequence
 from pathlib import Path
 
 from flask import (
@@ -52,7 +53,7 @@ from levels.errors import (
     UnitError,
 )
 from levels.io.limits import automatic_dataset_name_problem, text_problem
-from levels.io.records import validate_level
+from levels.io.records import LevelRecord, LineRecord, validate_level
 from levels.io.tables import read_delimited
 from levels.service.imports import detect_file_kind
 from levels.service.line_preview import check_line_file
@@ -76,9 +77,17 @@ SAMPLE_UNITS = {"pressure_pa": "Pa", "current_a": "A", "te_k": "K", "ne_m3": "m-
 
 # ----------------------------------------------------------------- desk lock
 
+def _secret_key() -> str | bytes:
+    """The site's secret key (``create_app`` always sets one, a random one when none is configured)."""
+    key = current_app.secret_key
+    if key is None:  # the TypeError hmac and itsdangerous would raise for a missing key, with its reason
+        raise TypeError("the web site has no SECRET_KEY")
+    return key
+
+
 def _token_digest(token: str) -> str:
-    return hmac.new(current_app.secret_key.encode() if isinstance(current_app.secret_key, str)
-                    else current_app.secret_key, token.encode(), hashlib.sha256).hexdigest()
+    key = _secret_key()
+    return hmac.new(key.encode() if isinstance(key, str) else key, token.encode(), hashlib.sha256).hexdigest()
 
 
 def desk_locked() -> bool:
@@ -294,7 +303,7 @@ def add_level():
 # ----------------------------------------------------------------- upload
 
 def _serializer() -> URLSafeTimedSerializer:
-    return URLSafeTimedSerializer(current_app.secret_key, salt="levels-upload-v1")
+    return URLSafeTimedSerializer(_secret_key(), salt="levels-upload-v1")
 
 
 def staging_dir() -> Path:
@@ -325,10 +334,11 @@ def _upload_options(form) -> tuple[dict, dict]:
     if options["kind"] not in ("measured", "imported"):
         errors["kind"] = "choose measured or imported"
     for name, limit in (("sample", 200), ("dataset", 200), ("citation", 2000)):
-        if options[name] and len(options[name]) > limit:
+        value = options[name]
+        if value and len(value) > limit:
             errors[name] = f"at most {limit} characters"
-        elif options[name] and text_problem(options[name], limit, multiline=name == "citation"):
-            errors[name] = f"the text {text_problem(options[name], limit, multiline=name == 'citation')}"
+        elif value and text_problem(value, limit, multiline=name == "citation"):
+            errors[name] = f"the text {text_problem(value, limit, multiline=name == 'citation')}"
     return options, errors
 
 
@@ -361,7 +371,8 @@ def upload_kind(columns, source: str, header_line: int) -> str:
     return detect_file_kind(columns, source, header_line)
 
 
-def preview_upload(content: bytes, name: str) -> tuple[str, list, list[Problem]]:
+def preview_upload(content: bytes, name: str) -> tuple[str, Sequence[LevelRecord] | Sequence[LineRecord],
+                                                      list[Problem]]:
     """(kind, records, problems) of an uploaded file, validated in full and nothing written.
 
     Measured lines get every check of their import, against the stored levels too (labels, the multipole's
@@ -376,10 +387,10 @@ def preview_upload(content: bytes, name: str) -> tuple[str, list, list[Problem]]
         message = f"{name} is a {KIND_NAMES[kind]}: {ELSEWHERE[kind].format(name=name)}."
         return kind, [], [Problem(name, table.header_line, None, message)]
     if kind == "lines":
-        records, problems = check_line_file(services.catalog(), content, name)
-        return kind, records, problems
-    records, problems = services.catalog().preview_levels(content, source=name)
-    return kind, records, problems
+        line_records, problems = check_line_file(services.catalog(), content, name)
+        return kind, line_records, problems
+    level_records, problems = services.catalog().preview_levels(content, source=name)
+    return kind, level_records, problems
 
 
 @bp.post("/upload")

@@ -415,7 +415,7 @@ def line_page_json(ref: SpeciesRef, flt: LineFilter, limit: int | None = None,
     index = lines.page(keep, flt.order, offset, limit)
     texts = _line_texts(ref, lines, flt.medium)
     chosen = texts[index]
-    missing = index[np.equal(chosen, None)]
+    missing = index[np.equal(chosen, np.array(None, dtype=object))]  # None as the 0-d object array numpy makes of it
     if len(missing):
         rows = add_ritz_columns(ref, lines.line_rows(missing), flt.medium)
         # the same values and text as json_response(json_table(rows, LINE_LIST_COLUMNS, ...)) gives each row

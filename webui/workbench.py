@@ -34,7 +34,7 @@ from levels.catalog import EMISSION_COLUMNS, LINE_UNITS, LineQuery
 from levels.errors import NotFoundError, PhysicsInputError, UnitError
 from levels.figures import model_comparison_figure
 from levels.io.tables import format_table
-from levels.physics.colour import BANDS_NM, srgb_swatch
+from levels.service.emission import BANDS_NM, srgb_swatch
 from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 
 from webui import params, security, services

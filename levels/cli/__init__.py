@@ -13,6 +13,7 @@ import json
 import sys
 import warnings
 from collections.abc import Callable, Sequence
+from typing import TYPE_CHECKING, Any
 
 import click
 
@@ -22,8 +23,11 @@ from levels.errors import InputFileError, LevelsError
 from levels.io.limits import text_problem
 from levels.io.paths import check_output_path
 from levels.io.tables import format_table, format_text_table, printable, write_atomic
+from levels.service import stores
 from levels.service.vocabulary import DEFAULT_MEDIUM, SPECTRAL_OUTPUT_CHOICES
-from levels.store import database
+
+if TYPE_CHECKING:
+    from click._termui_impl import ProgressBar  # the type click.progressbar returns
 
 TABLE_FORMATS = ("table", "csv", "json", "ecsv")
 
@@ -90,7 +94,7 @@ def require_existing_store(obj: Context) -> None:
 
     from sqlalchemy.engine import make_url
 
-    url = make_url(database.normalize_url(obj.db))
+    url = make_url(stores.store_url(obj.db))
     if url.get_backend_name() == "sqlite" and url.database not in (None, "", ":memory:") \
             and not url.database.startswith("file:") and not Path(url.database).exists():
         raise LevelsError(f"no store file at {url.database} (create one with 'levels init')")
@@ -102,7 +106,7 @@ def output_path(path: str | None, option: str = "--output") -> str | None:
         return None
     ctx = click.get_current_context(silent=True)
     obj = ctx.find_object(Context) if ctx is not None else None
-    url = database.normalize_url(obj.db) if obj is not None else None
+    url = stores.store_url(obj.db) if obj is not None else None
     check_output_path(path, option=option, store_url=url)
     return path
 
@@ -144,7 +148,7 @@ def text_table(rows: Sequence[dict], columns: Sequence[str], headings: dict | No
     from levels.service.vocabulary import LABELS, PARITY_WORDS
 
     if "parity" in columns:
-        rows = [{**r, **({"parity": PARITY_WORDS.get(r.get("parity"), r.get("parity"))} if "parity" in r else {})}
+        rows = [{**r, **({"parity": PARITY_WORDS.get(r["parity"], r["parity"])} if "parity" in r else {})}
                 for r in rows]
     rows = display_text_columns(rows, columns)
     return format_text_table(rows, columns, headings={**(headings or {}), **LABELS}, max_rows=max_rows)
@@ -245,8 +249,8 @@ def where(obj: Context) -> None:
     Example:
       levels where
     """
-    url = database.normalize_url(obj.db)
-    click.echo(database.display_url(url))
+    url = stores.store_url(obj.db)
+    click.echo(stores.display_url(url))
     if url.startswith("sqlite:///"):
         click.echo(f"file: {url[len('sqlite:///'):]}")
         try:
@@ -255,14 +259,14 @@ def where(obj: Context) -> None:
             click.echo("schema: not initialised (no store file there yet; 'levels init' creates it)")
             return
     try:
-        revision = database.current_revision(obj.catalog.engine)
+        revision = stores.schema_revision(obj.catalog)
     except LevelsError as exc:
         click.echo(f"schema: unreachable ({exc})")
         return
     if revision is None:
         click.echo("schema: not initialised (run 'levels init')")
     else:
-        state = "current" if revision == database.head_revision() else "needs 'levels init' to upgrade"
+        state = "current" if revision == stores.head_revision() else "needs 'levels init' to upgrade"
         click.echo(f"schema: {revision} ({state})")
 
 
@@ -281,7 +285,7 @@ def species(obj: Context, fmt: str, output: str | None) -> None:
     require_existing_store(obj)
     output_path(output)
     rows = obj.catalog.species_rows()
-    columns = SPECIES_COLUMNS
+    columns: tuple[str, ...] = SPECIES_COLUMNS
     if fmt == "table" and any(r["all_limits"].count("(") > 1 for r in rows):
         # people see every stored and fitted limit side by side; files keep the column contract
         columns = SPECIES_COLUMNS + ("all_limits",)
@@ -366,7 +370,8 @@ def import_(obj: Context, file: str, sample: str | None, dataset: str | None, ki
         click.echo(f"note: {warning}")
     what = f"{report.levels} levels" if report.levels else f"{report.lines} lines"
     click.echo(f"imported {what} of {', '.join(report.species)} into {report.kind} dataset "
-               f"{report.dataset!r} (id {report.dataset_id})" + (f" of sample {report.sample!r}" if report.sample else ""))
+               f"{report.dataset!r} (id {report.dataset_id})"
+               + (f" of sample {report.sample!r}" if report.sample else ""))
     if report.levels and report.lines:
         click.echo(f"derived {report.lines} E1 lines from the levels (Ritz wavelengths; rates unknown until measured)")
 
@@ -403,13 +408,12 @@ def _window(from_: str | None, to: str | None, medium: str = "vacuum",
     """
     first = _wavelength_option(from_, "--from", medium, air_formula)
     second = _wavelength_option(to, "--to", medium, air_formula)
-    lo = first[0] if first else None
-    hi = second[0] if second else None
-    if first is not None and second is not None:
-        if first[1] and second[1] and lo >= hi or lo == hi:
-            raise click.UsageError(f"empty window: --from {from_} is not below --to {to}")
-        lo, hi = min(lo, hi), max(lo, hi)
-    return lo, hi
+    if first is None or second is None:
+        return (first[0] if first else None), (second[0] if second else None)
+    lo, hi = first[0], second[0]
+    if first[1] and second[1] and lo >= hi or lo == hi:
+        raise click.UsageError(f"empty window: --from {from_} is not below --to {to}")
+    return min(lo, hi), max(lo, hi)
 
 
 def _energy_cm1_option(value: str | None) -> float | None:
@@ -436,11 +440,14 @@ def _multipoles_option(value: str) -> tuple[str, ...]:
 @click.option("--unit", "out_unit", metavar="UNIT",
               help=f"Add the position column in this unit: {', '.join(SPECTRAL_OUTPUT_CHOICES)} (A and um accepted; "
                    "lengths in the --medium). Files keep vacuum_nm and air_nm and add the column at the end.")
-@click.option("--multipole", default="E1", show_default=True, help="Comma list of E1, M1, E2 (forbidden lines on request).")
-@click.option("--min-a", type=float, callback=_non_negative_finite, help="Smallest Einstein A, s-1 (lines without a known A are left out).")
+@click.option("--multipole", default="E1", show_default=True,
+              help="Comma list of E1, M1, E2 (forbidden lines on request).")
+@click.option("--min-a", type=float, callback=_non_negative_finite,
+              help="Smallest Einstein A, s-1 (lines without a known A are left out).")
 @click.option("--max-upper", metavar="ENERGY", help="Highest upper-level energy (50000cm-1, 6.2eV).")
 @click.option("--dataset", "datasets", multiple=True, metavar="NAME", help="Datasets in order of precedence (repeat).")
-@click.option("--sort", "order", type=click.Choice(["wavelength", "strength", "a"]), default="wavelength", show_default=True)
+@click.option("--sort", "order", type=click.Choice(["wavelength", "strength", "a"]), default="wavelength",
+              show_default=True)
 @click.option("--air-formula", type=click.Choice(["morton2000", "edlen1966", "ciddor1996", "iau2000"]),
               default="morton2000", show_default=True,
               help="Refractive index of air: morton2000 (Morton 2000), edlen1966, ciddor1996; iau2000 is an alias "
@@ -450,7 +457,8 @@ def _multipoles_option(value: str) -> tuple[str, ...]:
               help="Only lines from this lower level: a label, a glob ('1s2.2p*') or a series pattern ('np 2P°3/2').")
 @click.option("--series", "series_pattern", metavar="PATTERN",
               help="Only lines whose upper level is in this series ('np 2P°3/2', n the running number).")
-@click.option("--name", "line_name", metavar="NAME", help="Only the hydrogen line of this name (Hα, H-alpha, Lyβ, Pa9).")
+@click.option("--name", "line_name", metavar="NAME",
+              help="Only the hydrogen line of this name (Hα, H-alpha, Lyβ, Pa9).")
 @click.option("--multiplets", is_flag=True,
               help="Sum the fine-structure components of each configuration and term pair into one multiplet row.")
 @click.option("--format", "fmt", type=click.Choice(TABLE_FORMATS), default="table", show_default=True)
@@ -500,11 +508,13 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     require_existing_store(obj)
     output_path(output)
     from_nm, to_nm = _window(from_, to, medium, air_formula)
+    multipoles = _multipoles_option(multipole)
     query = LineQuery(spectrum=spectrum, from_nm=from_nm,
                       to_nm=to_nm, medium=medium,
-                      multipoles=_multipoles_option(multipole), min_a=min_a,
+                      multipoles=multipoles, min_a=min_a,
                       max_upper_cm1=_energy_cm1_option(max_upper), datasets=tuple(datasets) or None,
                       order=order, limit=None if (lower_pattern or series_pattern or line_name) else limit)
+    info: dict[str, Any]
     if spectrum is None:
         if query.from_nm is None or query.to_nm is None:
             raise click.UsageError("without SPECTRUM, give a window with --from and --to")
@@ -513,7 +523,7 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
         used = sorted({r["dataset"] for r in rows})
         info = {"total": total, "without_rates": sum(1 for r in rows if r["a_per_s"] is None)}
     else:
-        rows, info = obj.catalog.species_lines(query, multipoles=query.multipoles, air_formula=air_formula)
+        rows, info = obj.catalog.species_lines(query, multipoles=multipoles, air_formula=air_formula)
         used = info["datasets"]
     provenance = obj.catalog.provenance(query.describe(), used, air_formula=air_formula_description(air_formula),
                                         lines=f"{len(rows)} of {info['total']}",
@@ -729,7 +739,8 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
 @click.argument("spectrum")
 @click.option("--te", required=True, metavar="TEMPERATURE", help="Electron (excitation) temperature: 1.0eV or 11600K.")
 @click.option("--ne", required=True, metavar="DENSITY", help="Electron density: 1e18m-3 or 1e12cm-3.")
-@click.option("--tgas", default="300K", show_default=True, metavar="TEMPERATURE", help="Gas temperature (Doppler width).")
+@click.option("--tgas", default="300K", show_default=True, metavar="TEMPERATURE",
+              help="Gas temperature (Doppler width).")
 @click.option("--model", type=click.Choice(["lte", "cr"]), default="lte", show_default=True,
               help="Populations: lte (Boltzmann-Saha at Te) or cr (collisional-radiative steady state).")
 @click.option("--from", "from_", metavar="POSITION",
@@ -740,7 +751,8 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
 @click.option("--instrument-fwhm", default="0nm", show_default=True, metavar="WAVELENGTH",
               help="Gaussian instrument profile FWHM.")
 @click.option("--length", "--path-length", "path_length", metavar="LENGTH",
-              help="Plasma depth (slab thickness or cylinder radius) for escape factors and self-absorption (e.g. 0.01m).")
+              help="Plasma depth (slab thickness or cylinder radius) for escape factors and self-absorption "
+                   "(e.g. 0.01m).")
 @click.option("--geometry", type=click.Choice(["slab", "cylinder"]), default="slab", show_default=True,
               help="Shape of the plasma for the escape factors of --model cr.")
 @click.option("--loss-rate", metavar="RATE", default="0", show_default=True,
@@ -753,12 +765,14 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
               help="Foreign gas for van der Waals broadening (with --pressure): He, Ne, Ar, Kr, Xe, H2, N2, Hg.")
 @click.option("--pressure", metavar="PRESSURE", help="Pressure of the perturber gas (e.g. 1bar, 20kPa, 760Torr).")
 @click.option("--cool-layer", metavar="LENGTH",
-              help="Outer layer of ground-state atoms at the gas temperature that absorbs (self-reversal), with --length.")
+              help="Outer layer of ground-state atoms at the gas temperature that absorbs (self-reversal), "
+                   "with --length.")
 @click.option("--element-density", metavar="DENSITY", help="Density of the element, all charge states (default: ne).")
 @click.option("--cutoff", "cutoff_method", type=click.Choice(["debye", "inglis-teller", "none"]), default="debye",
               show_default=True, help="Partition-function cutoff.")
 @click.option("--top", type=click.IntRange(min=0), default=15, show_default=True, help="Lines printed in the table.")
-@click.option("--format", "fmt", type=click.Choice(["table", "json", "csv", "ecsv"]), default="table", show_default=True)
+@click.option("--format", "fmt", type=click.Choice(["table", "json", "csv", "ecsv"]), default="table",
+              show_default=True)
 @click.option("--output", type=click.Path(dir_okay=False), help="Write the line list (csv/ecsv/json) to this file.")
 @click.option("--plot", type=click.Path(dir_okay=False), help="Write an interactive spectrum (HTML) to this file.")
 @click.option("--spectrum", "spectrum_file", type=click.Path(dir_okay=False), help="Write the sampled spectrum (CSV).")
@@ -943,7 +957,7 @@ class _Progress:
 
     def __init__(self, enabled: bool):
         self.enabled = enabled
-        self.bars: dict[str, object] = {}
+        self.bars: dict[str, ProgressBar[int]] = {}
         self.done: dict[str, int] = {}
 
     def __call__(self, stage: str, done: int, total: int) -> None:
@@ -965,13 +979,15 @@ class _Progress:
         self.bars.clear()
 
 
-def _progress() -> _Progress:
+def progress_bars() -> _Progress:
+    """Progress bars on standard error when it is a terminal (silent otherwise)."""
     return _Progress(sys.stderr.isatty())
 
 
 @main.command()
 @click.argument("spectrum")
-@click.option("--mass-number", type=click.IntRange(1, 300), help="Isotope mass number (default: D/T from the symbol, else the most abundant).")
+@click.option("--mass-number", type=click.IntRange(1, 300),
+              help="Isotope mass number (default: D/T from the symbol, else the most abundant).")
 @click.option("--n-max", type=int, default=20, show_default=True, help="Highest principal quantum number (1..1000).")
 @click.option("--fine-structure/--no-fine-structure", default=True, show_default=True,
               help="Levels n l j, or nl terms with the j components merged.")
@@ -1000,7 +1016,7 @@ def hydrogenic(obj: Context, spectrum: str, mass_number: int | None, n_max: int,
     from levels.service.vocabulary import hydrogenic_corrections
 
     corrections = hydrogenic_corrections(recoil=not no_recoil, qed=not no_qed, finite_size=not no_finite_size)
-    progress = _progress()
+    progress = progress_bars()
     try:
         report = obj.catalog.compute_hydrogenic(spectrum, mass_number=mass_number, n_max=n_max,
                                                 fine_structure=fine_structure, corrections=corrections,

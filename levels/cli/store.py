@@ -8,23 +8,11 @@ from __future__ import annotations
 
 import json
 import sys
-from pathlib import Path
 
 import click
-from sqlalchemy.engine import make_url
 
-from levels.cli import Context, _progress, main, reports_errors, text_table
-from levels.errors import StoreError
+from levels.cli import Context, main, progress_bars, reports_errors, require_existing_store, text_table
 from levels.io.tables import printable
-from levels.store import database
-
-
-def _existing_store(obj: Context) -> None:
-    """Refuse to create a SQLite file by merely looking at a mistyped path."""
-    url = make_url(database.normalize_url(obj.db))
-    if url.get_backend_name() == "sqlite" and url.database not in (None, "", ":memory:") \
-            and not Path(url.database).exists():
-        raise StoreError(f"no store file at {url.database}")
 
 
 @main.command()
@@ -47,7 +35,7 @@ def check(obj: Context, fmt: str) -> None:
     """
     from levels.service import maintenance
 
-    _existing_store(obj)
+    require_existing_store(obj)
     report = maintenance.check(obj.catalog)
     if fmt == "json":
         click.echo(json.dumps(report.as_dict(), indent=1, ensure_ascii=False))
@@ -85,8 +73,8 @@ def export_store(obj: Context, file: str) -> None:
     """
     from levels.service import maintenance
 
-    _existing_store(obj)
-    progress = _progress()
+    require_existing_store(obj)
+    progress = progress_bars()
     try:
         summary = maintenance.export_store(obj.catalog, file, progress=progress)
     finally:
@@ -141,7 +129,7 @@ def history(obj: Context, limit: int, action: str | None, target: str | None, fm
     """
     from levels.service import maintenance
 
-    _existing_store(obj)
+    require_existing_store(obj)
     rows = maintenance.history(obj.catalog, limit=limit or None, action=action, target=target)
     if fmt == "json":
         click.echo(json.dumps(rows, indent=1, ensure_ascii=False))
@@ -175,7 +163,7 @@ def retract(obj: Context, dataset: str, reason: str) -> None:
     """
     from levels.service import maintenance
 
-    _existing_store(obj)
+    require_existing_store(obj)
     _print_state_change(maintenance.retract_dataset(obj.catalog, dataset, reason=reason), "retracted")
 
 
@@ -193,5 +181,5 @@ def restore(obj: Context, dataset: str, reason: str) -> None:
     """
     from levels.service import maintenance
 
-    _existing_store(obj)
+    require_existing_store(obj)
     _print_state_change(maintenance.restore_dataset(obj.catalog, dataset, reason=reason), "restored")

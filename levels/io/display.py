@@ -26,7 +26,8 @@ form with dots, which every input accepts (``levels.notation.label_key`` reads b
 from __future__ import annotations
 
 import math
-from collections.abc import Mapping, Sequence
+from collections.abc import Callable, Mapping, Sequence
+from typing import TypeGuard
 
 from levels.notation import display_configuration, display_label
 
@@ -44,7 +45,8 @@ SCIENTIFIC_DECIMALS = 3
 UNC_SIGNIFICANT = 2
 
 
-def _finite(value) -> bool:
+def _finite(value: object) -> TypeGuard[float]:
+    """A finite int or float (not a bool): a value the display rounds."""
     return isinstance(value, (int, float)) and not isinstance(value, bool) and math.isfinite(value)
 
 
@@ -195,7 +197,7 @@ def format_column(values: Sequence, uncertainties: Sequence | None = None, *, mi
         top = _exponent(max(nonzero)) if nonzero else 0
         digits = max(0, min_significant - 1 - top)
         limit = max(digits, MAX_SIGNIFICANT - 1 - top)
-        render = _fixed
+        render: Callable[[float, int], str] = _fixed
     else:
         digits = SCIENTIFIC_DECIMALS
         limit = MAX_SIGNIFICANT - 1

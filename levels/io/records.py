@@ -274,13 +274,17 @@ def validate_level(fields: Mapping[str, object], *, source: str, line: int | Non
                          ("term", term_canonical), ("dataset", dataset)):
         column = "name" if field == "dataset" else field
         length = limits.COLUMNS["datasets" if field == "dataset" else "levels"][column].length
-        problem = None if value is None else limits.text_problem(value, length)
+        if value is None:
+            continue
+        problem = limits.text_problem(value, length)
         if problem:
             shown = (field_text(row, field) if field != "dataset"
                      else (value if len(value) <= 40 else value[:37] + "..."))
             row.fail(field, f"{'dataset name ' if field == 'dataset' else ''}{shown!r} {problem}")
     if row.problems:
         return None, row.problems[:1]
+    # a missing required number or parity recorded a problem above
+    assert parity is not None and energy is not None
     label = row.text("label") or level_label(config_canonical, term_canonical, two_j)
     if len(label) > 200:
         return None, [Problem(source, line, "label", "label is longer than 200 characters")]
@@ -420,6 +424,7 @@ def validate_line(fields: Mapping[str, object], *, source: str,
     note = row.text("note")
     if row.problems:
         return None, row.problems
+    assert wavelength is not None and unc is not None  # required numbers: a problem was recorded otherwise
     return LineRecord(spectrum, lower, upper, wavelength, medium, unc, intensity, a_value, f_value, multipole,
                       note, line), []
 
@@ -486,7 +491,7 @@ def read_peaks_file(path_or_bytes: str | os.PathLike | bytes, *, source: str | N
         if intensity is None:
             intensity = row.number("area", minimum=0.0)
         problems.extend(row.problems)
-        if not row.problems:
+        if not row.problems and value is not None:  # a missing peak_nm recorded a problem
             peaks.append(PeakRecord(value, medium, unc, intensity, row.text("note"), line))
     if problems:
         raise InputFileError(problems)

@@ -50,6 +50,10 @@ from levels.service.lines import species_lines
 from levels.store import queries
 from levels.units import CM1_J, C, H
 
+#: the colour bands of the power shares (nm) and the sRGB swatch of a chromaticity, for the front ends
+BANDS_NM = colour.BANDS_NM
+srgb_swatch = colour.srgb_swatch
+
 UV_CAUTION = ("CAUTION: this spectrum puts more than 1 % of its power into UV-C or UV-B. Ultraviolet radiation "
               "injures eyes and skin within seconds to minutes. Use enclosures, UV-blocking eye and face protection "
               "and interlocks; follow the applicable photobiological-safety standards (for example IEC 62471), "

@@ -307,7 +307,7 @@ def insert_level_records(session: Session, records: Sequence[level_io.LevelRecor
 def level_insert_row(rec: level_io.LevelRecord, dataset_id: int, species_id: int) -> dict:
     """The ``levels`` table row of a validated level (LS Landé g filled in where the file gave none)."""
     lande = rec.lande_g
-    if lande is None and rec.multiplicity is not None:
+    if lande is None and rec.multiplicity is not None and rec.big_l is not None:  # an LS term gives both
         from levels.physics.lines.lande import lande_g_ls
 
         lande = float(lande_g_ls(rec.multiplicity - 1, rec.big_l, rec.two_j))

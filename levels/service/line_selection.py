@@ -159,7 +159,7 @@ def merge_multiplets(rows: Sequence[dict], *, medium: str = "air", air_formula: 
             wavenumber, weighting = _weighted(sigma, ga), "gA"
         else:
             wavenumber, weighting = sum(sigma) / len(sigma), "none"
-        strengths = [r.get("line_strength_au") for r in members]
+        strengths = [r["line_strength_au"] for r in members if r.get("line_strength_au") is not None]
         vacuum = 1e7 / wavenumber if wavenumber > 0 else math.nan
         air_nm = float(air.vacuum_to_air(vacuum, air_formula)) if vacuum > 200 else None
         uncs = [r["unc_nm"] for r in members if r.get("unc_nm") is not None]
@@ -167,15 +167,15 @@ def merge_multiplets(rows: Sequence[dict], *, medium: str = "air", air_formula: 
             "spectrum": spectrum, "lower": lower, "upper": upper, "lower_cm1": e_l, "upper_cm1": e_u,
             "wavenumber_cm1": wavenumber, "vacuum_nm": vacuum, "air_nm": air_nm, "multipole": multipole,
             "a_per_s": sum(ga) / g_u if ga else None, "f_abs": sum(gf) / g_l if gf else None,
-            "line_strength_au": sum(strengths) if all(s is not None for s in strengths) else None,
+            "line_strength_au": sum(strengths) if len(strengths) == len(members) else None,
             "g_lower": g_l, "g_upper": g_u, "unc_nm": max(uncs) if uncs else None,
             "dataset": ", ".join(sorted({r["dataset"] for r in members})),
             "gf": sum(gf) if gf else None, "members": len(members), "weighting": weighting,
         })
-    def key(row):
+    def position(row: dict) -> float:
         return row["air_nm"] if medium == "air" and row["air_nm"] is not None else row["vacuum_nm"]
 
-    return sorted(out, key=key)
+    return sorted(out, key=position)
 
 
 def hydrogen_names(spectrum: str, lowers: Sequence[str], uppers: Sequence[str]) -> list[str | None]:

@@ -20,7 +20,7 @@ from levels.service import duplicates, lookup
 from levels.service.contract import MULTIPOLE_CODES, LineQuery
 from levels.service.derived import store_derived_lines
 from levels.store import queries
-from levels.store.schema import Level
+from levels.store.schema import Level, Line
 
 
 def line_rows(catalog, query: LineQuery, *, air_formula: str | None = None) -> tuple[list[dict], int]:
@@ -45,7 +45,7 @@ def line_rows(catalog, query: LineQuery, *, air_formula: str | None = None) -> t
         if query.spectrum is not None:
             species_ids = [lookup.require_species(session, parse_spectrum(query.spectrum)).id]
         window = {}
-        if query.medium == "air" and convert:
+        if query.medium == "air" and convert and air_formula is not None:
             lo, hi = vocabulary.air_window_to_vacuum(query.from_nm, query.to_nm, air_formula)
             window = dict(from_vacuum_nm=lo, to_vacuum_nm=hi)
         elif query.medium == "air":
@@ -56,7 +56,7 @@ def line_rows(catalog, query: LineQuery, *, air_formula: str | None = None) -> t
             session, dataset_ids=[d.id for d in chosen], species_ids=species_ids,
             multipoles=query.multipoles, min_a=query.min_a, max_upper_cm1=query.max_upper_cm1,
             order=query.order, limit=query.limit, offset=query.offset, **window)
-        if convert:
+        if convert and air_formula is not None:
             vocabulary.reexpress_air(rows, air_formula, recorded)
         return rows, total
 
@@ -205,7 +205,7 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
     for ln in sorted(stored, key=lambda ln: (ln.a_per_s is None, rank.get(ln.dataset_id, len(rank)), ln.id),
                      reverse=True):
         by_pair[(ln.lower_id, ln.upper_id, ln.multipole)] = ln
-    observed_by_pair: dict[tuple, object] = {}
+    observed_by_pair: dict[tuple, Line] = {}
     for ln in sorted(stored, key=lambda ln: (rank.get(ln.dataset_id, len(rank)), ln.id), reverse=True):
         if ln.observed_nm is not None:
             observed_by_pair[(ln.lower_id, ln.upper_id, ln.multipole)] = ln

@@ -12,9 +12,10 @@ import json
 import re
 import unicodedata
 from collections.abc import Iterable, Sequence
+from typing import cast
 
 import numpy as np
-from sqlalchemy import and_, delete, func, insert, or_, select
+from sqlalchemy import Table, and_, delete, func, insert, or_, select
 from sqlalchemy.orm import Session
 
 from levels.errors import (
@@ -37,6 +38,9 @@ from levels.store.schema import (
     Species,
     utcnow,
 )
+
+#: the levels table as a Core table (bulk UPDATEs by id, outside the ORM's session bookkeeping)
+_LEVELS_TABLE = cast(Table, Level.__table__)
 
 KIND_RANK = {"measured": 0, "imported": 1, "computed": 2}
 
@@ -323,7 +327,7 @@ def replace_computed_dataset(session: Session, species_id: int, role: str, *, na
         session.execute(delete(Line).where(Line.dataset_id == old.id))
         session.execute(delete(IonizationLimit).where(IonizationLimit.dataset_id == old.id))
         for start in range(0, len(moved), 5000):
-            session.execute(Level.__table__.update().where(Level.id.in_(moved[start:start + 5000]))
+            session.execute(_LEVELS_TABLE.update().where(Level.id.in_(moved[start:start + 5000]))
                             .values(dataset_id=dataset.id))
         delete_dataset(session, old)
     return dataset
@@ -361,7 +365,7 @@ def upsert_kept_levels(session: Session, dataset_id: int, rows: Sequence[dict], 
     for row in rows:
         if row["label"] in kept:
             values = {k: v for k, v in row.items() if k not in ("dataset_id", "species_id")}
-            session.execute(Level.__table__.update().where(Level.id == kept[row["label"]]).values(**values))
+            session.execute(_LEVELS_TABLE.update().where(Level.id == kept[row["label"]]).values(**values))
     return [kept[row["label"]] if row["label"] in kept else next(fresh_ids) for row in rows]
 
 
@@ -557,7 +561,7 @@ def level_columns(session: Session, species_id: int, dataset_ids: Sequence[int],
     inner = select(Level.id, Level.energy_cm1, Level.unc_cm1, Level.two_j, Level.parity, order).where(*where).subquery()
     query = select(inner.c.id, inner.c.energy_cm1, inner.c.unc_cm1, inner.c.two_j, inner.c.parity).where(
         inner.c.choice == 1).order_by(inner.c.energy_cm1, inner.c.id)
-    chunks = {n: [] for n in names}
+    chunks: dict[str, list[np.ndarray]] = {n: [] for n in names}
     result = session.execute(query.execution_options(yield_per=batch))
     for part in result.partitions():
         flat = list(zip(*part))
@@ -692,7 +696,7 @@ def stored_lines_between(session: Session, level_ids: Sequence[int], dataset_ids
     if not level_ids or not dataset_ids:
         return []
     wanted = set(level_ids)
-    rows = []
+    rows: list[Line] = []
     ids = list(wanted)
     for start in range(0, len(ids), 5000):
         part = ids[start:start + 5000]
@@ -746,9 +750,10 @@ def line_record(session: Session, line_id: int) -> dict | None:
     line = session.get(Line, line_id)
     if line is None:
         return None
-    species = session.get(Species, line.species_id)
-    dataset = session.get(Dataset, line.dataset_id)
-    return line_row(line, session.get(Level, line.lower_id), session.get(Level, line.upper_id), species.name,
+    # foreign keys guarantee the line's levels, species and dataset exist
+    species = session.get_one(Species, line.species_id)
+    dataset = session.get_one(Dataset, line.dataset_id)
+    return line_row(line, session.get_one(Level, line.lower_id), session.get_one(Level, line.upper_id), species.name,
                     dataset.name)
 
 
@@ -786,7 +791,7 @@ def rows_outside(session: Session, table_name: str, column: str, *, low: float |
     ids = list(session.scalars(bad.order_by(table.c.id).limit(first)))
     if not ids:
         return [], 0, None
-    total = int(session.scalar(select(func.count()).select_from(bad.subquery())))
+    total = int(session.execute(select(func.count()).select_from(bad.subquery())).scalar_one())
     return ids, total, session.scalar(select(col).where(table.c.id == ids[0]))
 
 
