@@ -10,6 +10,7 @@ Usage::
 
 from __future__ import annotations
 
+import re
 import sys
 import tempfile
 from pathlib import Path
@@ -32,7 +33,7 @@ PAGES = {
     "line-finder": "/lines?from=400nm&to=700nm",
     "datasets": "/datasets",
     "dataset-1": "/datasets/1",
-    "line-1": "/species/" + quote("Li I") + "/lines/1",
+    "line-record": "/species/" + quote("Li I") + "/lines/{first_line}",
     "desk": "/desk/",
     "emission": "/emission",
     "analysis": "/analysis/",
@@ -54,11 +55,13 @@ def main_(out: Path) -> None:
             browser = playwright.chromium.launch(executable_path="/usr/bin/chromium",
                                                  args=["--headless", "--no-sandbox", "--disable-gpu"])
             page = browser.new_page(viewport={"width": 1400, "height": 950})
+            species_html = page.request.get(live.url + PAGES["species-li-i"]).text()
+            first_line = re.search(r"/lines/(\d+)", species_html).group(1)  # the first line record linked
             for name, path in PAGES.items():
-                response = page.goto(live.url + path)
+                response = page.goto(live.url + path.format(first_line=first_line))
                 page.wait_for_timeout(1500)
                 page.screenshot(path=str(out / f"{name}.png"), full_page=True)
-                print(f"{name}: {path} -> {response.status if response else '?'}")
+                print(f"{name}: {path.format(first_line=first_line)} -> {response.status if response else '?'}")
             browser.close()
 
 

@@ -256,11 +256,15 @@ def format_with_uncertainty(value, unc=None, unit: str = "") -> str:
     '12810.095 ± 0.024 cm-1'
     >>> format_with_uncertainty(43487.114, None)
     '43487.114'
+    >>> format_with_uncertainty(1.645e-4, 9.7e-6)
+    '1.645e-04 ± 9.7e-06'
     """
     text = format_number(value, unc)
     if not text:
         return ""
     unc_text = format_uncertainty(unc)
+    if unc_text and "e" in text:  # a value in scientific notation takes its uncertainty in the same style
+        unc_text = f"{float(unc):.{UNC_SIGNIFICANT - 1}e}"
     if unc_text:
         text = f"{text} ± {unc_text}"
     return f"{text} {unit}" if unit else text

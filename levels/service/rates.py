@@ -34,6 +34,7 @@ from __future__ import annotations
 import inspect
 import json
 import math
+import re
 from collections.abc import Sequence
 from dataclasses import dataclass, field
 from typing import Any
@@ -60,6 +61,24 @@ SINGLE_VERSION = "1.0"
 #: line rows of the report (JSON keys; CSV columns)
 RATES_COLUMNS = ("lower", "upper", "vacuum_nm", "multipole", "a_per_s", "a_rel_unc", "f_abs", "line_strength_au")
 LIFETIME_COLUMNS = ("label", "lifetime_s", "lifetime_rel_unc")
+#: the note a stored rate carries: its relative uncertainty (the method's stated rule), read back by
+#: :func:`relative_uncertainty_in_note`
+RATE_NOTE = "A rel. unc. {:.2g}"
+_RATE_NOTE_PATTERN = re.compile(r"\bA rel\. unc\. ([0-9.]+(?:e[-+]?[0-9]+)?)")
+
+
+def relative_uncertainty_in_note(note: str | None) -> float | None:
+    """The relative uncertainty of a stored rate, from the note ``levels rates`` writes (None without one).
+
+    Examples
+    --------
+    >>> relative_uncertainty_in_note("A rel. unc. 0.059")
+    0.059
+    >>> relative_uncertainty_in_note("measured") is None
+    True
+    """
+    found = _RATE_NOTE_PATTERN.search(note or "")
+    return float(found.group(1)) if found else None
 #: electrons in the closed cores an alkali-like valence electron may sit outside
 CLOSED_CORE_ELECTRONS = (0, 2, 10, 18, 28, 36, 46, 54, 68, 78, 86)
 
@@ -520,7 +539,7 @@ def _store(catalog, species_id: int, name: str, mass_number: int, lines: Sequenc
             "vacuum_nm": vacuum, "air_nm": air, "a_per_s": np.array([ln.a_per_s for ln in lines]),
             "f_abs": np.array([ln.f_abs for ln in lines]),
             "line_strength_au": np.array([ln.line_strength_au for ln in lines]), "unc_nm": np.full(count, np.nan),
-            "note": np.array([f"A rel. unc. {ln.a_rel_unc:.2g}" for ln in lines], dtype=object),
+            "note": np.array([RATE_NOTE.format(ln.a_rel_unc) for ln in lines], dtype=object),
         }
         for start in range(0, count, 20000):
             queries.insert_line_columns(session, columns, start, min(start + 20000, count))
