@@ -208,10 +208,6 @@ def _line(spectrum: str, line_id: int) -> tuple[services.SpeciesRef, dict]:
     row["line_name"] = in_vacuum["line_name"]
     row["ritz_air_nm"] = in_air["ritz_nm"] if row.get("air_nm") is not None else None
     row["obs_minus_ritz_nm"] = (in_air if row.get("medium") == "air" else in_vacuum)["obs_minus_ritz_nm"]
-    # a computed rate's stated relative uncertainty (in its note) carries over to A, f and S (f and S scale as A)
-    rel = relative_uncertainty_in_note(row.get("note"))
-    for key in ("a_per_s", "f_abs", "line_strength_au"):
-        row[f"{key}_unc"] = rel * row[key] if rel is not None and row.get(key) is not None else None
     return ref, row
 
 
@@ -219,6 +215,10 @@ def _line(spectrum: str, line_id: int) -> tuple[services.SpeciesRef, dict]:
 def line_page(spectrum: str, line_id: int):
     """The full record of one line."""
     ref, row = _line(spectrum, line_id)
+    # a computed rate's stated relative uncertainty (in its note) carries over to A, f and S (f and S scale as A)
+    rel = relative_uncertainty_in_note(row.get("note"))
+    for key in ("a_per_s", "f_abs", "line_strength_au"):
+        row[f"{key}_unc"] = rel * row[key] if rel is not None and row.get(key) is not None else None
     return render_template("line.html", ref=ref, line=row)
 
 

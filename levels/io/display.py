@@ -298,6 +298,29 @@ def is_uncertainty_column(name: str) -> bool:
     return name.startswith("unc_") or "_unc" in name
 
 
+#: value columns converted from vacuum to air by the tool: their uncertainty includes the air formula's own
+CONVERTED_TO_AIR = ("air_nm",)
+
+
+def with_air_conversion(value, unc):
+    """The standard uncertainty of an air wavelength converted from vacuum: the vacuum value's and the air
+    formula's (:data:`levels.physics.lines.air.CONVERSION_REL_UNC`) in quadrature; None for a missing value.
+
+    Examples
+    --------
+    >>> round(with_air_conversion(500.0, None), 12)
+    1e-05
+    >>> f"{with_air_conversion(500.0, 3e-5):.3g}"
+    '3.16e-05'
+    """
+    from levels.physics.lines.air import CONVERSION_REL_UNC
+
+    if not _finite(value):
+        return None
+    floor = CONVERSION_REL_UNC * abs(float(value))
+    return math.hypot(float(unc), floor) if _finite(unc) and unc > 0 else floor
+
+
 def format_rows(rows: Sequence, columns: Sequence[str]) -> list[list[str]]:
     """Cells of a table (rows of mappings) under the display policy, column by column.
 
@@ -310,6 +333,8 @@ def format_rows(rows: Sequence, columns: Sequence[str]) -> list[list[str]]:
     >>> format_rows([{"label": "2p 2P°1/2", "energy_cm1": 82258.9191133, "unc_cm1": 0.00021}],
     ...             ["label", "energy_cm1", "unc_cm1"])
     [['2p 2P°1/2', '82258.91911', '0.00021']]
+    >>> format_rows([{"air_nm": 402.5476573678, "unc_nm": 1e-10}], ["air_nm"])  # the air formula's floor
+    [['402.5476574']]
     """
     cols: list[list[str]] = []
     for c in columns:
@@ -321,6 +346,8 @@ def format_rows(rows: Sequence, columns: Sequence[str]) -> list[list[str]]:
             else:
                 unc_col = UNCERTAINTY_OF.get(c)
                 uncs = [row.get(unc_col) for row in rows] if unc_col else None
+                if c in CONVERTED_TO_AIR:
+                    uncs = [with_air_conversion(v, u) for v, u in zip(vals, uncs or [None] * len(vals))]
                 cols.append(format_column(vals, uncs))
         else:
             cols.append([format_number(v) if isinstance(v, float) else "" if v is None else str(v) for v in vals])
