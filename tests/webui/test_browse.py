@@ -431,3 +431,11 @@ def test_diagram_json_gzip_is_the_same_text(reader, shared):
         assert packed.headers["Content-Encoding"] == "gzip" and len(packed.data) < len(plain.data)
         assert gzip.decompress(packed.data) == plain.data
         assert json.loads(plain.data)["figure"]["data"]
+
+
+@pytest.mark.parametrize("path", ["/lines", "/species/Li_I"])
+def test_window_given_with_units_is_shown_in_the_form(reader, shared, path):
+    # a window typed in the address bar as from/to (any unit) is what the form shows, so Redraw keeps it
+    text = reader.get(path, query_string={"from": "15200cm-1", "to": "700nm"}).get_data(as_text=True)
+    assert 'name="from_nm" type="text" value="15200cm-1"' in text
+    assert 'name="to_nm" type="text" value="700nm"' in text
