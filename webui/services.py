@@ -119,17 +119,22 @@ def _ref(row: dict, rows: Sequence[dict]) -> SpeciesRef:
 _CACHE_LOCK = threading.Lock()
 
 
-def read_cache(cat: Catalog | None = None) -> ReadCache:
-    """The application's read cache (answers kept per store revision; see :mod:`levels.service.readcache`)."""
+def _app_cache(name: str, cat: Catalog | None = None, **options) -> ReadCache:
+    """The application's cache called ``name``, made on first use (once, under a lock)."""
     store = current_app.extensions["levels"]
-    cache = store.get("read_cache")
+    cache = store.get(name)
     if cache is None:
         with _CACHE_LOCK:
-            cache = store.get("read_cache")
+            cache = store.get(name)
             if cache is None:
-                cache = ReadCache(cat or store["catalog"])
-                store["read_cache"] = cache
+                cache = ReadCache(cat or store["catalog"], **options)
+                store[name] = cache
     return cache
+
+
+def read_cache(cat: Catalog | None = None) -> ReadCache:
+    """The application's read cache (answers kept per store revision; see :mod:`levels.service.readcache`)."""
+    return _app_cache("read_cache", cat)
 
 
 def revision() -> tuple[int, ...]:
@@ -153,15 +158,7 @@ MAX_KEPT_FIGURES = 16
 def figure_cache() -> ReadCache:
     """The application's cache of finished figures (kept apart from the read answers, which are smaller and
     asked for by every request, so a run of different figures never pushes them out)."""
-    store = current_app.extensions["levels"]
-    cache = store.get("figure_cache")
-    if cache is None:
-        with _CACHE_LOCK:
-            cache = store.get("figure_cache")
-            if cache is None:
-                cache = ReadCache(store["catalog"], max_entries=MAX_KEPT_FIGURES)
-                store["figure_cache"] = cache
-    return cache
+    return _app_cache("figure_cache", max_entries=MAX_KEPT_FIGURES)
 
 
 def cached_figure(key, build):
