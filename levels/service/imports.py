@@ -99,14 +99,10 @@ def import_level_records(catalog, records: Sequence[level_io.LevelRecord], *, so
     warnings: list[str] = []
 
     def work(session: Session) -> ImportReport:
-        refuse_same_content(session, content_sha256, again, source, warnings, named=bool(explicit_name))
-        dataset_name = explicit_name or free_dataset_name(session, source, sample, kind, warnings)
-        sample_row = None
-        if sample:
-            sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
-        ds = queries.create_dataset(session, name=dataset_name, kind=kind, citation=citation,
-                                    author=catalog.actor, description=description or f"imported from {source}",
-                                    method="file import", sample=sample_row, content_sha256=content_sha256)
+        ds = new_file_dataset(session, catalog.actor, source=source, name=explicit_name, sample=sample,
+                              sample_conditions=sample_conditions, kind=kind, citation=citation,
+                              description=description or f"imported from {source}",
+                              content_sha256=content_sha256, again=again, warnings=warnings)
         species_ids, n_levels = insert_level_records(session, records, ds.id)
         warnings.extend(import_duplicate_warnings(session, ds.id, ds.name, source, species_ids.values()))
         derived = sum(rebuild_derived_lines(session, species_ids, catalog.actor, max_lines=max_derived_lines,
@@ -143,15 +139,11 @@ def import_line_records(catalog, records: Sequence[level_io.LineRecord], *, sour
     warnings: list[str] = []
 
     def work(session: Session) -> ImportReport:
-        refuse_same_content(session, content_sha256, again, source, warnings, named=bool(dataset))
-        name = dataset or free_dataset_name(session, source, sample, kind, warnings)
-        sample_row = None
-        if sample:
-            sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
-        ds = queries.create_dataset(session, name=name, kind=kind, citation=citation, author=catalog.actor,
-                                    description=description or f"lines imported from {source}",
-                                    method="file import", sample=sample_row,
-                                    options={"air_formula": air_formula}, content_sha256=content_sha256)
+        ds = new_file_dataset(session, catalog.actor, source=source, name=dataset, sample=sample,
+                              sample_conditions=sample_conditions, kind=kind, citation=citation,
+                              description=description or f"lines imported from {source}",
+                              content_sha256=content_sha256, again=again, warnings=warnings,
+                              options={"air_formula": air_formula})
         checked: dict = {}
         count = lab.store_measured_lines(session, records, ds.id, source, air_formula,
                                          allow_off_ritz=allow_off_ritz, report=checked)
@@ -335,6 +327,22 @@ def record_off_ritz(ds: Dataset, reason: str | None, checked: Mapping, warnings:
 
 
 # ------------------------------------------------------------- dataset names
+
+def new_file_dataset(session: Session, actor: str, *, source: str, name: str | None, sample: str | None,
+                     sample_conditions: Mapping | None, kind: str, citation: str, description: str,
+                     content_sha256: str | None, again: bool, warnings: list[str],
+                     options: Mapping | None = None) -> Dataset:
+    """The dataset a file import writes into: the same content refused unless ``again``, the explicit ``name``
+    or a free plain one, the sample made on first use."""
+    refuse_same_content(session, content_sha256, again, source, warnings, named=bool(name))
+    dataset_name = name or free_dataset_name(session, source, sample, kind, warnings)
+    sample_row = None
+    if sample:
+        sample_row = queries.get_or_create_sample(session, sample, **dict(sample_conditions or {}))
+    return queries.create_dataset(session, name=dataset_name, kind=kind, citation=citation, author=actor,
+                                  description=description, method="file import", sample=sample_row,
+                                  content_sha256=content_sha256, options=dict(options) if options else None)
+
 
 def refuse_same_content(session: Session, content_sha256: str | None, again: bool, source: str,
                         warnings: list[str], named: bool = False) -> None:
