@@ -61,6 +61,7 @@ def main_(out: Path) -> None:
                 response = page.goto(live.url + path.format(first_line=first_line))
                 page.wait_for_timeout(1500)
                 page.screenshot(path=str(out / f"{name}.png"), full_page=True)
+                page.screenshot(path=str(out / f"{name}-top.png"))  # the first screen, readable at a glance
                 print(f"{name}: {path.format(first_line=first_line)} -> {response.status if response else '?'}")
             browser.close()
 
