@@ -716,8 +716,9 @@ class Store:
         rates_service = importlib.import_module("levels.service.rates")
         report = rates_service.compute_rates(self._catalog, spectrum, method=method,
                                              datasets=list(datasets) if datasets else None, save=save)
-        provenance = self._catalog.provenance(f"rates {spectrum}; method {method}", report.datasets,
-                                              method=report.method)
+        # the header the CLI writes (method and version, output dataset, limit source, air formula), here too
+        extra = {k: v for k, v in report.provenance().items() if k not in ("datasets", "query", "rows")}
+        provenance = self._catalog.provenance(f"rates {spectrum}; method {method}", report.datasets, **extra)
         return RatesResult(
             lines=rows_to_table(report.lines, rates_service.RATES_COLUMNS, provenance),
             levels=rows_to_table(report.levels, rates_service.LIFETIME_COLUMNS, provenance),

@@ -190,6 +190,10 @@ def test_rates_match_the_service_or_say_they_are_missing(store):
                                [np.nan if r["lifetime_s"] is None else r["lifetime_s"] for r in report.levels],
                                rtol=1e-12)
     assert result.lines["line_strength_au"].unit == LINE_STRENGTH_AU
+    # the header is the CLI's (issue 14 item 4): method and version, the output dataset, the air formula
+    head = result.lines.meta["provenance"]
+    assert head["method"] == report.method and head["method_version"].startswith("levels ")
+    assert head["output_dataset"] == result.saved_as and "none applied" in head["air_formula"]
     # A and S of the strongest line agree through the E1 relation A = 64 pi^4 S / (3 h (4 pi eps0) g_u lambda^3)
     # (Condon & Shortley 1935; constants CODATA via scipy.constants; S converted by the table's own unit)
     import scipy.constants as sc

@@ -25,7 +25,7 @@ from levels.errors import NotFoundError, PhysicsInputError
 from levels.service.rates import relative_uncertainty_in_note
 
 from webui import params, security, services
-from webui.downloads import GzipPrefix, json_response, spliced_json_response, table_download
+from webui.downloads import LINE_ROWS_KEYS, GzipPrefix, json_response, spliced_json_response, table_download
 from webui.figures import (
     DIAGRAM_AXES,
     LineArrays,
@@ -177,7 +177,7 @@ def _line_download(ref: services.SpeciesRef | None, fmt: str, stem: str):
     if flt.selects:
         provenance["selection"] = (f"lower {flt.lower or 'any'}; upper series {flt.series or 'any'}; "
                                    f"name {flt.line_name or 'any'}: {len(rows)} lines")
-    return table_download(rows, LINE_LIST_COLUMNS, fmt, provenance, stem, LINE_UNITS)
+    return table_download(rows, LINE_LIST_COLUMNS, fmt, provenance, stem, LINE_UNITS, rows_key=LINE_ROWS_KEYS)
 
 
 @bp.get(f"/species/<spectrum>/lines.<{FORMAT_CONVERTER}:fmt>")

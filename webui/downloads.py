@@ -22,12 +22,18 @@ def safe_filename(stem: str) -> str:
     return cleaned[:120]
 
 
+#: JSON keys of line rows, as the CLI writes them: "lines", with "rows" kept as an alias for older readers
+LINE_ROWS_KEYS = ("lines", "rows")
+
+
 def table_download(rows: Iterable[Mapping], columns: Sequence[str], fmt: str, provenance: Mapping,
-                   stem: str, units: Mapping[str, str] | None = None) -> Response:
-    """A download response of a table in ``fmt`` (one of ``levels.io.tables.FORMATS``)."""
+                   stem: str, units: Mapping[str, str] | None = None,
+                   rows_key: str | Sequence[str] = "rows") -> Response:
+    """A download response of a table in ``fmt`` (one of ``levels.io.tables.FORMATS``); ``rows_key`` names the
+    rows in JSON (:data:`LINE_ROWS_KEYS` for line rows)."""
     if fmt not in FORMATS:
         raise ValueError(f"unknown format {fmt!r}")
-    text = format_table(rows, columns, fmt, provenance, units=units)
+    text = format_table(rows, columns, fmt, provenance, units=units, rows_key=rows_key)
     response = Response(text, mimetype=MIMETYPES[fmt])
     response.headers["Content-Disposition"] = f'attachment; filename="{safe_filename(stem)}.{SUFFIXES[fmt]}"'
     return response

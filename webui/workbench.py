@@ -38,7 +38,7 @@ from levels.service.emission import BANDS_NM, srgb_swatch
 from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 
 from webui import params, security, services
-from webui.downloads import clean, json_response, safe_filename, table_download
+from webui.downloads import LINE_ROWS_KEYS, clean, json_response, safe_filename, table_download
 from webui.figures import emission_figure
 
 bp = Blueprint("workbench", __name__)
@@ -409,7 +409,7 @@ def lines_download(fmt: str):
     """Every line of the result (in the window, with a known A) with the provenance header."""
     req, ref, result = _download_result()
     return table_download(result.lines, EMISSION_COLUMNS, fmt, provenance(req, result),
-                          f"{ref.url_name}-emission-lines", EMISSION_UNITS)
+                          f"{ref.url_name}-emission-lines", EMISSION_UNITS, rows_key=LINE_ROWS_KEYS)
 
 
 @bp.get("/emission/spectrum.csv")

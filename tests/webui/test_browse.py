@@ -439,3 +439,11 @@ def test_window_given_with_units_is_shown_in_the_form(reader, shared, path):
     text = reader.get(path, query_string={"from": "15200cm-1", "to": "700nm"}).get_data(as_text=True)
     assert 'name="from_nm" type="text" value="15200cm-1"' in text
     assert 'name="to_nm" type="text" value="700nm"' in text
+
+
+def test_line_downloads_use_the_one_json_shape_of_line_rows(reader, shared):
+    # issue 14 item 4: line rows are under "lines" everywhere (the CLI, the JSON API, the site's downloads);
+    # "rows" stays as an alias with the same content
+    for path in ("/lines.json", "/species/Li_I/lines.json"):
+        payload = reader.get(path, query_string={"species": "Li_I", "from": "600nm", "to": "700nm"}).get_json()
+        assert payload["lines"] and payload["lines"] == payload["rows"]
