@@ -24,7 +24,7 @@ from levels.errors import AlreadyExistsError, InputFileError, LevelsError, NotFo
 from levels.io.limits import text_problem
 from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
 from levels.io.records import LINE_FILE_COLUMNS, validate_levels, validate_lines
-from levels.service.line_selection import filter_lines
+from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
 from levels.service.vocabulary import add_spectral_column, medium_statement
 
 from webui import params, services
@@ -123,10 +123,11 @@ def lines(spectrum: str):
     for key, value in chosen.items():
         if value is not None and len(value) > 200:
             return error(400, "bad_parameter", f"{key} is longer than 200 characters", key)
+    multiplets = request.args.get("multiplets") == "true"
     rows: list[dict]
     if empty:  # the windows given do not overlap: no line lies in both
         rows, total = [], 0
-    elif not any(chosen.values()) and not request.args.get("unit"):
+    elif not any(chosen.values()) and not request.args.get("unit") and not multiplets:
         page = services.line_page_json(ref, flt, limit, offset)  # each row written once per store revision
         if page is not None:
             texts, total, used = page
@@ -142,23 +143,39 @@ def lines(spectrum: str):
         except LevelsError as exc:
             field = "line_name" if "line name" in str(exc) else ("series" if chosen["series"] else "lower")
             return error(400, "bad_parameter", str(exc), field)
+        if multiplets:  # components of one configuration and term pair summed (levels lines --multiplets)
+            formula = services.air_formula(cat, sorted({r["dataset"] for r in every}))
+            every = merge_multiplets(every, medium=flt.medium, air_formula=formula)
         rows, total = every[offset:offset + limit], len(every)
-    services.add_ritz_columns(ref, rows, flt.medium)
-    used = sorted({r["dataset"] for r in rows})
+    if multiplets:
+        used = sorted({name for r in rows for name in r["dataset"].split(", ")})
+    else:
+        services.add_ritz_columns(ref, rows, flt.medium)
+        used = sorted({r["dataset"] for r in rows})
     provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium,
                                 wavelengths=medium_statement(flt.medium, services.air_formula(cat, used)))
+    if multiplets:
+        provenance["multiplets"] = MULTIPLETS_NOTE
     extra_column = None
     if request.args.get("unit"):  # the position column in the unit asked (levels lines --unit)
         extra_column, heading = add_spectral_column(rows, request.args["unit"], flt.medium)
         provenance["unit"] = f"{extra_column}: {heading}"
     return json_response(line_table(rows, provenance, total=total, limit=limit, offset=offset,
-                                    extra_column=extra_column))
+                                    extra_column=extra_column, multiplets=multiplets))
 
 
-def line_table(rows: list[dict], provenance: dict, extra_column: str | None = None, **extra) -> dict:
+#: what a multiplet row is, for the provenance (as the Python API and the CLI say it)
+MULTIPLETS_NOTE = ("components of one configuration and term pair summed: S and g f summed, g_U A = sum g_u A, "
+                   "wavenumber g f-weighted (gA-weighted without f)")
+
+
+def line_table(rows: list[dict], provenance: dict, extra_column: str | None = None, multiplets: bool = False,
+               **extra) -> dict:
     """A line table answer: rows under ``lines``, as the CLI's line-list JSON, and the same rows under the
-    deprecated ``rows`` (kept for older clients); ``extra_column`` (the ``unit`` column) after the list's."""
-    columns = LINE_LIST_COLUMNS + ((extra_column,) if extra_column and extra_column not in LINE_LIST_COLUMNS else ())
+    deprecated ``rows`` (kept for older clients); ``extra_column`` (the ``unit`` column) after the list's;
+    with ``multiplets`` also ``gf, members, weighting`` (the observed/Ritz columns and the name stay empty)."""
+    base = LINE_LIST_COLUMNS + MULTIPLET_EXTRA_COLUMNS if multiplets else LINE_LIST_COLUMNS
+    columns = base + ((extra_column,) if extra_column and extra_column not in base else ())
     table = json_table(rows, columns, provenance)
     return {"provenance": table["provenance"], "columns": table["columns"], "lines": table["rows"],
             "rows": table["rows"], **extra}

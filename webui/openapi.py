@@ -66,6 +66,11 @@ LINE_ROW = {
         "ritz_nm": _nullable("number", description="nm, in the asked medium; Ritz wavelength from the two levels"),
         "obs_minus_ritz_nm": _nullable("number", description="nm; obs_nm - ritz_nm"),
         "line_name": _nullable("string", description="customary hydrogen line name (Hα, Lyβ); null otherwise"),
+        # the columns of a multiplet list (multiplets=true)
+        "gf": _nullable("number", description="sum of g_l f over the components (multiplets=true)"),
+        "members": _nullable("integer", description="number of components summed (multiplets=true)"),
+        "weighting": _nullable("string", description="how the wavenumber was averaged: gf, gA or none "
+                                                     "(multiplets=true)"),
         # the position column the 'unit' parameter adds (one of these, after the others)
         "wavelength_nm": _nullable("number", description="nm, in the medium (unit=nm)"),
         "wavelength_angstrom": _nullable("number", description="Å, in the medium (unit=Å)"),
@@ -320,6 +325,11 @@ def openapi_document() -> dict:
         {"name": "line_name", "in": "query", "description": "customary hydrogen line name (H I, D I, T I): "
                                                            "Hα, H-alpha, Lyβ, Pa9",
          "schema": {"type": "string", "maxLength": 200, "pattern": LINE_NAME_PATTERN}, "example": "H-alpha"},
+        {"name": "multiplets", "in": "query",
+         "description": "true: components of one configuration and term pair summed into multiplets (S and g f "
+                        "summed, g_U A = sum g_u A, wavenumber g f-weighted); rows then carry gf, members, "
+                        "weighting and no observed/Ritz columns",
+         "schema": {"type": "string", "enum": ["true", "false"], "default": "false"}},
         {"name": "order", "in": "query",
          "schema": {"type": "string", "enum": ["wavelength", "-wavelength", "a", "strength"], "default": "wavelength"}},
         {"name": "limit", "in": "query",

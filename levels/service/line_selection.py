@@ -118,6 +118,18 @@ def _weighted(values, weights):
     return sum(v * w for v, w in zip(values, weights)) / total
 
 
+def one_row_per_pair(rows: Sequence[dict]) -> list[dict]:
+    """One row per (spectrum, lower, upper, multipole), in first-seen order: the first with a known A, else the
+    first (a measured line and the Ritz line of the same pair are one transition)."""
+    chosen: dict[tuple, dict] = {}
+    for row in rows:
+        key = (row["spectrum"], row["lower"], row["upper"], row["multipole"])
+        kept = chosen.get(key)
+        if kept is None or (kept.get("a_per_s") is None and row.get("a_per_s") is not None):
+            chosen[key] = row
+    return list(chosen.values())
+
+
 def merge_multiplets(rows: Sequence[dict], *, medium: str = "air", air_formula: str = "iau2000") -> list[dict]:
     """Sum fine-structure components into multiplets (same spectrum, configuration and term pair, multipole).
 
@@ -136,10 +148,16 @@ def merge_multiplets(rows: Sequence[dict], *, medium: str = "air", air_formula: 
     >>> m = merge_multiplets(rows, medium="vacuum")[0]
     >>> m["members"], round(m["gf"], 3), m["line_strength_au"], round(m["wavenumber_cm1"], 6), m["g_upper"]
     (2, 0.6, 3.0, 20002.0, 6)
+
+    A pair listed twice (a measured line beside the Ritz line of the same two levels) is one component:
+
+    >>> merge_multiplets(rows + [dict(rows[1], a_per_s=None, f_abs=None, line_strength_au=None, dataset="m")],
+    ...                  medium="vacuum")[0]["members"]
+    2
     """
     from levels.physics.lines import air
     groups: dict[tuple, list[dict]] = {}
-    for row in rows:
+    for row in one_row_per_pair(rows):
         key = (row["spectrum"], term_of(row["lower"]), term_of(row["upper"]), row["multipole"])
         groups.setdefault(key, []).append(row)
     out = []
