@@ -366,5 +366,5 @@ def create_dataset():
         return error(422, "store_refused", str(exc), None)
     services.forget_species()
     info = cat.dataset_info(report.dataset_id)
-    return json_response({"dataset": info}, 201,
+    return json_response({"dataset": info, "warnings": list(report.warnings)}, 201,
                          {"Location": url_for("api.dataset", dataset_id=report.dataset_id)})

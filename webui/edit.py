@@ -467,4 +467,6 @@ def upload_commit():
     wrote = (f"{report.lines} measured line{'' if report.lines == 1 else 's'}" if staged.get("file_kind") == "lines"
              else f"{report.levels} levels")
     flash(f"Wrote {wrote} of {', '.join(report.species)} as dataset {report.dataset!r}.", "ok")
+    for warning in report.warnings:  # e.g. levels whose state another dataset of the species holds
+        flash(warning, "warn")
     return redirect(url_for("browse.dataset", dataset_id=report.dataset_id), code=303)

@@ -375,8 +375,13 @@ def openapi_document() -> dict:
                 "requestBody": {"required": True, "content": _json(_ref("NewDataset"))},
                 "responses": {
                     "201": {"description": "created", "headers": {"Location": {"schema": _STR}},
-                            "content": _json({"type": "object", "required": ["dataset"],
-                                              "properties": {"dataset": _ref("Dataset")}})},
+                            "content": _json({"type": "object", "required": ["dataset", "warnings"],
+                                              "additionalProperties": False,
+                                              "properties": {"dataset": _ref("Dataset"), "warnings": {
+                                                  "type": "array", "items": _STR,
+                                                  "description": "what the import noted but did not refuse: "
+                                                                 "levels whose state another dataset of the "
+                                                                 "species holds, names made plain"}}})},
                     "400": _error("the body breaks this document (every problem of the rows is listed); "
                                   "nothing written"),
                     "401": _error("no or wrong bearer token; nothing written"),
