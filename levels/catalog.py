@@ -36,7 +36,9 @@ from levels.service.contract import (  # noqa: F401 (re-exported: the front ends
     SAMPLE_CONDITION_FIELDS,
     SPECIES_COLUMNS,
     ImportReport,
+    LevelRow,
     LineQuery,
+    LineRow,
 )
 from levels.service.derived import (  # noqa: F401 (re-exported)
     DEFAULT_MAX_DERIVED_LINES,
@@ -132,7 +134,7 @@ class Catalog:
         """One row of :meth:`species_rows` (NotFoundError if the species is not stored)."""
         return species.species_row(self, spectrum)
 
-    def level_rows(self, spectrum: str | Spectrum, datasets: Sequence[str] | None = None) -> list[dict]:
+    def level_rows(self, spectrum: str | Spectrum, datasets: Sequence[str] | None = None) -> list[LevelRow]:
         """Levels of a species under a precedence of datasets (LEVEL_COLUMNS), by energy."""
         return species.level_rows(self, spectrum, datasets)
 

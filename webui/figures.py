@@ -16,7 +16,7 @@ import functools
 import html
 import json
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 from typing import Any
 
@@ -207,7 +207,7 @@ def _scale(unit: str) -> tuple[float, int]:
     return (CM1_EV, 7) if unit == "eV" else (1.0, 4)
 
 
-def level_layer(levels: Sequence[dict], unit: str = "cm-1", axis: str = "linear",
+def level_layer(levels: Sequence[Mapping[str, Any]], unit: str = "cm-1", axis: str = "linear",
                 limit_cm1: float | None = None) -> LevelLayer:
     """Build the level bars of a diagram (see :func:`grotrian_figure` for ``levels``) on the energy ``axis``
     (:data:`DIAGRAM_AXES`; ``limit_cm1`` the ionization limit for ``"limit"``). Only term columns that hold a

@@ -32,7 +32,7 @@ from dataclasses import dataclass
 import numpy as np
 from flask import Response, current_app, g, has_request_context, request
 
-from levels.catalog import LINE_LIST_COLUMNS, Catalog, LineQuery
+from levels.catalog import LINE_LIST_COLUMNS, Catalog, LevelRow, LineQuery
 from levels.catalog import add_ritz_columns as catalog_add_ritz_columns
 from levels.errors import NotationError, NotFoundError
 from levels.isotopes import default_isotope
@@ -301,7 +301,7 @@ def _two_j(text: str | None) -> int | None:
     return 2 * int(text)
 
 
-def filtered_levels(cat: Catalog, ref: SpeciesRef, flt: LevelFilter) -> list[dict]:
+def filtered_levels(cat: Catalog, ref: SpeciesRef, flt: LevelFilter) -> list[LevelRow]:
     """The species' levels under the filter, sorted (all of them, no paging).
 
     Raises
@@ -331,7 +331,7 @@ def filtered_levels(cat: Catalog, ref: SpeciesRef, flt: LevelFilter) -> list[dic
     return rows
 
 
-def level_page(cat: Catalog, ref: SpeciesRef, flt: LevelFilter, page: Page) -> tuple[list[dict], int]:
+def level_page(cat: Catalog, ref: SpeciesRef, flt: LevelFilter, page: Page) -> tuple[list[LevelRow], int]:
     """One page of the filtered level table and the number of rows in all pages."""
     rows = filtered_levels(cat, ref, flt)
     return rows[page.offset:page.offset + page.per], len(rows)
@@ -462,7 +462,7 @@ def strongest_lines(cat: Catalog, ref: SpeciesRef, flt: LineFilter, limit: int) 
     return cat.line_rows(flt.query(line_name(ref), limit=limit, order="a"))
 
 
-def species_levels(ref: SpeciesRef) -> list[dict]:
+def species_levels(ref: SpeciesRef) -> list[LevelRow]:
     """The species' levels under the default precedence (kept per store revision; shared, do not modify)."""
     return read_cache().level_rows(ref.spectrum, revision())
 

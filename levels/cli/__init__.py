@@ -12,7 +12,7 @@ import functools
 import json
 import sys
 import warnings
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from typing import TYPE_CHECKING, Any
 
 import click
@@ -139,7 +139,7 @@ def _non_negative_finite(ctx, param, value):
     return value
 
 
-def text_table(rows: Sequence[dict], columns: Sequence[str], headings: dict | None = None,
+def text_table(rows: Sequence[Mapping[str, Any]], columns: Sequence[str], headings: dict | None = None,
                max_rows: int | None = None) -> str:
     """A table for people: headings from the one vocabulary (``levels.service.vocabulary.LABELS``, which wins
     over ``headings``), parity as even/odd, configurations and level labels with spaces, numbers per
@@ -158,7 +158,7 @@ def text_table(rows: Sequence[dict], columns: Sequence[str], headings: dict | No
 NO_AIR_FORMULA = "none applied (no air wavelengths computed for these rows)"
 
 
-def complete_provenance(provenance: dict, rows: Sequence[dict]) -> dict:
+def complete_provenance(provenance: dict, rows: Sequence[Mapping[str, Any]]) -> dict:
     """The provenance header with every key an export names: tool, store, datasets, query, air_formula.
 
     ``datasets`` not given (or ``(none)``) is filled with exactly the datasets the rows name
@@ -183,7 +183,7 @@ def complete_provenance(provenance: dict, rows: Sequence[dict]) -> dict:
     return {**{k: out[k] for k in order}, **{k: v for k, v in out.items() if k not in order}}
 
 
-def emit(rows: Sequence[dict], columns: Sequence[str], fmt: str, provenance: dict, *,
+def emit(rows: Sequence[Mapping[str, Any]], columns: Sequence[str], fmt: str, provenance: dict, *,
          output: str | None = None, units: dict | None = None, headings: dict | None = None,
          rows_key: str | Sequence[str] = "rows") -> None:
     """Print or write rows in the chosen format (files are written atomically).

@@ -1,6 +1,7 @@
 """The service contract: what front ends send to and get from the service floor.
 
-Typed requests (:class:`LineQuery`), reports (:class:`ImportReport`) and the columns of every row shape
+Typed requests (:class:`LineQuery`), reports (:class:`ImportReport`), typed rows (:class:`LevelRow`,
+:class:`LineRow`) and the columns of every row shape
 (species, levels, lines, emission, samples), defined once; :mod:`levels.catalog` re-exports them so older
 imports keep working.
 """
@@ -8,6 +9,7 @@ imports keep working.
 from __future__ import annotations
 
 from dataclasses import dataclass, field
+from typing import TypedDict
 
 from levels.io import records as level_io
 
@@ -36,6 +38,55 @@ MULTIPOLE_CODES = ("E1", "M1", "E2", "M2", "E3", "2E1")
 DEFAULT_MAX_STORE_BYTES = 2_000_000_000
 SAMPLE_CONDITION_FIELDS = ("description", "gas_fill", "pressure_pa", "current_a", "instrument", "te_k", "ne_m3",
                            "tgas_k", "path_length_m")
+
+
+class LevelRow(TypedDict):
+    """A level as the service returns it (:data:`LEVEL_COLUMNS`, in that order): the contract users script against.
+
+    ``j`` is the text of J (``"3/2"``, empty when unresolved), ``parity`` +1 (even) or -1 (odd); energies in cm-1,
+    ``lifetime_s`` in s.
+    """
+
+    spectrum: str
+    label: str
+    configuration: str
+    term: str
+    j: str
+    parity: int
+    energy_cm1: float
+    unc_cm1: float | None
+    g: int | None
+    n: int | None
+    l: int | None
+    lifetime_s: float | None
+    lande_g: float | None
+    dataset: str
+
+
+class LineRow(TypedDict, total=False):
+    """A line as the service returns it (:data:`LINE_LIST_COLUMNS`; energies cm-1, wavelengths nm, A in s-1,
+    S in atomic units e^2 a0^2). Rows of the line engine also carry the level ids and notes the front ends use."""
+
+    spectrum: str
+    lower: str
+    upper: str
+    lower_cm1: float
+    upper_cm1: float
+    wavenumber_cm1: float
+    vacuum_nm: float
+    air_nm: float | None
+    multipole: str
+    a_per_s: float | None
+    f_abs: float | None
+    line_strength_au: float | None
+    g_lower: int | None
+    g_upper: int | None
+    unc_nm: float | None
+    dataset: str
+    obs_nm: float | None
+    ritz_nm: float | None
+    obs_minus_ritz_nm: float | None
+    line_name: str | None
 
 
 @dataclass(frozen=True)

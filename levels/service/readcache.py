@@ -24,6 +24,7 @@ import numpy as np
 from levels.errors import PhysicsInputError
 from levels.notation import Spectrum
 from levels.service import lookup
+from levels.service.contract import LevelRow
 from levels.store import columns as store_columns
 from levels.store import database, queries
 
@@ -190,7 +191,7 @@ class ReadCache:
         """:meth:`Catalog.species_rows` (shared: callers must not change the rows)."""
         return self.get(("species",), revision, self.catalog.species_rows)
 
-    def level_rows(self, spectrum: Spectrum, revision: Revision) -> list[dict]:
+    def level_rows(self, spectrum: Spectrum, revision: Revision) -> list[LevelRow]:
         """:meth:`Catalog.level_rows` of a species under the default precedence (shared)."""
         return self.get(("levels", spectrum), revision, lambda: self.catalog.level_rows(spectrum))
 

@@ -13,6 +13,7 @@ from sqlalchemy.orm import Session
 from levels.errors import NotFoundError
 from levels.notation import Spectrum, format_j, parse_spectrum
 from levels.service import lookup
+from levels.service.contract import LevelRow
 from levels.store import queries
 from levels.store.schema import Level
 
@@ -53,11 +54,11 @@ def species_row(catalog, spectrum: str | Spectrum) -> dict:
     raise NotFoundError(f"no species {spec.isotope_name} in the store")
 
 
-def level_rows(catalog, spectrum: str | Spectrum, datasets: Sequence[str] | None = None) -> list[dict]:
+def level_rows(catalog, spectrum: str | Spectrum, datasets: Sequence[str] | None = None) -> list[LevelRow]:
     """Levels of a species under a precedence of datasets (LEVEL_COLUMNS), by energy."""
     spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
 
-    def work(session: Session) -> list[dict]:
+    def work(session: Session) -> list[LevelRow]:
         species = lookup.require_species(session, spec)
         chosen = queries.visible_datasets(session, datasets)
         names = {d.id: d.name for d in chosen}
@@ -75,7 +76,7 @@ def level_rows(catalog, spectrum: str | Spectrum, datasets: Sequence[str] | None
     return catalog.read(work)
 
 
-def level_row(spectrum_name: str, level: Level, dataset_name: str) -> dict:
+def level_row(spectrum_name: str, level: Level, dataset_name: str) -> LevelRow:
     """A level as a row of the level contract (LEVEL_COLUMNS)."""
     return {
         "spectrum": spectrum_name, "label": level.label, "configuration": level.configuration,
