@@ -124,6 +124,7 @@ def lines(spectrum: str):
         if value is not None and len(value) > 200:
             return error(400, "bad_parameter", f"{key} is longer than 200 characters", key)
     multiplets = request.args.get("multiplets") == "true"
+    contributed: list[str] = []  # datasets behind the rows before multiplets are summed
     rows: list[dict]
     if empty:  # the windows given do not overlap: no line lies in both
         rows, total = [], 0
@@ -143,12 +144,12 @@ def lines(spectrum: str):
         except LevelsError as exc:
             field = "line_name" if "line name" in str(exc) else ("series" if chosen["series"] else "lower")
             return error(400, "bad_parameter", str(exc), field)
+        contributed = sorted({r["dataset"] for r in every})
         if multiplets:  # components of one configuration and term pair summed (levels lines --multiplets)
-            formula = services.air_formula(cat, sorted({r["dataset"] for r in every}))
-            every = merge_multiplets(every, medium=flt.medium, air_formula=formula)
+            every = merge_multiplets(every, medium=flt.medium, air_formula=services.air_formula(cat, contributed))
         rows, total = every[offset:offset + limit], len(every)
     if multiplets:
-        used = sorted({name for r in rows for name in r["dataset"].split(", ")})
+        used = contributed  # the datasets behind the sums (a multiplet row joins their names)
     else:
         services.add_ritz_columns(ref, rows, flt.medium)
         used = sorted({r["dataset"] for r in rows})

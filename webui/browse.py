@@ -22,6 +22,7 @@ from levels.catalog import (
     add_ritz_columns,
 )
 from levels.errors import NotFoundError, PhysicsInputError
+from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, merge_multiplets
 from levels.service.rates import relative_uncertainty_in_note
 
 from webui import params, security, services
@@ -106,10 +107,14 @@ def _line_state(ref: services.SpeciesRef | None, errors: dict, prefix: str = "l"
         pg = params.page(request.args, prefix, _per_page())
         if flt.selects:  # selections by label or name: filter the whole window, then page (as the JSON API)
             every = _selected(services.all_lines(cat, ref, flt), flt)
+            if flt.multiplets:  # components of one configuration and term pair summed (levels lines --multiplets)
+                formula = services.air_formula(cat, sorted({r["dataset"] for r in every}))
+                every = merge_multiplets(every, medium=flt.medium, air_formula=formula)
             rows, total = every[pg.offset:pg.offset + pg.per], len(every)
         else:
             rows, total = services.line_page(cat, ref, flt, pg)
-        services.add_ritz_columns(ref, rows, flt.medium)
+        if not flt.multiplets:
+            services.add_ritz_columns(ref, rows, flt.medium)
     except BadParameter as exc:
         errors[exc.field] = exc.message
         flt, pg, rows, total = LineFilter(), Page(1, _per_page()), [], 0
@@ -169,15 +174,23 @@ def _line_download(ref: services.SpeciesRef | None, fmt: str, stem: str):
         selected = _selected(services.all_lines(cat, ref, flt), flt) if flt.selects else None
     except BadParameter as exc:
         abort(400, description=str(exc))
-    rows = services.add_ritz_columns(ref, selected if selected is not None else services.all_lines(cat, ref, flt),
-                                     flt.medium)
-    used = sorted({r["dataset"] for r in rows})
+    rows = selected if selected is not None else services.all_lines(cat, ref, flt)
+    columns: tuple[str, ...] = LINE_LIST_COLUMNS
+    used = sorted({r["dataset"] for r in rows})  # the datasets behind the rows (before any sum)
+    if flt.multiplets:  # as on the page and in levels lines --multiplets
+        rows = merge_multiplets(rows, medium=flt.medium, air_formula=services.air_formula(cat, used))
+        columns = LINE_LIST_COLUMNS + MULTIPLET_EXTRA_COLUMNS
+    else:
+        rows = services.add_ritz_columns(ref, rows, flt.medium)
     provenance = cat.provenance(flt.query(services.line_name(ref)).describe(), used,
                                 medium=flt.medium, air_formula=services.air_formula(cat, used))
     if flt.selects:
         provenance["selection"] = (f"lower {flt.lower or 'any'}; upper series {flt.series or 'any'}; "
                                    f"name {flt.line_name or 'any'}: {len(rows)} lines")
-    return table_download(rows, LINE_LIST_COLUMNS, fmt, provenance, stem, LINE_UNITS, rows_key=LINE_ROWS_KEYS)
+    if flt.multiplets:
+        provenance["multiplets"] = ("components of one configuration and term pair summed: S and g f summed, "
+                                    "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
+    return table_download(rows, columns, fmt, provenance, stem, LINE_UNITS, rows_key=LINE_ROWS_KEYS)
 
 
 @bp.get(f"/species/<spectrum>/lines.<{FORMAT_CONVERTER}:fmt>")

@@ -193,11 +193,14 @@ class LineFilter:
     lower: str | None = None
     series: str | None = None
     line_name: str | None = None
+    #: sum fine-structure components into multiplets (as ``levels lines --multiplets``)
+    multiplets: bool = False
 
     @property
     def selects(self) -> bool:
-        """Whether the filter selects lines by level label or line name (applied to the whole window)."""
-        return bool(self.lower or self.series or self.line_name)
+        """Whether the filter selects lines by level label or line name, or sums multiplets (applied to the
+        whole window)."""
+        return bool(self.lower or self.series or self.line_name or self.multiplets)
 
     def query(self, spectrum: str | None = None, *, limit: int | None = None, offset: int = 0,
               order: str | None = None) -> LineQuery:
@@ -224,6 +227,8 @@ class LineFilter:
         for key in LINE_SELECTION_KEYS:
             if getattr(self, key):
                 out[key] = getattr(self, key)
+        if self.multiplets:
+            out["multiplets"] = "true"
         return out
 
 
@@ -259,6 +264,7 @@ def line_filter(args: Mapping, *, strict: bool = False) -> LineFilter:
         min_a=number(args, "min_a", minimum=0.0),
         order=LINE_ORDERS[choice(args, "order", tuple(LINE_ORDERS), "wavelength")],
         **{key: text_param(args, key) or None for key in LINE_SELECTION_KEYS},
+        multiplets=choice(args, "multiplets", ("true", "false"), "false") == "true",
     )
     if flt.from_nm is not None and flt.to_nm is not None and flt.from_nm > flt.to_nm:
         raise BadParameter("to_nm", f"the window is empty: from {flt.from_nm:g} nm is above to {flt.to_nm:g} nm")

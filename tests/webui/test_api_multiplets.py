@@ -26,3 +26,18 @@ def test_api_multiplets_equal_the_service_sum_of_the_same_lines(reader, shared):
 def test_api_multiplets_refuses_other_values(reader, shared):
     answer = reader.get("/api/v1/species/Li_I/lines", query_string={"multiplets": "yes"})
     assert answer.status_code == 400 and answer.get_json()["error"]["field"] == "multiplets"
+
+
+def test_pages_and_downloads_sum_multiplets_like_the_api(reader, shared):
+    window = {"from": "100nm", "to": "2000nm"}
+    api = reader.get("/api/v1/species/Li_I/lines", query_string={**window, "multiplets": "true", "limit": 1000})
+    api = api.get_json()
+    page = reader.get("/species/Li_I", query_string={**window, "multiplets": "true", "lper": 200})
+    text = page.get_data(as_text=True)
+    assert page.status_code == 200 and 'name="multiplets" value="true" checked' in text
+    assert f"{api['total']} rows" in text and " components</td>" in text
+    download = reader.get("/species/Li_I/lines.json", query_string={**window, "multiplets": "true"}).get_json()
+    assert download["columns"][-3:] == ["gf", "members", "weighting"] and "multiplets" in download["provenance"]
+    assert [r["members"] for r in download["lines"]] == [r["members"] for r in api["lines"]]
+    assert reader.get("/api/v1/species/Li_I/lines",
+                      query_string={"from": "900nm", "to": "950nm", "multiplets": "true"}).status_code == 200
