@@ -31,6 +31,7 @@ PAGES = {
     "diagram-li-i": "/species/" + quote("Li I") + "/diagram",
     "diagram-h-i": "/species/" + quote("H I") + "/diagram",
     "line-finder": "/lines?from=400nm&to=700nm",
+    "multiplets-li-i": "/species/" + quote("Li I") + "?from=600nm&to=1000nm&multiplets=true#lines",
     "datasets": "/datasets",
     "dataset-1": "/datasets/1",
     "line-record": "/species/" + quote("Li I") + "/lines/{first_line}",
