@@ -59,7 +59,7 @@ from levels.catalog import (
     add_ritz_columns,
 )
 from levels.errors import LevelsError, UnitError
-from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
+from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, MULTIPLETS_NOTE, filter_lines, merge_multiplets
 from levels.service.vocabulary import (
     DEFAULT_AIR_FORMULA,
     DEFAULT_MEDIUM,
@@ -575,8 +575,7 @@ class Store:
         if multiplets:
             rows = merge_multiplets(rows, medium=medium, air_formula=air_formula)
             columns = LINE_COLUMNS + MULTIPLET_EXTRA_COLUMNS
-            provenance["multiplets"] = ("components of one configuration and term pair summed: S and g f summed, "
-                                        "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
+            provenance["multiplets"] = MULTIPLETS_NOTE
         else:
             add_ritz_columns(rows, medium, air_formula=air_formula)
         provenance["datasets"] = "; ".join(n for n in used if n in contributed) or "(none)"

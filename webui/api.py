@@ -24,7 +24,7 @@ from levels.errors import AlreadyExistsError, InputFileError, LevelsError, NotFo
 from levels.io.limits import text_problem
 from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
 from levels.io.records import LINE_FILE_COLUMNS, validate_levels, validate_lines
-from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
+from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, MULTIPLETS_NOTE, filter_lines, merge_multiplets
 from levels.service.vocabulary import add_spectral_column, medium_statement
 
 from webui import params, services
@@ -164,10 +164,6 @@ def lines(spectrum: str):
     return json_response(line_table(rows, provenance, total=total, limit=limit, offset=offset,
                                     extra_column=extra_column, multiplets=multiplets))
 
-
-#: what a multiplet row is, for the provenance (as the Python API and the CLI say it)
-MULTIPLETS_NOTE = ("components of one configuration and term pair summed: S and g f summed, g_U A = sum g_u A, "
-                   "wavenumber g f-weighted (gA-weighted without f)")
 
 
 def line_table(rows: list[dict], provenance: dict, extra_column: str | None = None, multiplets: bool = False,

@@ -22,7 +22,7 @@ from levels.catalog import (
     add_ritz_columns,
 )
 from levels.errors import NotFoundError, PhysicsInputError
-from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, merge_multiplets
+from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, MULTIPLETS_NOTE, merge_multiplets
 from levels.service.rates import relative_uncertainty_in_note
 
 from webui import params, security, services
@@ -188,8 +188,7 @@ def _line_download(ref: services.SpeciesRef | None, fmt: str, stem: str):
         provenance["selection"] = (f"lower {flt.lower or 'any'}; upper series {flt.series or 'any'}; "
                                    f"name {flt.line_name or 'any'}: {len(rows)} lines")
     if flt.multiplets:
-        provenance["multiplets"] = ("components of one configuration and term pair summed: S and g f summed, "
-                                    "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
+        provenance["multiplets"] = MULTIPLETS_NOTE
     return table_download(rows, columns, fmt, provenance, stem, LINE_UNITS, rows_key=LINE_ROWS_KEYS)
 
 

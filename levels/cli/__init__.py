@@ -490,7 +490,7 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
       levels lines "He II" --from 0.5keV --to 0.7keV --unit keV
     """
     from levels.catalog import LINE_COLUMNS, LINE_HEADINGS, LINE_LIST_COLUMNS, LINE_UNITS, LineQuery, add_ritz_columns
-    from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, filter_lines, merge_multiplets
+    from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, MULTIPLETS_NOTE, filter_lines, merge_multiplets
     from levels.service.vocabulary import (
         add_spectral_column,
         air_formula_code,
@@ -542,8 +542,7 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     if multiplets:
         rows = merge_multiplets(rows, medium=medium, air_formula=air_formula)
         columns = LINE_COLUMNS + MULTIPLET_EXTRA_COLUMNS
-        provenance["multiplets"] = ("components of one configuration and term pair summed: S and g f summed, "
-                                    "g_U A = sum g_u A, wavenumber g f-weighted (gA-weighted without f)")
+        provenance["multiplets"] = MULTIPLETS_NOTE
     else:
         add_ritz_columns(rows, medium, air_formula=air_formula)
     # the listing says its medium and air formula in every format; the position column in the asked unit

@@ -33,6 +33,9 @@ from levels.notation import (
 #: columns of a multiplet row: the line-list columns (lower/upper are "configuration term", energies the
 #: g-weighted means of the levels present, wavelengths from the weighted wavenumber) plus these
 MULTIPLET_EXTRA_COLUMNS = ("gf", "members", "weighting")
+#: what a multiplet row is, in words (the provenance of every multiplet list: CLI, Python API, web, JSON API)
+MULTIPLETS_NOTE = ("components of one configuration and term pair summed: S and g f summed, g_U A = sum g_u A, "
+                   "wavenumber g f-weighted (gA-weighted without f)")
 _J_SUFFIX = re.compile(r"(?:J=)?[0-9]+(?:/2)?$")
 
 
