@@ -13,7 +13,7 @@ imports keep working. Neither the CLI nor the web site talks to SQL or to each o
 from __future__ import annotations
 
 import os
-from collections.abc import Callable, Sequence
+from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
 
 from levels import __version__
@@ -114,9 +114,14 @@ class Catalog:
         with database.read_session(self.engine) as session, session.begin():
             return work(session)
 
-    def provenance(self, query: str, datasets: Sequence[str] = (), **extra) -> dict:
-        """The provenance header of an export: tool version, store, datasets, query."""
-        out = {
+    def provenance(self, query: str, datasets: Sequence[str] = (), **extra: object) -> dict:
+        """The provenance header of an export: tool version, store, datasets, query.
+
+        Not a delegate: ``extra`` stays free-form on purpose. Each export adds its own keys after the four
+        fixed ones (the medium, the air formula, a rate report's method and sources, ...), and the header
+        writes whatever it is given, in that order; there is no fixed set of names to declare.
+        """
+        out: dict[str, object] = {
             "tool": f"levels {__version__}",
             "store": self.display_url,
             "datasets": "; ".join(datasets) if datasets else "(none)",
@@ -165,8 +170,19 @@ class Catalog:
         """Every dataset in precedence order with counts."""
         return datasets_service.dataset_rows(self, include_retracted)
 
-    def create_sample(self, name: str, **conditions) -> dict:
-        """Create a lab sample with its conditions (SAMPLE_CONDITION_FIELDS); the name must be new."""
+    def create_sample(self, name: str, *, description: str | None = None, gas_fill: str | None = None,
+                      pressure_pa: float | None = None, current_a: float | None = None,
+                      instrument: str | None = None, te_k: float | None = None, ne_m3: float | None = None,
+                      tgas_k: float | None = None, path_length_m: float | None = None) -> dict:
+        """Create a lab sample with its conditions; the name must be new (:func:`.datasets.create_sample`).
+
+        The keywords are :data:`SAMPLE_CONDITION_FIELDS`; None means "not given" (the store's default) and is
+        not passed on.
+        """
+        given = {"description": description, "gas_fill": gas_fill, "pressure_pa": pressure_pa,
+                 "current_a": current_a, "instrument": instrument, "te_k": te_k, "ne_m3": ne_m3,
+                 "tgas_k": tgas_k, "path_length_m": path_length_m}
+        conditions = {key: value for key, value in given.items() if value is not None}
         return datasets_service.create_sample(self, name, **conditions)
 
     def sample_rows(self) -> list[dict]:
@@ -194,29 +210,65 @@ class Catalog:
         """Parse and validate an uploaded levels file without writing: (records, problems)."""
         return imports.preview_levels(content, source)
 
-    def import_file(self, path: str | os.PathLike, **options) -> ImportReport:
+    def import_file(self, path: str | os.PathLike, *, sample: str | None = None, dataset: str | None = None,
+                    kind: str = "measured", citation: str = "", description: str = "",
+                    sample_conditions: Mapping[str, object] | None = None,
+                    content: bytes | None = None, source: str | None = None,
+                    allow_off_ritz: str | None = None, max_derived_lines: int | None = None,
+                    again: bool = False) -> ImportReport:
         """Import a levels or lines file as a new dataset, all-or-nothing (:func:`.imports.import_file`)."""
-        return imports.import_file(self, path, **options)
+        return imports.import_file(self, path, sample=sample, dataset=dataset, kind=kind, citation=citation,
+                                   description=description, sample_conditions=sample_conditions,
+                                   content=content, source=source, allow_off_ritz=allow_off_ritz,
+                                   max_derived_lines=max_derived_lines, again=again)
 
-    def import_line_records(self, records: Sequence[level_io.LineRecord], **options) -> ImportReport:
+    def import_line_records(self, records: Sequence[level_io.LineRecord], *, source: str, sample: str | None = None,
+                            dataset: str | None = None, kind: str = "measured", citation: str = "",
+                            description: str = "", sample_conditions: Mapping[str, object] | None = None,
+                            air_formula: str = "iau2000", allow_off_ritz: str | None = None,
+                            max_derived_lines: int | None = None, content_sha256: str | None = None,
+                            again: bool = False) -> ImportReport:
         """Write validated measured lines as one new dataset (:func:`.imports.import_line_records`)."""
-        return imports.import_line_records(self, records, **options)
+        return imports.import_line_records(self, records, source=source, sample=sample, dataset=dataset, kind=kind,
+                                           citation=citation, description=description,
+                                           sample_conditions=sample_conditions, air_formula=air_formula,
+                                           allow_off_ritz=allow_off_ritz, max_derived_lines=max_derived_lines,
+                                           content_sha256=content_sha256, again=again)
 
     def import_dataset(self, level_records: Sequence[level_io.LevelRecord],
-                       line_records: Sequence[level_io.LineRecord], **options) -> ImportReport:
+                       line_records: Sequence[level_io.LineRecord], *, name: str, source: str,
+                       sample: str | None = None, kind: str = "measured", citation: str = "",
+                       description: str = "", air_formula: str = "iau2000",
+                       line_source: str | None = None, allow_off_ritz: str | None = None,
+                       max_derived_lines: int | None = None, method: str = "file import") -> ImportReport:
         """One new dataset with levels and/or measured lines (:func:`.imports.import_dataset`)."""
-        return imports.import_dataset(self, level_records, line_records, **options)
+        return imports.import_dataset(self, level_records, line_records, name=name, source=source, sample=sample,
+                                      kind=kind, citation=citation, description=description,
+                                      air_formula=air_formula, line_source=line_source,
+                                      allow_off_ritz=allow_off_ritz, max_derived_lines=max_derived_lines,
+                                      method=method)
 
-    def import_level_records(self, records: Sequence[level_io.LevelRecord], **options) -> ImportReport:
+    def import_level_records(self, records: Sequence[level_io.LevelRecord], *, source: str,
+                             sample: str | None = None, kind: str = "measured", citation: str = "",
+                             description: str = "",
+                             sample_conditions: Mapping[str, object] | None = None,
+                             max_derived_lines: int | None = None, content_sha256: str | None = None,
+                             again: bool = False) -> ImportReport:
         """Write validated level records as one new dataset (:func:`.imports.import_level_records`)."""
-        return imports.import_level_records(self, records, **options)
+        return imports.import_level_records(self, records, source=source, sample=sample, kind=kind,
+                                            citation=citation, description=description,
+                                            sample_conditions=sample_conditions,
+                                            max_derived_lines=max_derived_lines, content_sha256=content_sha256,
+                                            again=again)
 
     # ------------------------------------------------------------- lab workflow
-    def fit_limit(self, spectrum: str, patterns: Sequence[str], **options) -> dict:
+    def fit_limit(self, spectrum: str, patterns: Sequence[str], *, datasets: Sequence[str] | None = None,
+                  n_defect_terms: int = 2, n_min: int | None = None, save: bool = True) -> dict:
         """Fit a series limit; optionally store it as its own dataset (:func:`.lab.fit_and_store_limit`)."""
         from levels.service import lab
 
-        return lab.fit_and_store_limit(self, spectrum, patterns, **options)
+        return lab.fit_and_store_limit(self, spectrum, patterns, datasets=datasets, n_defect_terms=n_defect_terms,
+                                       n_min=n_min, save=save)
 
     def optimize_levels(self, dataset: str | int, *, fix: str | None = None) -> dict:
         """Least-squares level energies from a dataset's measured lines (report only, nothing written)."""
@@ -224,17 +276,39 @@ class Catalog:
 
         return lab.optimize_dataset(self, dataset, fix=fix)
 
-    def identify_peaks(self, spectra: Sequence[str], peaks_path, **options) -> list[dict]:
+    def identify_peaks(self, spectra: Sequence[str], peaks_path, *, tolerance_nm: float = 0.0,
+                       content: bytes | None = None, source: str | None = None, max_candidates: int = 3,
+                       window: str = "tolerance", n_sigma: float = 3.0,
+                       tolerance_cm1: float | None = None) -> list[dict]:
         """Match a peaks file against the lines of one or more species (:func:`.lab.identify_peaks`)."""
         from levels.service import lab
 
-        return lab.identify_peaks(self, spectra, peaks_path, **options)
+        return lab.identify_peaks(self, spectra, peaks_path, tolerance_nm=tolerance_nm, content=content,
+                                  source=source, max_candidates=max_candidates, window=window, n_sigma=n_sigma,
+                                  tolerance_cm1=tolerance_cm1)
 
-    def emission(self, spectrum: str, **options):
-        """Line intensities, spectrum and lamp metrics of a discharge (:func:`.emission.discharge_emission`)."""
+    def emission(self, spectrum: str, *, te_k: float, ne_m3: float, tgas_k: float = 300.0,
+                 from_nm: float | None = None, to_nm: float | None = None, medium: str = "air",
+                 instrument_fwhm_nm: float = 0.0, path_length_m: float | None = None,
+                 element_density_m3: float | None = None, cutoff_method: str = "debye",
+                 datasets: Sequence[str] | None = None, grid_points: int | None = None,
+                 model: str = "lte", loss_rate_per_s: float = 0.0, geometry: str = "slab",
+                 broadening: str = "thermal", perturber: str | None = None, pressure_pa: float | None = None,
+                 cool_layer_m: float | None = None, forbidden_omega: float | None = None):
+        """Line intensities, spectrum and lamp metrics of a discharge (:func:`.emission.discharge_emission`).
+
+        The keywords from ``model`` on are the service's ``model_options``, declared as
+        :func:`.emission.compute_emission` declares them.
+        """
         from levels.service import emission
 
-        return emission.discharge_emission(self, spectrum, **options)
+        return emission.discharge_emission(
+            self, spectrum, te_k=te_k, ne_m3=ne_m3, tgas_k=tgas_k, from_nm=from_nm, to_nm=to_nm, medium=medium,
+            instrument_fwhm_nm=instrument_fwhm_nm, path_length_m=path_length_m,
+            element_density_m3=element_density_m3, cutoff_method=cutoff_method, datasets=datasets,
+            grid_points=grid_points, model=model, loss_rate_per_s=loss_rate_per_s, geometry=geometry,
+            broadening=broadening, perturber=perturber, pressure_pa=pressure_pa, cool_layer_m=cool_layer_m,
+            forbidden_omega=forbidden_omega)
 
 
 def _missing_sqlite_file(url: str) -> str | None:
