@@ -47,19 +47,20 @@ from astropy import constants as const
 from astropy import units as u
 from astropy.table import QTable
 
-from levels.catalog import (
+from levels.catalog import Catalog
+from levels.errors import LevelsError, UnitError
+from levels.notation import parse_spectrum
+from levels.service.contract import (
     EMISSION_COLUMNS,
     LEVEL_COLUMNS,
     LINE_COLUMNS,
     LINE_LIST_COLUMNS,
     SPECIES_COLUMNS,
-    Catalog,
     ImportReport,
     LineQuery,
-    add_ritz_columns,
 )
-from levels.errors import LevelsError, UnitError
 from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, MULTIPLETS_NOTE, filter_lines, merge_multiplets
+from levels.service.lines import add_ritz_columns
 from levels.service.vocabulary import (
     DEFAULT_AIR_FORMULA,
     DEFAULT_MEDIUM,
@@ -546,7 +547,8 @@ class Store:
         """
         air_formula = air_formula_code(air_formula)
         from_nm, to_nm = _window(window, medium)
-        query = LineQuery(spectrum=spectrum, from_nm=from_nm, to_nm=to_nm, medium=medium,
+        query = LineQuery(spectrum=None if spectrum is None else parse_spectrum(spectrum), from_nm=from_nm,
+                          to_nm=to_nm, medium=medium,
                           multipoles=tuple(m.strip().upper() for m in multipoles), min_a=_per_second(min_a, "min_a"),
                           max_upper_cm1=None if max_upper is None else _quantity(
                               max_upper, "max_upper", u.cm ** -1, "energy", equivalencies=u.spectral()),

@@ -39,6 +39,7 @@ from levels.service.contract import (  # noqa: F401 (re-exported: the front ends
     LevelRow,
     LineQuery,
     LineRow,
+    SpeciesRow,
 )
 from levels.service.derived import (  # noqa: F401 (re-exported)
     DEFAULT_MAX_DERIVED_LINES,
@@ -131,11 +132,11 @@ class Catalog:
         return out
 
     # ------------------------------------------------------------- species and levels
-    def species_rows(self) -> list[dict]:
+    def species_rows(self) -> list[SpeciesRow]:
         """One row per stored species with counts, ionization energy and datasets (:func:`.species.species_rows`)."""
         return species.species_rows(self)
 
-    def species_row(self, spectrum: str | Spectrum) -> dict:
+    def species_row(self, spectrum: str | Spectrum) -> SpeciesRow:
         """One row of :meth:`species_rows` (NotFoundError if the species is not stored)."""
         return species.species_row(self, spectrum)
 
@@ -144,12 +145,12 @@ class Catalog:
         return species.level_rows(self, spectrum, datasets)
 
     # ------------------------------------------------------------- lines
-    def line_rows(self, query: LineQuery, *, air_formula: str | None = None) -> tuple[list[dict], int]:
+    def line_rows(self, query: LineQuery, *, air_formula: str | None = None) -> tuple[list[LineRow], int]:
         """Stored lines matching ``query`` and the total count (:func:`.lines.line_rows`)."""
         return lines.line_rows(self, query, air_formula=air_formula)
 
     def species_lines(self, query: LineQuery, *, multipoles: Sequence[str] = ("E1",),
-                      air_formula: str = "iau2000") -> tuple[list[dict], dict]:
+                      air_formula: str = "iau2000") -> tuple[list[LineRow], dict]:
         """Every line the selection rules allow between a species' levels (:func:`.lines.species_lines`)."""
         return lines.species_lines(self, query, multipoles=multipoles, air_formula=air_formula)
 
@@ -157,7 +158,7 @@ class Catalog:
         """Rebuild the stored derived E1 lines of a species from its levels (default precedence)."""
         return lines.recompute_lines(self, spectrum)
 
-    def line_record(self, line_id: int) -> dict:
+    def line_record(self, line_id: int) -> LineRow:
         """One stored line by id, with its levels (NotFoundError if absent)."""
         return lines.line_record(self, line_id)
 
@@ -287,7 +288,7 @@ class Catalog:
                                   source=source, max_candidates=max_candidates, window=window, n_sigma=n_sigma,
                                   tolerance_cm1=tolerance_cm1)
 
-    def emission(self, spectrum: str, *, te_k: float, ne_m3: float, tgas_k: float = 300.0,
+    def emission(self, spectrum: str | Spectrum, *, te_k: float, ne_m3: float, tgas_k: float = 300.0,
                  from_nm: float | None = None, to_nm: float | None = None, medium: str = "air",
                  instrument_fwhm_nm: float = 0.0, path_length_m: float | None = None,
                  element_density_m3: float | None = None, cutoff_method: str = "debye",

@@ -13,17 +13,18 @@ from __future__ import annotations
 import hmac
 import json
 import math
+from collections.abc import Mapping, Sequence
 from dataclasses import replace
 from typing import Any
 
 from flask import Blueprint, current_app, request, url_for
 from werkzeug.datastructures import MultiDict
 
-from levels.catalog import LEVEL_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS
 from levels.errors import AlreadyExistsError, InputFileError, LevelsError, NotFoundError, Problem, StoreError
 from levels.io.limits import text_problem
 from levels.io.records import LEVEL_COLUMNS as LEVEL_FIELDS
 from levels.io.records import LINE_FILE_COLUMNS, validate_levels, validate_lines
+from levels.service.contract import LEVEL_COLUMNS, LINE_LIST_COLUMNS, SPECIES_COLUMNS, LineRow
 from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, MULTIPLETS_NOTE, filter_lines, merge_multiplets
 from levels.service.vocabulary import add_spectral_column, medium_statement
 
@@ -78,7 +79,7 @@ def species():
     """Every stored species (species columns of the contract)."""
     cat = services.catalog()
     rows = cat.species_rows()
-    used = sorted({name for r in rows for name in (r["datasets"] or "").split("; ") if name})
+    used = sorted({name for r in rows for name in r["dataset_names"]})
     return json_response(json_table(rows, SPECIES_COLUMNS, cat.provenance("species", used), total=len(rows)))
 
 
@@ -125,14 +126,14 @@ def lines(spectrum: str):
             return error(400, "bad_parameter", f"{key} is longer than 200 characters", key)
     multiplets = request.args.get("multiplets") == "true"
     contributed: list[str] = []  # datasets behind the rows before multiplets are summed
-    rows: list[dict]
+    rows: list[LineRow]
     if empty:  # the windows given do not overlap: no line lies in both
         rows, total = [], 0
     elif not any(chosen.values()) and not request.args.get("unit") and not multiplets:
         page = services.line_page_json(ref, flt, limit, offset)  # each row written once per store revision
         if page is not None:
             texts, total, used = page
-            provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium,
+            provenance = cat.provenance(flt.query(ref.spectrum).describe(), used, medium=flt.medium,
                                         wavelengths=medium_statement(flt.medium, services.air_formula(cat, used)))
             table = line_table([], provenance, total=total, limit=limit, offset=offset)
             return services.json_rows_response(table, table["lines"], texts)
@@ -153,7 +154,7 @@ def lines(spectrum: str):
     else:
         services.add_ritz_columns(ref, rows, flt.medium)
         used = sorted({r["dataset"] for r in rows})
-    provenance = cat.provenance(flt.query(ref.name).describe(), used, medium=flt.medium,
+    provenance = cat.provenance(flt.query(ref.spectrum).describe(), used, medium=flt.medium,
                                 wavelengths=medium_statement(flt.medium, services.air_formula(cat, used)))
     if multiplets:
         provenance["multiplets"] = MULTIPLETS_NOTE
@@ -166,8 +167,8 @@ def lines(spectrum: str):
 
 
 
-def line_table(rows: list[dict], provenance: dict, extra_column: str | None = None, multiplets: bool = False,
-               **extra) -> dict:
+def line_table(rows: Sequence[Mapping[str, Any]], provenance: dict, extra_column: str | None = None,
+               multiplets: bool = False, **extra) -> dict:
     """A line table answer: rows under ``lines``, as the CLI's line-list JSON, and the same rows under the
     deprecated ``rows`` (kept for older clients); ``extra_column`` (the ``unit`` column) after the list's;
     with ``multiplets`` also ``gf, members, weighting`` (the observed/Ritz columns and the name stay empty)."""

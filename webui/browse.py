@@ -7,22 +7,24 @@ a 400 page that says which field is wrong, never a server error.
 from __future__ import annotations
 
 import json
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
+from typing import Any
 
 import numpy as np
 from flask import Blueprint, abort, current_app, render_template, request, url_for
 
-from levels.catalog import (
+from levels.errors import NotFoundError, PhysicsInputError
+from levels.service.contract import (
     LEVEL_COLUMNS,
     LEVEL_UNITS,
     LINE_LIST_COLUMNS,
     LINE_UNITS,
     SPECIES_COLUMNS,
     LineQuery,
-    add_ritz_columns,
+    LineRow,
 )
-from levels.errors import NotFoundError, PhysicsInputError
 from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, MULTIPLETS_NOTE, merge_multiplets
+from levels.service.lines import add_ritz_columns
 from levels.service.rates import relative_uncertainty_in_note
 
 from webui import params, security, services
@@ -46,6 +48,12 @@ SPECIES_UNITS = {"ionization_cm1": "cm-1", "ionization_unc_cm1": "cm-1"}
 LISTED_LINES = 12
 #: what the list beside the diagram tells of each line
 LISTED_KEYS = ("id", "lower", "upper", "vacuum_nm", "air_nm", "a_per_s", "multipole")
+
+
+def listed_rows(rows: Sequence[Mapping[str, Any]]) -> list[dict[str, Any]]:
+    """The side list's keys (:data:`LISTED_KEYS`) of the first :data:`LISTED_LINES` rows (None where a row has no
+    such key: an engine line has no stored id)."""
+    return [{k: row.get(k) for k in LISTED_KEYS} for row in rows[:LISTED_LINES]]
 
 
 def _per_page() -> int:
@@ -82,7 +90,7 @@ def species_download(fmt: str):
     """The species table as CSV, JSON or ECSV."""
     cat = services.catalog()
     rows = cat.species_rows()
-    used = sorted({name for r in rows for name in (r["datasets"] or "").split("; ") if name})
+    used = sorted({name for r in rows for name in r["dataset_names"]})
     return table_download(rows, SPECIES_COLUMNS, fmt, cat.provenance("species", used), "species", SPECIES_UNITS)
 
 
@@ -121,7 +129,7 @@ def _line_state(ref: services.SpeciesRef | None, errors: dict, prefix: str = "l"
     return flt, pg, rows, total
 
 
-def _selected(rows: list[dict], flt: LineFilter) -> list[dict]:
+def _selected(rows: list[LineRow], flt: LineFilter) -> list[LineRow]:
     """Rows kept by the filter's lower-level, series and line-name selections (:func:`filter_lines`)."""
     from levels.errors import LevelsError
     from levels.service.line_selection import filter_lines
@@ -210,12 +218,13 @@ def _line(spectrum: str, line_id: int) -> tuple[services.SpeciesRef, dict]:
     except BadParameter:
         near = None
     try:
-        row = dict(services.find_line(services.catalog(), ref, line_id, near))
+        found = services.find_line(services.catalog(), ref, line_id, near)
     except NotFoundError as exc:
         abort(404, description=str(exc))
+    row: dict[str, Any] = dict(found)
     # observed and Ritz side by side: the Ritz value in both media, observed - Ritz in the observed medium
-    in_vacuum = add_ritz_columns([dict(row)], "vacuum")[0]
-    in_air = add_ritz_columns([dict(row)], "air")[0]
+    in_vacuum = add_ritz_columns([found.copy()], "vacuum")[0]
+    in_air = add_ritz_columns([found.copy()], "air")[0]
     row["ritz_vacuum_nm"] = in_vacuum["ritz_nm"]
     row["line_name"] = in_vacuum["line_name"]
     row["ritz_air_nm"] = in_air["ritz_nm"] if row.get("air_nm") is not None else None
@@ -290,12 +299,10 @@ def _engine_multipoles(flt: LineFilter) -> tuple[str, ...]:
     return chosen
 
 
-def engine_lines(cat, ref: services.SpeciesRef, flt: LineFilter, limit: int) -> tuple[list[dict], int, int]:
+def engine_lines(cat, ref: services.SpeciesRef, flt: LineFilter, limit: int) -> tuple[list[LineRow], int, int]:
     """The ``limit`` strongest lines the selection rules allow between the species' levels (engine rows,
     without a stored id), how many match in all, and how many of those have no known A."""
-    if not ref.lines_reachable:
-        return [], 0, 0
-    query = LineQuery(spectrum=ref.name, from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium,
+    query = LineQuery(spectrum=ref.spectrum, from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium,
                       min_a=flt.min_a, order="a", limit=limit)
     rows, info = cat.species_lines(query, multipoles=_engine_multipoles(flt))
     for row in rows:
@@ -392,13 +399,13 @@ def diagram_json(spectrum: str):
         if engine:
             rows, total, without_rates = engine_lines(cat, ref, flt, max_lines)
             arrays = LineArrays.from_rows(rows)
-            listed = [{k: ln[k] for k in LISTED_KEYS} for ln in rows[:LISTED_LINES]]
+            listed = listed_rows(rows)
         else:
             stored, index, total = services.diagram_lines(ref, flt, max_lines)
             if stored is None:  # lines not kept in memory (a very large species): ask the store
                 rows, total = services.strongest_lines(cat, ref, flt, max_lines)
                 arrays = LineArrays.from_rows(rows)
-                listed = [{k: ln[k] for k in LISTED_KEYS} for ln in rows[:LISTED_LINES]]
+                listed = listed_rows(rows)
             else:
                 listed = stored.rows(index[:LISTED_LINES], LISTED_KEYS)
                 shown = len(index)
@@ -421,7 +428,7 @@ def diagram_json(spectrum: str):
         "levels": layer.count, "columns": len(layer.keys),
         "lines_total": total, "lines_shown": shown, "lines_omitted": total - shown,
         "lines_unplaced": unplaced, "max_lines": max_lines,
-        "lines_reachable": ref.lines_reachable, "engine": engine, "lines_without_rates": without_rates,
+        "engine": engine, "lines_without_rates": without_rates,
         "ionization_cm1": ref.row["ionization_cm1"],
         "record_base": url_for("browse.species", spectrum=ref.url_name) + "/lines/",
         "strongest": listed, "panel_title": panel_title(listed),

@@ -42,7 +42,6 @@ from flask import (
 from itsdangerous import BadSignature, SignatureExpired, URLSafeTimedSerializer
 from werkzeug.utils import secure_filename
 
-from levels.catalog import SAMPLE_CONDITION_FIELDS
 from levels.errors import (
     AlreadyExistsError,
     InputFileError,
@@ -55,6 +54,7 @@ from levels.errors import (
 from levels.io.limits import automatic_dataset_name_problem, text_problem
 from levels.io.records import LevelRecord, LineRecord, validate_level
 from levels.io.tables import read_delimited
+from levels.service.contract import SAMPLE_CONDITION_FIELDS
 from levels.service.imports import detect_file_kind
 from levels.service.line_preview import check_line_file
 from levels.units import parse_quantity

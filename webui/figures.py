@@ -75,6 +75,16 @@ def term_key(term: str, parity: int) -> tuple:
     return (OTHER_COLUMNS, OTHER_COLUMNS, odd, term or "")
 
 
+def column_key(level: Mapping[str, Any]) -> tuple:
+    """The column key (:func:`term_key`) of a level row: from its LS values (``multiplicity``, ``L``,
+    ``parity`` of a :class:`levels.service.contract.LevelRow`) when it has them; only a jK-coupled or unknown
+    term (the store keeps no K) is read from the term text."""
+    multiplicity, big_l = level.get("multiplicity"), level.get("L")
+    if multiplicity is not None and big_l is not None:
+        return (multiplicity, big_l, 0 if level["parity"] == 1 else 1, "")
+    return term_key(level["term"], level["parity"])
+
+
 def term_tick(key: tuple) -> str:
     """Axis label of a column: ``<sup>2</sup>P°``, ``<sup>2</sup>[5/2]°`` (plotly's subset of HTML)."""
     first, second, third, raw = key
@@ -170,7 +180,7 @@ class LevelLayer:
     unit : str
         ``"cm-1"`` or ``"eV"``.
     keys : list of tuple
-        Column keys (:func:`term_key`), in column order.
+        Column keys (:func:`column_key`), in column order.
     level_x, level_e : numpy.ndarray
         Column and energy (cm-1) of each level.
     index_of : dict
@@ -213,7 +223,7 @@ def level_layer(levels: Sequence[Mapping[str, Any]], unit: str = "cm-1", axis: s
     (:data:`DIAGRAM_AXES`; ``limit_cm1`` the ionization limit for ``"limit"``). Only term columns that hold a
     level exist, so no column is empty."""
     scale, digits = _scale(unit)
-    level_keys = [term_key(lv["term"], lv["parity"]) for lv in levels]
+    level_keys = [column_key(lv) for lv in levels]
     keys = sorted(set(level_keys))
     column_of = {key: i for i, key in enumerate(keys)}
     level_x = np.array([column_of[key] for key in level_keys], dtype=float)
@@ -275,7 +285,7 @@ class LineArrays:
                    a_per_s=pick(columns["a_per_s"]).astype(float))
 
     @classmethod
-    def from_rows(cls, rows: Sequence[dict]) -> LineArrays:
+    def from_rows(cls, rows: Sequence[Mapping[str, Any]]) -> LineArrays:
         """From line rows (``LINE_COLUMNS`` plus ``id``; None for unknown numbers)."""
         def objects(name: str, default=None) -> np.ndarray:
             out = np.empty(len(rows), dtype=object)

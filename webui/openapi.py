@@ -11,7 +11,7 @@ import math
 import re
 
 from levels import __version__
-from levels.catalog import LEVEL_COLUMNS, LINE_LIST_COLUMNS, MULTIPOLE_CODES, SPECIES_COLUMNS
+from levels.service.contract import LEVEL_COLUMNS, LINE_LIST_COLUMNS, MULTIPOLE_CODES, SPECIES_COLUMNS
 
 from webui.params import API_DEFAULT_LIMIT, API_MAX_LIMIT, MAX_OFFSET
 

@@ -14,9 +14,9 @@ import re
 from collections.abc import Mapping
 from dataclasses import dataclass, replace
 
-from levels.catalog import MULTIPOLE_CODES, LineQuery
 from levels.errors import LevelsError, NotationError, UnitError
-from levels.notation import format_j, parse_j
+from levels.notation import Spectrum, format_j, parse_j
+from levels.service.contract import MULTIPOLE_CODES, LineQuery
 from levels.service.vocabulary import DEFAULT_MEDIUM
 from levels.units import parse_quantity
 
@@ -202,7 +202,7 @@ class LineFilter:
         whole window)."""
         return bool(self.lower or self.series or self.line_name or self.multiplets)
 
-    def query(self, spectrum: str | None = None, *, limit: int | None = None, offset: int = 0,
+    def query(self, spectrum: Spectrum | None = None, *, limit: int | None = None, offset: int = 0,
               order: str | None = None) -> LineQuery:
         """The catalog query of this filter."""
         return LineQuery(spectrum=spectrum, from_nm=self.from_nm, to_nm=self.to_nm, medium=self.medium,

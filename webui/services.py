@@ -2,20 +2,17 @@
 
 The site holds no physics and no SQL: everything here calls public Catalog
 methods and arranges their results for pages (filtering and paging the level
-table, resolving a species from its URL name, finding one line by id).
+table, resolving a species from its URL name, finding one line by id), from
+the values the rows carry (``two_j``, ``multiplicity``, ``L`` of a level;
+``dataset_names`` of a species), never by parsing their texts back. Line
+queries name a species by its :class:`~levels.notation.Spectrum`, mass number
+included, so every stored isotope's lines are listed.
 
 Where the Catalog has no method for a request, the work is done here on the
-results of the methods it has. Catalog methods that would replace these
-workarounds (and do the work in the store):
-
-* ``species_row(spectrum) -> dict`` instead of filtering ``species_rows()``
-  (which counts every species' levels and lines on each page view);
-* ``level_page(spectrum, datasets, configuration, two_j, parity, order, limit, offset)``
-  instead of filtering and paging ``level_rows()`` in Python;
-* ``line_record(line_id) -> dict`` instead of a narrow window search or a scan;
-* ``LineQuery.spectrum`` taking a ``Spectrum`` (with its mass number), so lines
-  of a non-default isotope can be listed;
-* ``species_rows()`` giving ``datasets`` as a list, not names joined by ``"; "``.
+results of the methods it has; one that would replace a workaround:
+``level_page(spectrum, datasets, configuration, two_j, parity, order, limit,
+offset)`` instead of filtering and paging ``level_rows()`` in Python (a species
+has at most a few thousand levels, and the rows are kept per store revision).
 """
 
 from __future__ import annotations
@@ -26,17 +23,19 @@ import math
 import os
 import re
 import threading
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
+from typing import Any
 
 import numpy as np
 from flask import Response, current_app, g, has_request_context, request
 
-from levels.catalog import LINE_LIST_COLUMNS, Catalog, LevelRow, LineQuery
-from levels.catalog import add_ritz_columns as catalog_add_ritz_columns
+from levels.catalog import Catalog
 from levels.errors import NotationError, NotFoundError
 from levels.isotopes import default_isotope
 from levels.notation import Spectrum, parse_spectrum
+from levels.service.contract import LINE_LIST_COLUMNS, LevelRow, LineQuery, LineRow, SpeciesRow
+from levels.service.lines import add_ritz_columns as catalog_add_ritz_columns
 from levels.service.readcache import ReadCache, SpeciesLines
 from levels.units import CM1_EV
 
@@ -60,23 +59,20 @@ class SpeciesRef:
 
     Attributes
     ----------
-    row : dict
-        Its species row (``SPECIES_COLUMNS``).
+    row : SpeciesRow
+        Its species row.
     spectrum : Spectrum
         Z, charge and mass number.
     url_name : str
         Spectrum notation with ``_`` for the space (``He_II``).
     mass_query : int or None
         The ``mass_number`` query parameter needed to address it (None for the default isotope).
-    lines_reachable : bool
-        Whether the line queries, which name species by text, reach this isotope.
     """
 
-    row: dict
+    row: SpeciesRow
     spectrum: Spectrum
     url_name: str
     mass_query: int | None
-    lines_reachable: bool
 
     @property
     def name(self) -> str:
@@ -84,8 +80,7 @@ class SpeciesRef:
 
     @property
     def datasets(self) -> list[str]:
-        text = self.row.get("datasets") or ""
-        return [name for name in text.split("; ") if name]
+        return list(self.row["dataset_names"])
 
     def url_args(self) -> dict:
         """Keyword arguments of ``url_for`` for this species."""
@@ -95,7 +90,7 @@ class SpeciesRef:
         return out
 
 
-def _by_name_choice(rows: Sequence[dict], z: int, charge: int) -> dict | None:
+def _by_name_choice(rows: Sequence[SpeciesRow], z: int, charge: int) -> SpeciesRow | None:
     """The isotope a spectrum name without a mass number resolves to (as the store does)."""
     same = [r for r in rows if r["z"] == z and r["charge"] == charge]
     if not same:
@@ -107,13 +102,13 @@ def _by_name_choice(rows: Sequence[dict], z: int, charge: int) -> dict | None:
     return same[0] if len(same) == 1 else None
 
 
-def _ref(row: dict, rows: Sequence[dict]) -> SpeciesRef:
+def _ref(row: SpeciesRow, rows: Sequence[SpeciesRow]) -> SpeciesRef:
     spec = Spectrum(row["z"], row["charge"], row["mass_number"])
     named = parse_spectrum(row["spectrum"])
     chosen = row if named.mass_number is not None else _by_name_choice(rows, row["z"], row["charge"])
     reachable = chosen is row
     return SpeciesRef(row=row, spectrum=spec, url_name=row["spectrum"].replace(" ", "_"),
-                      mass_query=None if reachable else row["mass_number"], lines_reachable=reachable)
+                      mass_query=None if reachable else row["mass_number"])
 
 
 _CACHE_LOCK = threading.Lock()
@@ -196,7 +191,7 @@ def not_modified(tag: str) -> Response:
     return tagged(Response(status=304), tag)
 
 
-def species_rows(cat: Catalog) -> list[dict]:
+def species_rows(cat: Catalog) -> list[SpeciesRow]:
     """``Catalog.species_rows()``, kept until the store's revision changes.
 
     ``species_rows`` counts every species' levels and lines, which on a large store
@@ -273,7 +268,7 @@ def search_species(refs: Sequence[SpeciesRef], text: str) -> list[SpeciesRef]:
     return [r for r in refs if needle in r.name.lower() or needle in (r.row.get("datasets") or "").lower()]
 
 
-def ionization_ev(row: dict) -> float | None:
+def ionization_ev(row: Mapping[str, Any]) -> float | None:
     """The ionization energy of a species row in eV (None when unknown)."""
     value = row.get("ionization_cm1")
     return None if value is None else value * CM1_EV
@@ -286,19 +281,10 @@ _LEVEL_SORT_KEYS = {
     "label": lambda r: (r["label"], r["energy_cm1"]),
     "configuration": lambda r: (r["configuration"], r["energy_cm1"]),
     "term": lambda r: (r["term"], r["energy_cm1"]),
-    "j": lambda r: (_two_j(r["j"]) is None, _two_j(r["j"]) or 0, r["energy_cm1"]),
+    "j": lambda r: (r["two_j"] is None, r["two_j"] or 0, r["energy_cm1"]),
     "unc": lambda r: (math.inf if r["unc_cm1"] is None else r["unc_cm1"], r["energy_cm1"]),
     "dataset": lambda r: (r["dataset"], r["energy_cm1"]),
 }
-
-
-def _two_j(text: str | None) -> int | None:
-    """2J of a level row's ``j`` text (``"3/2"`` -> 3); None for a term whose J is not resolved."""
-    if not text:
-        return None
-    if "/" in text:
-        return int(text.split("/")[0])
-    return 2 * int(text)
 
 
 def filtered_levels(cat: Catalog, ref: SpeciesRef, flt: LevelFilter) -> list[LevelRow]:
@@ -324,7 +310,7 @@ def filtered_levels(cat: Catalog, ref: SpeciesRef, flt: LevelFilter) -> list[Lev
         needle = flt.configuration.lower()
         rows = [r for r in rows if needle in r["configuration"].lower()]
     if flt.two_j is not None:
-        rows = [r for r in rows if _two_j(r["j"]) == flt.two_j]
+        rows = [r for r in rows if r["two_j"] == flt.two_j]
     if flt.parity is not None:
         rows = [r for r in rows if r["parity"] == flt.parity]
     rows.sort(key=_LEVEL_SORT_KEYS[flt.sort], reverse=flt.descending)
@@ -339,9 +325,9 @@ def level_page(cat: Catalog, ref: SpeciesRef, flt: LevelFilter, page: Page) -> t
 
 # ----------------------------------------------------------------- lines
 
-def line_name(ref: SpeciesRef | None) -> str | None:
-    """The spectrum text used in line queries (None = all species)."""
-    return None if ref is None else ref.name
+def line_name(ref: SpeciesRef | None) -> Spectrum | None:
+    """The spectrum of line queries, with its mass number (None = all species)."""
+    return None if ref is None else ref.spectrum
 
 
 #: species with more stored lines than this are read page by page from the store, not kept in memory
@@ -356,12 +342,10 @@ def keeps_lines(ref: SpeciesRef) -> bool:
 
 
 def line_window(ref: SpeciesRef, flt: LineFilter, limit: int | None = None, offset: int = 0,
-                order: str | None = None) -> tuple[list[dict], int]:
+                order: str | None = None) -> tuple[list[LineRow], int]:
     """Lines of one species under the filter, in the filter's order (or ``order``), ``limit`` from ``offset``,
     and how many match in all: the rows ``Catalog.line_rows`` gives, from the species' line columns kept
     per store revision (no query, no count per request; a species too large to keep is queried)."""
-    if not ref.lines_reachable:
-        return [], 0
     if not keeps_lines(ref):
         return catalog().line_rows(flt.query(line_name(ref), limit=limit, offset=offset, order=order))
     lines = read_cache().species_lines(ref.spectrum, revision())
@@ -370,7 +354,7 @@ def line_window(ref: SpeciesRef, flt: LineFilter, limit: int | None = None, offs
     return lines.line_rows(lines.page(keep, order or flt.order, offset, limit)), int(keep.sum())
 
 
-def add_ritz_columns(ref: SpeciesRef | None, rows: list[dict], medium: str) -> list[dict]:
+def add_ritz_columns(ref: SpeciesRef | None, rows: list[LineRow], medium: str) -> list[LineRow]:
     """:func:`levels.catalog.add_ritz_columns` for rows of one species (the same values, in place).
 
     Only H I, D I and T I lines have customary names; for every other species ``line_name`` is None
@@ -378,15 +362,12 @@ def add_ritz_columns(ref: SpeciesRef | None, rows: list[dict], medium: str) -> l
     """
     if ref is None or (ref.spectrum.z == 1 and ref.spectrum.charge == 0):
         return list(catalog_add_ritz_columns(rows, medium))
-    named = [row.pop("spectrum", _MISSING) for row in rows]  # no spectrum: the catalog names no line
+    named = [row.pop("spectrum", None) for row in rows]  # no spectrum: the catalog names no line
     catalog_add_ritz_columns(rows, medium)
     for row, name in zip(rows, named):
-        if name is not _MISSING:
+        if name is not None:
             row["spectrum"] = name
     return rows
-
-
-_MISSING = object()
 
 
 def _line_texts(ref: SpeciesRef, lines: SpeciesLines, medium: str) -> np.ndarray:
@@ -402,8 +383,6 @@ def line_page_json(ref: SpeciesRef, flt: LineFilter, limit: int | None = None,
     with the Ritz columns), how many rows match in all, and the datasets of the rows. A row is written
     once per store revision and medium, then joined into pages. None when the species' lines are not
     kept (too many): then use :func:`line_window`."""
-    if not ref.lines_reachable:
-        return [], 0, []
     if not keeps_lines(ref):
         return None
     lines = read_cache().species_lines(ref.spectrum, revision())
@@ -436,29 +415,23 @@ def json_rows_response(payload: dict, placeholder: list, row_texts: Sequence[str
     return Response(body, mimetype="application/json")
 
 
-def line_page(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter, page: Page) -> tuple[list[dict], int]:
+def line_page(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter, page: Page) -> tuple[list[LineRow], int]:
     """One page of lines matching the filter, and the total count."""
-    if ref is not None and not ref.lines_reachable:
-        return [], 0
     if ref is not None and has_request_context():
         return line_window(ref, flt, page.per, page.offset)
     return cat.line_rows(flt.query(line_name(ref), limit=page.per, offset=page.offset))
 
 
-def all_lines(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter) -> list[dict]:
+def all_lines(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter) -> list[LineRow]:
     """Every line matching the filter (for downloads)."""
-    if ref is not None and not ref.lines_reachable:
-        return []
     if ref is not None and has_request_context():
         return line_window(ref, flt)[0]
     rows, _total = cat.line_rows(flt.query(line_name(ref)))
     return rows
 
 
-def strongest_lines(cat: Catalog, ref: SpeciesRef, flt: LineFilter, limit: int) -> tuple[list[dict], int]:
+def strongest_lines(cat: Catalog, ref: SpeciesRef, flt: LineFilter, limit: int) -> tuple[list[LineRow], int]:
     """The ``limit`` lines with the largest Einstein A under the filter, and how many match in all."""
-    if not ref.lines_reachable:
-        return [], 0
     return cat.line_rows(flt.query(line_name(ref), limit=limit, order="a"))
 
 
@@ -470,9 +443,9 @@ def species_levels(ref: SpeciesRef) -> list[LevelRow]:
 def diagram_lines(ref: SpeciesRef, flt: LineFilter, limit: int) -> tuple[SpeciesLines | None, np.ndarray, int]:
     """The stored lines a diagram draws: the species' line columns (kept per store revision), the indices
     of the ``limit`` strongest under the filter (largest A first, as ``strongest_lines`` orders them), and
-    how many match in all. None for the columns when the species' lines are not kept (too many, or not
-    reachable by name): then ask :func:`strongest_lines`."""
-    if not ref.lines_reachable or not keeps_lines(ref):
+    how many match in all. None for the columns when the species' lines are not kept (too many): then ask
+    :func:`strongest_lines`."""
+    if not keeps_lines(ref):
         return None, np.empty(0, dtype=np.int64), 0
     lines = read_cache().species_lines(ref.spectrum, revision())
     keep = lines.mask(from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium, multipoles=flt.multipoles,
@@ -480,7 +453,7 @@ def diagram_lines(ref: SpeciesRef, flt: LineFilter, limit: int) -> tuple[Species
     return lines, lines.strongest(keep, limit), int(keep.sum())
 
 
-def find_line(cat: Catalog, ref: SpeciesRef, line_id: int, near_vacuum_nm: float | None = None) -> dict:
+def find_line(cat: Catalog, ref: SpeciesRef, line_id: int, near_vacuum_nm: float | None = None) -> LineRow:
     """One stored line of a species by id.
 
     With the line's vacuum wavelength the search is a narrow window (fast);
@@ -491,22 +464,21 @@ def find_line(cat: Catalog, ref: SpeciesRef, line_id: int, near_vacuum_nm: float
     NotFoundError
         No line with that id belongs to the species.
     """
-    if ref.lines_reachable:
-        if near_vacuum_nm is not None and math.isfinite(near_vacuum_nm) and near_vacuum_nm > 0:
-            rows, _ = cat.line_rows(LineQuery(spectrum=ref.name, from_nm=near_vacuum_nm * (1 - 1e-9),
-                                              to_nm=near_vacuum_nm * (1 + 1e-9)))
-            for row in rows:
-                if row["id"] == line_id:
-                    return row
-        offset = 0
-        while True:
-            rows, total = cat.line_rows(LineQuery(spectrum=ref.name, limit=LINE_SCAN_CHUNK, offset=offset))
-            for row in rows:
-                if row["id"] == line_id:
-                    return row
-            offset += LINE_SCAN_CHUNK
-            if offset >= total or not rows:
-                break
+    if near_vacuum_nm is not None and math.isfinite(near_vacuum_nm) and near_vacuum_nm > 0:
+        rows, _ = cat.line_rows(LineQuery(spectrum=ref.spectrum, from_nm=near_vacuum_nm * (1 - 1e-9),
+                                          to_nm=near_vacuum_nm * (1 + 1e-9), medium="vacuum"))
+        for row in rows:
+            if row["id"] == line_id:
+                return row
+    offset = 0
+    while True:
+        rows, total = cat.line_rows(LineQuery(spectrum=ref.spectrum, limit=LINE_SCAN_CHUNK, offset=offset))
+        for row in rows:
+            if row["id"] == line_id:
+                return row
+        offset += LINE_SCAN_CHUNK
+        if offset >= total or not rows:
+            break
     raise NotFoundError(f"no line {line_id} of {ref.name} in the store")
 
 

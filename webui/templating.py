@@ -12,7 +12,7 @@ from urllib.parse import urlencode
 from flask import Flask, request
 
 from levels import __version__
-from levels.catalog import MULTIPOLE_CODES
+from levels.service.contract import MULTIPOLE_CODES
 
 
 def fixed(value, digits: int = 4) -> str:

@@ -30,10 +30,10 @@ from typing import Any
 
 from flask import Blueprint, Response, abort, current_app, render_template, request, url_for
 
-from levels.catalog import EMISSION_COLUMNS, LINE_UNITS, LineQuery
 from levels.errors import NotFoundError, PhysicsInputError, UnitError
 from levels.figures import model_comparison_figure
 from levels.io.tables import format_table
+from levels.service.contract import EMISSION_COLUMNS, LINE_UNITS, LineQuery
 from levels.service.emission import BANDS_NM, srgb_swatch
 from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 
@@ -200,9 +200,9 @@ def species_with_rates(cat) -> list[services.SpeciesRef]:
     """Stored species (reachable by name) with at least one stored line that has an Einstein A."""
     out = []
     for ref in services.species_refs(cat):
-        if not ref.lines_reachable or not ref.row.get("lines"):
+        if not ref.row.get("lines"):
             continue
-        _rows, total = cat.line_rows(LineQuery(spectrum=ref.name, min_a=0.0, limit=1))
+        _rows, total = cat.line_rows(LineQuery(spectrum=ref.spectrum, min_a=0.0, limit=1))
         if total:
             out.append(ref)
     return out
@@ -223,9 +223,6 @@ def compute(req: EmissionRequest, model: str | None = None):
     """
     cat = services.catalog()
     ref = services.resolve_species(cat, req.species)
-    if not ref.lines_reachable:
-        raise PhysicsInputError(f"lines of {ref.name} (mass number {ref.row['mass_number']}) cannot be reached by "
-                                "name; the workbench works on the default isotope only")
     store = current_app.extensions["levels"]
     model = model or req.model
     key = (ref.name,) + req.key()[1:] + (model,)
@@ -235,7 +232,7 @@ def compute(req: EmissionRequest, model: str | None = None):
         hit = cache.get(key)
         if hit is not None and now - hit[0] < CACHE_S:
             return ref, hit[1]
-    result = cat.emission(ref.name, te_k=req.te_k, ne_m3=req.ne_m3, tgas_k=req.tgas_k, from_nm=req.from_nm,
+    result = cat.emission(ref.spectrum, te_k=req.te_k, ne_m3=req.ne_m3, tgas_k=req.tgas_k, from_nm=req.from_nm,
                           to_nm=req.to_nm, medium=req.medium, instrument_fwhm_nm=req.fwhm_nm,
                           path_length_m=req.path_m, grid_points=GRID_POINTS, model=model,
                           loss_rate_per_s=req.loss_per_s, broadening=req.broadening, perturber=req.perturber,

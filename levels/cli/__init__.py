@@ -18,12 +18,14 @@ from typing import TYPE_CHECKING, Any
 import click
 
 from levels import __version__
-from levels.catalog import LEVEL_COLUMNS, LEVEL_UNITS, SPECIES_COLUMNS, Catalog
+from levels.catalog import Catalog
 from levels.errors import InputFileError, LevelsError
 from levels.io.limits import text_problem
 from levels.io.paths import check_output_path
 from levels.io.tables import format_table, format_text_table, printable, write_atomic
+from levels.notation import parse_spectrum
 from levels.service import stores
+from levels.service.contract import LEVEL_COLUMNS, LEVEL_UNITS, SPECIES_COLUMNS
 from levels.service.vocabulary import DEFAULT_MEDIUM, SPECTRAL_OUTPUT_CHOICES
 
 if TYPE_CHECKING:
@@ -173,7 +175,7 @@ def complete_provenance(provenance: dict, rows: Sequence[Mapping[str, Any]]) -> 
     if out.get("datasets") in (None, "", "(none)"):
         seen: dict[str, None] = {}
         for row in rows:
-            for name in [row.get("dataset")] + str(row.get("datasets") or "").split("; "):
+            for name in (row.get("dataset"), *row.get("dataset_names", ())):
                 if name:
                     seen.setdefault(str(name), None)
         out["datasets"] = "; ".join(seen) if seen else "none (no stored rows)"
@@ -489,8 +491,9 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
       levels lines "H I" --lower "2p 2P°3/2" --series "nd 2D5/2" --multiplets
       levels lines "He II" --from 0.5keV --to 0.7keV --unit keV
     """
-    from levels.catalog import LINE_COLUMNS, LINE_HEADINGS, LINE_LIST_COLUMNS, LINE_UNITS, LineQuery, add_ritz_columns
+    from levels.service.contract import LINE_COLUMNS, LINE_HEADINGS, LINE_LIST_COLUMNS, LINE_UNITS, LineQuery
     from levels.service.line_selection import MULTIPLET_EXTRA_COLUMNS, MULTIPLETS_NOTE, filter_lines, merge_multiplets
+    from levels.service.lines import add_ritz_columns
     from levels.service.vocabulary import (
         add_spectral_column,
         air_formula_code,
@@ -509,7 +512,7 @@ def lines(obj: Context, spectrum: str | None, from_: str | None, to: str | None,
     output_path(output)
     from_nm, to_nm = _window(from_, to, medium, air_formula)
     multipoles = _multipoles_option(multipole)
-    query = LineQuery(spectrum=spectrum, from_nm=from_nm,
+    query = LineQuery(spectrum=None if spectrum is None else parse_spectrum(spectrum), from_nm=from_nm,
                       to_nm=to_nm, medium=medium,
                       multipoles=multipoles, min_a=min_a,
                       max_upper_cm1=_energy_cm1_option(max_upper), datasets=tuple(datasets) or None,
@@ -718,9 +721,9 @@ def identify(obj: Context, spectra: str, peaks_file: str, tolerance: str, window
         raise click.BadParameter(str(exc), param_hint="'--tolerance'") from None
     # a length is the window itself; a wavenumber, energy or frequency is a wavenumber width, converted at each
     # peak's wavelength (|d lambda| = lambda^2 d sigma)
-    width = {"tolerance_nm": given.nm} if given.is_length else {"tolerance_cm1": 1e7 / given.nm}
+    tolerance_nm, tolerance_cm1 = (given.nm, None) if given.is_length else (0.0, 1e7 / given.nm)
     rows = obj.catalog.identify_peaks(names, peaks_file, max_candidates=candidates, window=window, n_sigma=n_sigma,
-                                      **width)
+                                      tolerance_nm=tolerance_nm, tolerance_cm1=tolerance_cm1)
     rule = (f"window |peak - line| <= {tolerance}" if window == "tolerance"
             else f"window max({tolerance}, {n_sigma:g} combined uncertainties)")
     from levels.service.vocabulary import air_formula_description
@@ -801,7 +804,7 @@ def emission(obj: Context, spectrum: str, te: str, ne: str, tgas: str, model: st
       levels emission "H I" --te 1.0eV --ne 1e19m-3 --tgas 600K --from 380nm --to 700nm --plot h.html
       levels emission "H I" --te 1eV --ne 1e17m-3 --model cr --length 0.01m --loss-rate 1e4 --format json
     """
-    from levels.catalog import EMISSION_COLUMNS, LINE_HEADINGS, LINE_UNITS
+    from levels.service.contract import EMISSION_COLUMNS, LINE_HEADINGS, LINE_UNITS
     from levels.service.vocabulary import air_formula_description
     from levels.units import density_m3, parse_quantity, temperature_k, wavelength_nm
 

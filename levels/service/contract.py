@@ -12,10 +12,16 @@ from dataclasses import dataclass, field
 from typing import TypedDict
 
 from levels.io import records as level_io
+from levels.isotopes import default_isotope
+from levels.notation import Spectrum, parse_spectrum
+from levels.service.vocabulary import DEFAULT_MEDIUM
+from levels.store.columns import LINE_LEVEL_VALUE_KEYS  # noqa: F401 (part of the contract: LineRow's values)
 
 SPECIES_COLUMNS = ("spectrum", "z", "charge", "mass_number", "levels", "lines", "ionization_cm1",
                    "ionization_unc_cm1", "datasets")
 LEVEL_COLUMNS = level_io.LEVEL_COLUMNS
+#: keys a :class:`LevelRow` carries after :data:`LEVEL_COLUMNS`: quantum numbers as values (not output columns)
+LEVEL_VALUE_KEYS = ("two_j", "multiplicity", "L")
 LEVEL_UNITS = {"energy_cm1": "cm-1", "unc_cm1": "cm-1", "lifetime_s": "s"}
 LINE_COLUMNS = ("spectrum", "lower", "upper", "lower_cm1", "upper_cm1", "wavenumber_cm1", "vacuum_nm", "air_nm",
                 "multipole", "a_per_s", "f_abs", "line_strength_au", "g_lower", "g_upper", "unc_nm", "dataset")
@@ -40,11 +46,32 @@ SAMPLE_CONDITION_FIELDS = ("description", "gas_fill", "pressure_pa", "current_a"
                            "tgas_k", "path_length_m")
 
 
+class SpeciesRow(TypedDict):
+    """A species as the service returns it: the :data:`SPECIES_COLUMNS` first, in that order, then values for
+    the front ends: ``dataset_names`` (the datasets of the ``datasets`` text, as a tuple) and ``all_limits``
+    (every stored ionization limit in words, first the one that holds)."""
+
+    spectrum: str
+    z: int
+    charge: int
+    mass_number: int
+    levels: int
+    lines: int
+    ionization_cm1: float | None
+    ionization_unc_cm1: float | None
+    datasets: str
+    dataset_names: tuple[str, ...]
+    all_limits: str
+
+
 class LevelRow(TypedDict):
-    """A level as the service returns it (:data:`LEVEL_COLUMNS`, in that order): the contract users script against.
+    """A level as the service returns it: the :data:`LEVEL_COLUMNS` first, in that order (the contract users
+    script against; every writer selects exactly these), then the level's quantum numbers as values
+    (:data:`LEVEL_VALUE_KEYS`), so that no front end has to parse them back out of the texts.
 
     ``j`` is the text of J (``"3/2"``, empty when unresolved), ``parity`` +1 (even) or -1 (odd); energies in cm-1,
-    ``lifetime_s`` in s.
+    ``lifetime_s`` in s. ``two_j`` is 2J (None when J is not resolved); ``multiplicity`` (2S+1) and ``L`` are
+    those of the LS term (None for a jK-coupled or unknown term).
     """
 
     spectrum: str
@@ -61,11 +88,21 @@ class LevelRow(TypedDict):
     lifetime_s: float | None
     lande_g: float | None
     dataset: str
+    two_j: int | None
+    multiplicity: int | None
+    L: int | None
 
 
 class LineRow(TypedDict, total=False):
-    """A line as the service returns it (:data:`LINE_LIST_COLUMNS`; energies cm-1, wavelengths nm, A in s-1,
-    S in atomic units e^2 a0^2). Rows of the line engine also carry the level ids and notes the front ends use."""
+    """A line as the service returns it: the :data:`LINE_LIST_COLUMNS` (energies cm-1, wavelengths nm, A in s-1,
+    S in atomic units e^2 a0^2; every writer selects exactly these), then values for the front ends.
+
+    Every row carries the quantum numbers of its two levels (:data:`LINE_LEVEL_VALUE_KEYS`: 2J, parity, and 2S+1
+    and L of an LS term, None where the level has none) and their ids. A stored line's row also has its ``id``,
+    ``observed_nm``, ``medium``, ``intensity`` and ``note``; a row of the line engine has the levels' lifetimes,
+    the observed wavelengths of a measured line of the same pair (``obs_vacuum_nm``, ``obs_air_nm``) and the
+    datasets it draws on (``source_datasets``).
+    """
 
     spectrum: str
     lower: str
@@ -87,16 +124,63 @@ class LineRow(TypedDict, total=False):
     ritz_nm: float | None
     obs_minus_ritz_nm: float | None
     line_name: str | None
+    # values after the columns
+    lower_two_j: int | None
+    upper_two_j: int | None
+    lower_parity: int
+    upper_parity: int
+    lower_multiplicity: int | None
+    upper_multiplicity: int | None
+    lower_L: int | None
+    upper_L: int | None
+    lower_id: int
+    upper_id: int
+    id: int
+    observed_nm: float | None
+    medium: str | None
+    intensity: float | None
+    note: str | None
+    lower_lifetime_s: float | None
+    upper_lifetime_s: float | None
+    obs_vacuum_nm: float | None
+    obs_air_nm: float | None
+    source_datasets: tuple[str, ...]
+    # a multiplet's row (levels.service.line_selection.merge_multiplets: lower and upper are terms): sum of g_l f,
+    # number of components, and how its wavenumber was averaged
+    gf: float | None
+    members: int
+    weighting: str
+
+
+def spectrum_text(spectrum: Spectrum) -> str:
+    """Spectrum notation, with the mass number only where it is not the element's default isotope's (the one a
+    name without it means): ``Li I`` for lithium 7 as for plain ``Li I``, ``He II A=3``, ``D I``.
+
+    >>> spectrum_text(Spectrum(3, 0, 7)), spectrum_text(Spectrum(3, 0)), spectrum_text(Spectrum(2, 1, 3))
+    ('Li I', 'Li I', 'He II A=3')
+    """
+    if spectrum.mass_number is None or spectrum.mass_number == default_isotope(spectrum.z).mass_number:
+        return spectrum.name
+    return spectrum.isotope_name
 
 
 @dataclass(frozen=True)
 class LineQuery:
-    """A line-list request: species (None = all), window, medium, filters, order and page."""
+    """A line-list request: species (None = all), window, medium, filters, order and page.
 
-    spectrum: str | None = None
+    ``spectrum`` is a :class:`levels.notation.Spectrum` (with its mass number, an isotope that is not the
+    default one is reached too); spectrum notation (``"He II"``, ``"C5+"``, ``"He II A=3"``) is parsed into one.
+    The window ``from_nm``-``to_nm`` is in ``medium`` (default :data:`levels.service.vocabulary.DEFAULT_MEDIUM`:
+    air at and above 200 nm, vacuum below).
+
+    >>> LineQuery(spectrum="C5+").spectrum.name, LineQuery().medium
+    ('C VI', 'air')
+    """
+
+    spectrum: Spectrum | None = None
     from_nm: float | None = None
     to_nm: float | None = None
-    medium: str = "vacuum"
+    medium: str = DEFAULT_MEDIUM
     multipoles: tuple[str, ...] | None = None
     min_a: float | None = None
     max_upper_cm1: float | None = None
@@ -105,9 +189,13 @@ class LineQuery:
     limit: int | None = None
     offset: int = 0
 
+    def __post_init__(self) -> None:
+        if isinstance(self.spectrum, str):
+            object.__setattr__(self, "spectrum", parse_spectrum(self.spectrum))
+
     def describe(self) -> str:
         """The query in words for export headers."""
-        parts = [f"lines {self.spectrum or '(all species)'}"]
+        parts = [f"lines {spectrum_text(self.spectrum) if self.spectrum is not None else '(all species)'}"]
         if self.from_nm is not None or self.to_nm is not None:
             upper = "inf" if self.to_nm is None else f"{self.to_nm:.10g}"
             parts.append(f"window {self.from_nm or 0:.10g}-{upper} nm {self.medium}")

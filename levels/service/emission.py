@@ -31,6 +31,7 @@ from __future__ import annotations
 import math
 from collections.abc import Sequence
 from dataclasses import dataclass, field
+from typing import Any
 
 import numpy as np
 
@@ -45,7 +46,7 @@ from levels.physics.discharge import neutral_broadening, slab_transfer, stark, v
 from levels.physics.plasma import equilibrium as plasma
 from levels.physics.plasma import spectrum as spectra
 from levels.service import lookup
-from levels.service.contract import LineQuery
+from levels.service.contract import LineQuery, LineRow
 from levels.service.lines import species_lines
 from levels.store import queries
 from levels.units import CM1_J, C, H
@@ -97,7 +98,7 @@ class EmissionResult:
                 "validity": self.validity}
 
 
-def discharge_emission(catalog, spectrum: str, *, te_k: float, ne_m3: float, tgas_k: float = 300.0,
+def discharge_emission(catalog, spectrum: str | Spectrum, *, te_k: float, ne_m3: float, tgas_k: float = 300.0,
                        from_nm: float | None = None, to_nm: float | None = None, medium: str = "air",
                        instrument_fwhm_nm: float = 0.0, path_length_m: float | None = None,
                        element_density_m3: float | None = None, cutoff_method: str = "debye",
@@ -115,8 +116,8 @@ def discharge_emission(catalog, spectrum: str, *, te_k: float, ne_m3: float, tga
         raise PhysicsInputError(f"empty window: from {from_nm:g} nm is not below to {to_nm:g} nm")
     if medium not in ("air", "vacuum"):
         raise PhysicsInputError(f"medium must be 'vacuum' or 'air', not {medium!r}")
-    spec = parse_spectrum(spectrum)
-    rows, info = species_lines(catalog, LineQuery(spectrum=spectrum, datasets=tuple(datasets) if datasets else None))
+    spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
+    rows, info = species_lines(catalog, LineQuery(spectrum=spec, datasets=tuple(datasets) if datasets else None))
 
     def work(session):
         species = lookup.require_species(session, spec)
@@ -191,7 +192,7 @@ def check_model_options(*, model: str, path_length_m: float | None, loss_rate_pe
 
 
 def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: int, levels: list,
-                     lines: list[dict], ionization_cm1: float | None, next_ion_levels: list | None,
+                     lines: Sequence[LineRow], ionization_cm1: float | None, next_ion_levels: list | None,
                      te_k: float, ne_m3: float, tgas_k: float, window: tuple[float | None, float | None],
                      medium: str, instrument_fwhm_nm: float, path_length_m: float | None,
                      element_density_m3: float | None, cutoff_method: str = "debye",
@@ -349,9 +350,9 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
         raise PhysicsInputError(f"no line of {spectrum_name} in the window {lo}..{hi} nm emits at these conditions "
                                 "(every upper level is empty)")
     total_photons = photons[in_window].sum()
-    rows = []
+    rows: list[dict[str, Any]] = []
     for k in np.flatnonzero(in_window):
-        row = {key: value for key, value in with_rates[k].items()}
+        row: dict[str, Any] = {key: value for key, value in with_rates[k].items()}
         row["rel_intensity"] = float(emissivity[k] / strongest)
         row["photon_share"] = float(photons[k] / total_photons)
         row["emissivity_w_m3_sr"] = float(emissivity[k])
@@ -465,7 +466,7 @@ def spectrum_grid_points(lo_nm: float, hi_nm: float, narrowest_fwhm_nm: float | 
     return points, ""
 
 
-def _examples(rows: list[dict]) -> str:
+def _examples(rows: Sequence[LineRow]) -> str:
     if not rows:
         return ""
     names = [f"{r['lower']} – {r['upper']}" for r in rows[:_NAMED]]

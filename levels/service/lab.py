@@ -9,8 +9,9 @@ ritz, air); reading and validation from :mod:`levels.io`.
 from __future__ import annotations
 
 import math
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
 from pathlib import Path
+from typing import Any
 
 import numpy as np
 from sqlalchemy.orm import Session
@@ -22,7 +23,7 @@ from levels.isotopes import isotope
 from levels.notation import label_key, label_pattern_to_regex, parse_spectrum
 from levels.physics.lines import air, ritz, series
 from levels.service import lookup
-from levels.service.contract import LineQuery
+from levels.service.contract import LineQuery, LineRow
 from levels.service.lines import species_lines
 from levels.store import queries
 from levels.store.schema import Line, Species
@@ -72,12 +73,12 @@ def identify_peaks(catalog, spectra: Sequence[str], peaks_path, *, tolerance_nm:
     margin = 10 * tolerance_nm + 2 * n_sigma * widest_unc + 1.0
     lo = min(p.peak_nm for p in peaks) - margin
     hi = max(p.peak_nm for p in peaks) + margin
-    candidates: list[dict] = []
+    candidates: list[LineRow] = []
     for spectrum in spectra:
-        rows, _ = species_lines(catalog, LineQuery(spectrum=spectrum, from_nm=max(lo, 1e-3), to_nm=hi,
-                                                   medium="vacuum"), multipoles=("E1", "M1", "E2"))
-        rows_air, _ = species_lines(catalog, LineQuery(spectrum=spectrum, from_nm=max(lo, 1e-3), to_nm=hi,
-                                                       medium="air"), multipoles=("E1", "M1", "E2"))
+        rows, _ = species_lines(catalog, LineQuery(spectrum=parse_spectrum(spectrum), from_nm=max(lo, 1e-3),
+                                                   to_nm=hi, medium="vacuum"), multipoles=("E1", "M1", "E2"))
+        rows_air, _ = species_lines(catalog, LineQuery(spectrum=parse_spectrum(spectrum), from_nm=max(lo, 1e-3),
+                                                       to_nm=hi, medium="air"), multipoles=("E1", "M1", "E2"))
         seen = {(r["lower_id"], r["upper_id"], r["multipole"]) for r in rows}
         candidates.extend(rows)
         candidates.extend(r for r in rows_air if (r["lower_id"], r["upper_id"], r["multipole"]) not in seen)
@@ -404,7 +405,7 @@ IDENTIFY_WINDOWS = ("tolerance", "uncertainty")
 RIVAL_STRENGTH_RATIO = 0.1
 
 
-def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict], *, tolerance_nm: float,
+def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[Mapping[str, Any]], *, tolerance_nm: float,
              max_candidates: int = 3, air_formula: str = "iau2000", window: str = "tolerance",
              n_sigma: float = 3.0, tolerance_cm1: float | None = None) -> list[dict]:
     """Match peaks to lines; rank candidates by distance and expected strength.
@@ -494,7 +495,7 @@ def identify(peaks: Sequence[io_records.PeakRecord], candidates: Sequence[dict],
     return out
 
 
-def rival_count(candidates: Sequence[dict], hits: np.ndarray, g_a: np.ndarray) -> int:
+def rival_count(candidates: Sequence[Mapping[str, Any]], hits: np.ndarray, g_a: np.ndarray) -> int:
     """Number of distinct transitions among ``hits`` that are real rivals (see :func:`identify`).
 
     >>> rows = [dict(spectrum="X I", lower="a", upper="b"), dict(spectrum="X I", lower="a", upper="c")]

@@ -19,7 +19,8 @@ from __future__ import annotations
 import fnmatch
 import math
 import re
-from collections.abc import Sequence
+from collections.abc import Mapping, Sequence
+from typing import Any, TypeVar
 
 from levels.errors import PhysicsInputError
 from levels.notation import (
@@ -29,6 +30,7 @@ from levels.notation import (
     label_pattern_to_regex,
     principal_number,
 )
+from levels.service.contract import LineRow
 
 #: columns of a multiplet row: the line-list columns (lower/upper are "configuration term", energies the
 #: g-weighted means of the levels present, wavelengths from the weighted wavenumber) plus these
@@ -66,8 +68,12 @@ def level_matcher(pattern: str):
     return lambda label: label == text or label_key(label) == key
 
 
-def filter_lines(rows: Sequence[dict], *, lower: str | None = None, series: str | None = None,
-                 name: str | None = None) -> list[dict]:
+#: a line row of any shape (the service's :class:`~levels.service.contract.LineRow`, a test's plain dict)
+Row = TypeVar("Row", bound=Mapping[str, Any])
+
+
+def filter_lines(rows: Sequence[Row], *, lower: str | None = None, series: str | None = None,
+                 name: str | None = None) -> list[Row]:
     """Rows whose lower level matches ``lower``, whose upper level matches the series pattern ``series``
     (``"np 2P°3/2"``, ``n`` the running number; an exact label or a glob works too), and whose customary
     hydrogen name is ``name`` (``Hα``, ``H-alpha``, ``Lyb``...).
@@ -121,10 +127,10 @@ def _weighted(values, weights):
     return sum(v * w for v, w in zip(values, weights)) / total
 
 
-def one_row_per_pair(rows: Sequence[dict]) -> list[dict]:
+def one_row_per_pair(rows: Sequence[Row]) -> list[Row]:
     """One row per (spectrum, lower, upper, multipole), in first-seen order: the first with a known A, else the
     first (a measured line and the Ritz line of the same pair are one transition)."""
-    chosen: dict[tuple, dict] = {}
+    chosen: dict[tuple, Row] = {}
     for row in rows:
         key = (row["spectrum"], row["lower"], row["upper"], row["multipole"])
         kept = chosen.get(key)
@@ -133,7 +139,8 @@ def one_row_per_pair(rows: Sequence[dict]) -> list[dict]:
     return list(chosen.values())
 
 
-def merge_multiplets(rows: Sequence[dict], *, medium: str = "air", air_formula: str = "iau2000") -> list[dict]:
+def merge_multiplets(rows: Sequence[Mapping[str, Any]], *, medium: str = "air",
+                     air_formula: str = "iau2000") -> list[LineRow]:
     """Sum fine-structure components into multiplets (same spectrum, configuration and term pair, multipole).
 
     See the module docstring for the sums and their sources. ``gf`` is sum g_l f (None unless every
@@ -159,11 +166,11 @@ def merge_multiplets(rows: Sequence[dict], *, medium: str = "air", air_formula: 
     2
     """
     from levels.physics.lines import air
-    groups: dict[tuple, list[dict]] = {}
+    groups: dict[tuple, list[Mapping[str, Any]]] = {}
     for row in one_row_per_pair(rows):
         key = (row["spectrum"], term_of(row["lower"]), term_of(row["upper"]), row["multipole"])
         groups.setdefault(key, []).append(row)
-    out = []
+    out: list[LineRow] = []
     for (spectrum, lower, upper, multipole), members in groups.items():
         lowers = {r["lower"]: (r["lower_cm1"], r["g_lower"]) for r in members}
         uppers = {r["upper"]: (r["upper_cm1"], r["g_upper"]) for r in members}
@@ -184,7 +191,7 @@ def merge_multiplets(rows: Sequence[dict], *, medium: str = "air", air_formula: 
         vacuum = 1e7 / wavenumber if wavenumber > 0 else math.nan
         air_nm = float(air.vacuum_to_air(vacuum, air_formula)) if vacuum > 200 else None
         uncs = [r["unc_nm"] for r in members if r.get("unc_nm") is not None]
-        out.append({
+        summed: LineRow = {
             "spectrum": spectrum, "lower": lower, "upper": upper, "lower_cm1": e_l, "upper_cm1": e_u,
             "wavenumber_cm1": wavenumber, "vacuum_nm": vacuum, "air_nm": air_nm, "multipole": multipole,
             "a_per_s": sum(ga) / g_u if ga else None, "f_abs": sum(gf) / g_l if gf else None,
@@ -192,8 +199,10 @@ def merge_multiplets(rows: Sequence[dict], *, medium: str = "air", air_formula: 
             "g_lower": g_l, "g_upper": g_u, "unc_nm": max(uncs) if uncs else None,
             "dataset": ", ".join(sorted({r["dataset"] for r in members})),
             "gf": sum(gf) if gf else None, "members": len(members), "weighting": weighting,
-        })
-    def position(row: dict) -> float:
+        }
+        out.append(summed)
+
+    def position(row: LineRow) -> float:
         return row["air_nm"] if medium == "air" and row["air_nm"] is not None else row["vacuum_nm"]
 
     return sorted(out, key=position)

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
+from typing import cast
 
 import numpy as np
 from sqlalchemy.orm import Session
@@ -17,13 +18,13 @@ from sqlalchemy.orm import Session
 from levels.errors import NotFoundError, PhysicsInputError
 from levels.notation import hydrogen_line_name, parse_spectrum, principal_number
 from levels.service import duplicates, lookup
-from levels.service.contract import MULTIPOLE_CODES, LineQuery
+from levels.service.contract import MULTIPOLE_CODES, LineQuery, LineRow
 from levels.service.derived import store_derived_lines
 from levels.store import queries
 from levels.store.schema import Level, Line
 
 
-def line_rows(catalog, query: LineQuery, *, air_formula: str | None = None) -> tuple[list[dict], int]:
+def line_rows(catalog, query: LineQuery, *, air_formula: str | None = None) -> tuple[list[LineRow], int]:
     """Stored lines matching ``query`` (rows carry LINE_COLUMNS plus ids), and the total count.
 
     With ``air_formula``, every ``air_nm`` is in that formula: rows of datasets that
@@ -37,13 +38,13 @@ def line_rows(catalog, query: LineQuery, *, air_formula: str | None = None) -> t
     if air_formula is not None:
         vocabulary.check_air_formula(air_formula)
 
-    def work(session: Session):
+    def work(session: Session) -> tuple[list[LineRow], int]:
         chosen = queries.visible_datasets(session, query.datasets)
         recorded = {d.name: vocabulary.recorded_air_formula(d.options_json) for d in chosen}
         convert = air_formula is not None and any(code != air_formula for code in recorded.values())
         species_ids = None
         if query.spectrum is not None:
-            species_ids = [lookup.require_species(session, parse_spectrum(query.spectrum)).id]
+            species_ids = [lookup.require_species(session, query.spectrum).id]
         window = {}
         if query.medium == "air" and convert and air_formula is not None:
             lo, hi = vocabulary.air_window_to_vacuum(query.from_nm, query.to_nm, air_formula)
@@ -58,13 +59,13 @@ def line_rows(catalog, query: LineQuery, *, air_formula: str | None = None) -> t
             order=query.order, limit=query.limit, offset=query.offset, **window)
         if convert and air_formula is not None:
             vocabulary.reexpress_air(rows, air_formula, recorded)
-        return rows, total
+        return cast(list[LineRow], rows), total  # the store's line_row: the contract's keys
 
     return catalog.read(work)
 
 
 def species_lines(catalog, query: LineQuery, *, multipoles: Sequence[str] = ("E1",),
-                  air_formula: str = "iau2000") -> tuple[list[dict], dict]:
+                  air_formula: str = "iau2000") -> tuple[list[LineRow], dict]:
     """Every line of one species that the selection rules allow between its levels (the engine).
 
     Levels come from the precedence of datasets (``query.datasets`` or the default);
@@ -86,7 +87,7 @@ def species_lines(catalog, query: LineQuery, *, multipoles: Sequence[str] = ("E1
         if m not in ("E1", "M1", "E2"):
             raise PhysicsInputError(f"the engine builds E1, M1 and E2 lines, not {m!r}")
     window = vacuum_window(query, air_formula)
-    spec = parse_spectrum(query.spectrum)
+    spec = query.spectrum
 
     def work(session: Session):
         species = lookup.require_species(session, spec)
@@ -105,9 +106,10 @@ def species_lines(catalog, query: LineQuery, *, multipoles: Sequence[str] = ("E1
 
     computed = lifetimes_from_lines(levels[0].species_id if levels else None, chosen, stored)
     for row in rows if computed else ():
-        for end in ("lower", "upper"):
-            if row[f"{end}_lifetime_s"] is None and row[f"{end}_id"] in computed:
-                row[f"{end}_lifetime_s"] = computed[row[f"{end}_id"]]
+        if row["lower_lifetime_s"] is None and row["lower_id"] in computed:
+            row["lower_lifetime_s"] = computed[row["lower_id"]]
+        if row["upper_lifetime_s"] is None and row["upper_id"] in computed:
+            row["upper_lifetime_s"] = computed[row["upper_id"]]
     # which datasets a row draws on: its own (stored line) and its two levels' (not a column; for provenance)
     names_by_id = {d.id: d.name for d in chosen}
     level_set = {lv.id: names_by_id.get(lv.dataset_id, "") for lv in levels}
@@ -139,14 +141,14 @@ def recompute_lines(catalog, spectrum: str) -> int:
     return catalog.write(work)
 
 
-def line_record(catalog, line_id: int) -> dict:
+def line_record(catalog, line_id: int) -> LineRow:
     """One stored line by id, with its levels (NotFoundError if absent)."""
 
-    def work(session: Session) -> dict:
+    def work(session: Session) -> LineRow:
         row = queries.line_record(session, int(line_id))
         if row is None:
             raise NotFoundError(f"no line with id {line_id}")
-        return row
+        return cast(LineRow, row)
 
     return catalog.read(work)
 
@@ -192,7 +194,7 @@ def vacuum_window(query: LineQuery, air_formula: str) -> tuple[float, float]:
 
 def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, dataset_names: Mapping[int, str], *,
                 multipoles: Sequence[str], window: tuple[float, float], max_upper_cm1: float | None,
-                air_formula: str) -> list[dict]:
+                air_formula: str) -> list[LineRow]:
     """Rows of the engine's lines, with stored rates merged (see :func:`species_lines`)."""
     from levels.physics.lines.combination import build_lines
 
@@ -201,7 +203,7 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
     # several stored lines of one pair (a measured line, its derived Ritz line, computed rates): the one
     # with rates wins, then the dataset first in precedence
     rank = {dataset_id: i for i, dataset_id in enumerate(dataset_names)}
-    by_pair: dict[tuple, object] = {}
+    by_pair: dict[tuple, Line] = {}
     for ln in sorted(stored, key=lambda ln: (ln.a_per_s is None, rank.get(ln.dataset_id, len(rank)), ln.id),
                      reverse=True):
         by_pair[(ln.lower_id, ln.upper_id, ln.multipole)] = ln
@@ -209,7 +211,7 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
     for ln in sorted(stored, key=lambda ln: (rank.get(ln.dataset_id, len(rank)), ln.id), reverse=True):
         if ln.observed_nm is not None:
             observed_by_pair[(ln.lower_id, ln.upper_id, ln.multipole)] = ln
-    rows: list[dict] = []
+    rows: list[LineRow] = []
     seen: set[tuple] = set()
     if resolved:
         lines = build_lines(
@@ -250,7 +252,7 @@ def engine_rows(spectrum: str, levels: Sequence[Level], stored: Sequence, datase
     return rows
 
 
-def add_ritz_columns(rows: Sequence[dict], medium: str, *, air_formula: str = "iau2000") -> Sequence[dict]:
+def add_ritz_columns(rows: Sequence[LineRow], medium: str, *, air_formula: str = "iau2000") -> Sequence[LineRow]:
     """Fill :data:`RITZ_COLUMNS` (``obs_nm``, ``ritz_nm``, ``obs_minus_ritz_nm``) and ``line_name`` of line
     rows, in place (``line_name``: :func:`levels.notation.hydrogen_line_name`, None but for H I, D I, T I).
 
@@ -286,6 +288,8 @@ def add_ritz_columns(rows: Sequence[dict], medium: str, *, air_formula: str = "i
         if obs_vac is None and row.get("observed_nm") is not None:
             obs_vac, obs_air = row["vacuum_nm"], row["air_nm"]
         lo, up = row.get("lower_cm1"), row.get("upper_cm1")
+        ritz_vac: float | None
+        ritz_air: float | None
         if obs_vac is None:
             ritz_vac, ritz_air = row["vacuum_nm"], row["air_nm"]
         elif lo is not None and up is not None and up > lo:
@@ -304,14 +308,15 @@ def add_ritz_columns(rows: Sequence[dict], medium: str, *, air_formula: str = "i
     return rows
 
 
-def engine_row(spectrum, lo, up, multipole, sigma, vacuum, air_nm, unc_nm, known, dataset_names, inter) -> dict:
+def engine_row(spectrum: str, lo: Level, up: Level, multipole: str, sigma: float, vacuum: float, air_nm: float,
+               unc_nm: float, known: Line | None, dataset_names: Mapping[int, str], inter: bool) -> LineRow:
     """One engine line between levels ``lo`` and ``up``, with the rates of the stored line ``known`` (or None)."""
     notes = []
     if inter:
         notes.append("intercombination")
     if known is None:
         notes.append("rates unknown")
-    return {
+    row: LineRow = {
         "spectrum": spectrum, "lower": lo.label, "upper": up.label, "lower_cm1": lo.energy_cm1,
         "upper_cm1": up.energy_cm1, "wavenumber_cm1": sigma, "vacuum_nm": vacuum,
         "air_nm": None if not math.isfinite(air_nm) else air_nm, "multipole": multipole,
@@ -322,14 +327,20 @@ def engine_row(spectrum, lo, up, multipole, sigma, vacuum, air_nm, unc_nm, known
         "dataset": dataset_names.get(known.dataset_id if known is not None else up.dataset_id, ""),
         "note": "; ".join(notes), "lower_id": lo.id, "upper_id": up.id,
         "lower_lifetime_s": lo.lifetime_s, "upper_lifetime_s": up.lifetime_s,
+        "lower_two_j": lo.two_j, "upper_two_j": up.two_j, "lower_parity": lo.parity, "upper_parity": up.parity,
+        "lower_multiplicity": lo.multiplicity, "upper_multiplicity": up.multiplicity, "lower_L": lo.big_l,
+        "upper_L": up.big_l,
     }
+    return row
 
 
-def sort_rows(rows: list[dict], order: str) -> list[dict]:
+def sort_rows(rows: list[LineRow], order: str) -> list[LineRow]:
     """Line rows in a query's order (:data:`levels.store.queries.LINE_ORDERS`)."""
     if order == "wavelength":
         return sorted(rows, key=lambda r: r["vacuum_nm"])
     if order == "-wavelength":
         return sorted(rows, key=lambda r: -r["vacuum_nm"])
-    field_name = "line_strength_au" if order == "strength" else "a_per_s"
-    return sorted(rows, key=lambda r: (r[field_name] is None, -(r[field_name] or 0.0), r["vacuum_nm"]))
+    def value(row: LineRow) -> float | None:
+        return row["line_strength_au"] if order == "strength" else row["a_per_s"]
+
+    return sorted(rows, key=lambda r: (value(r) is None, -(value(r) or 0.0), r["vacuum_nm"]))

@@ -17,14 +17,14 @@ import threading
 from collections import OrderedDict
 from collections.abc import Callable, Hashable, Sequence
 from dataclasses import dataclass, field
-from typing import TYPE_CHECKING, TypeVar
+from typing import TYPE_CHECKING, TypeVar, cast
 
 import numpy as np
 
 from levels.errors import PhysicsInputError
 from levels.notation import Spectrum
 from levels.service import lookup
-from levels.service.contract import LevelRow
+from levels.service.contract import LevelRow, LineRow, SpeciesRow
 from levels.store import columns as store_columns
 from levels.store import database, queries
 
@@ -35,7 +35,8 @@ T = TypeVar("T")
 #: the keys of a stored line's row, as ``levels.store.queries.line_row`` gives them (``spectrum`` added per row)
 LINE_ROW_COLUMNS = ("id", "lower", "upper", "lower_cm1", "upper_cm1", "wavenumber_cm1", "vacuum_nm", "air_nm",
                     "multipole", "a_per_s", "f_abs", "line_strength_au", "g_lower", "g_upper", "unc_nm", "dataset",
-                    "observed_nm", "medium", "intensity", "note", "lower_id", "upper_id")
+                    "observed_nm", "medium", "intensity", "note", "lower_id", "upper_id",
+                    *store_columns.LINE_LEVEL_VALUE_KEYS)
 Revision = tuple[int, ...]
 
 
@@ -116,13 +117,14 @@ class SpeciesLines:
         stop = None if limit is None else offset + limit
         return chosen[offset:stop]
 
-    def line_rows(self, index: np.ndarray) -> list[dict]:
+    def line_rows(self, index: np.ndarray) -> list[LineRow]:
         """Rows ``index`` as the store's line-list rows (``levels.store.queries.line_row``: the
-        line-list columns, ``id``, ``observed_nm``, ``medium``, ``intensity``, ``note`` and the level ids)."""
+        line-list columns, ``id``, ``observed_nm``, ``medium``, ``intensity``, ``note``, the level ids and
+        their quantum numbers)."""
         rows = self.rows(index, LINE_ROW_COLUMNS)
         for row in rows:
             row["spectrum"] = self.spectrum
-        return rows
+        return cast(list[LineRow], rows)  # LINE_ROW_COLUMNS and spectrum: keys of the contract
 
     def rows(self, index: np.ndarray, names: Sequence[str]) -> list[dict]:
         """Rows ``index`` as dicts of plain Python values (NaN becomes None)."""
@@ -187,7 +189,7 @@ class ReadCache:
         return value
 
     # ------------------------------------------------------------- questions
-    def species_rows(self, revision: Revision) -> list[dict]:
+    def species_rows(self, revision: Revision) -> list[SpeciesRow]:
         """:meth:`Catalog.species_rows` (shared: callers must not change the rows)."""
         return self.get(("species",), revision, self.catalog.species_rows)
 

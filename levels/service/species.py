@@ -13,18 +13,19 @@ from sqlalchemy.orm import Session
 from levels.errors import NotFoundError
 from levels.notation import Spectrum, format_j, parse_spectrum
 from levels.service import lookup
-from levels.service.contract import LevelRow
+from levels.service.contract import LevelRow, SpeciesRow
 from levels.store import queries
 from levels.store.schema import Level
 
 
-def species_rows(catalog) -> list[dict]:
-    """One row per stored species with counts, ionization energy and datasets (SPECIES_COLUMNS)."""
+def species_rows(catalog) -> list[SpeciesRow]:
+    """One row per stored species with counts, ionization energy and datasets (SPECIES_COLUMNS), then
+    ``dataset_names`` and ``all_limits`` (:class:`levels.service.contract.SpeciesRow`)."""
 
-    def work(session: Session) -> list[dict]:
+    def work(session: Session) -> list[SpeciesRow]:
         datasets = queries.visible_datasets(session)
         counts = queries.species_counts(session, [d.id for d in datasets])
-        rows = []
+        rows: list[SpeciesRow] = []
         for species in queries.all_species(session):
             c = counts.get(species.id, {"levels": 0, "lines": 0, "datasets": set()})
             limits = queries.ionization_limits(session, species, datasets)
@@ -35,6 +36,7 @@ def species_rows(catalog) -> list[dict]:
                 "ionization_cm1": limit.energy_cm1 if limit else None,
                 "ionization_unc_cm1": limit.unc_cm1 if limit else None,
                 "datasets": "; ".join(sorted(c["datasets"])),
+                "dataset_names": tuple(sorted(c["datasets"])),
                 "all_limits": "; ".join(
                     f"{lim.energy_cm1:.4f}" + (f" ± {lim.unc_cm1:.4f}" if lim.unc_cm1 else "") + f" ({name})"
                     for lim, name in limits),
@@ -44,7 +46,7 @@ def species_rows(catalog) -> list[dict]:
     return catalog.read(work)
 
 
-def species_row(catalog, spectrum: str | Spectrum) -> dict:
+def species_row(catalog, spectrum: str | Spectrum) -> SpeciesRow:
     """One row of :func:`species_rows` (NotFoundError if the species is not stored)."""
     spec = parse_spectrum(spectrum) if isinstance(spectrum, str) else spectrum
     name = catalog.read(lambda session: lookup.require_species(session, spec).name)
@@ -77,11 +79,12 @@ def level_rows(catalog, spectrum: str | Spectrum, datasets: Sequence[str] | None
 
 
 def level_row(spectrum_name: str, level: Level, dataset_name: str) -> LevelRow:
-    """A level as a row of the level contract (LEVEL_COLUMNS)."""
+    """A level as a row of the level contract (LEVEL_COLUMNS, then LEVEL_VALUE_KEYS)."""
     return {
         "spectrum": spectrum_name, "label": level.label, "configuration": level.configuration,
         "term": level.term, "j": "" if level.two_j is None else format_j(level.two_j), "parity": level.parity,
         "energy_cm1": level.energy_cm1, "unc_cm1": level.unc_cm1, "g": level.g,
         "n": level.n, "l": level.l, "lifetime_s": level.lifetime_s, "lande_g": level.lande_g,
         "dataset": dataset_name,
+        "two_j": level.two_j, "multiplicity": level.multiplicity, "L": level.big_l,
     }

@@ -336,7 +336,8 @@ def _reference_lines(catalog, species: Sequence[str], lo_nm: float, hi_nm: float
 
     out = []
     for name in species:
-        rows, _ = catalog.species_lines(LineQuery(spectrum=name, from_nm=max(lo_nm, 1e-3), to_nm=hi_nm, medium=medium))
+        query = LineQuery(spectrum=parse_spectrum(name), from_nm=max(lo_nm, 1e-3), to_nm=hi_nm, medium=medium)
+        rows, _ = catalog.species_lines(query)
         for r in rows:
             lam = r["air_nm"] if (medium == "air" and r["air_nm"] is not None) else r["vacuum_nm"]
             strength = (
@@ -559,9 +560,8 @@ def diagnose(
     from levels.service.contract import LineQuery
 
     for info in infos.values():
-        rows, _ = catalog.species_lines(
-            LineQuery(spectrum=info["name"], from_nm=max(lo * 0.999, 1e-3), to_nm=hi * 1.001, medium="vacuum")
-        )
+        rows, _ = catalog.species_lines(LineQuery(spectrum=parse_spectrum(info["name"]), from_nm=max(lo * 0.999, 1e-3),
+                                                  to_nm=hi * 1.001, medium="vacuum"))
         candidates.extend(rows)
     vac = np.array([r["vacuum_nm"] for r in candidates]) if candidates else np.zeros(0)
     airw = (

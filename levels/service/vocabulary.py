@@ -14,6 +14,7 @@ import json
 import math
 import warnings
 from collections.abc import Mapping, Sequence
+from typing import Any, cast
 
 import numpy as np
 
@@ -423,7 +424,7 @@ def spectral_output_unit(unit: str) -> tuple[str, str, str]:
     return name, column, heading
 
 
-def add_spectral_column(rows: Sequence[dict], unit: str, medium: str) -> tuple[str, str]:
+def add_spectral_column(rows: Sequence[Mapping[str, Any]], unit: str, medium: str) -> tuple[str, str]:
     """Fill each row's position in ``unit`` (in place) and return (column key, heading).
 
     A length is the row's wavelength in ``medium`` (the air wavelength at and above 200 nm when ``medium`` is
@@ -445,7 +446,8 @@ def add_spectral_column(rows: Sequence[dict], unit: str, medium: str) -> tuple[s
     name, column, heading = spectral_output_unit(unit)
     kind, factor = SPECTRAL_OUTPUT_UNITS[name][2], SPECTRAL_OUTPUT_UNITS[name][3]
     scale = {"wavenumber": 1.0, "energy": CM1_J / E_CHARGE * factor, "frequency": CM1_HZ}
-    for row in rows:
+    for read in rows:
+        row = cast(dict[str, Any], read)  # display keys beside the contract's (a line row is a dict)
         vacuum, unc_nm = row.get("vacuum_nm"), row.get("unc_nm")
         sigma = row.get("wavenumber_cm1") or (1e7 / vacuum if vacuum else None)
         if kind == "length":

@@ -27,6 +27,7 @@ from levels.errors import (
     ReservedNameError,
 )
 from levels.notation import Spectrum
+from levels.store.columns import level_values
 from levels.store.schema import (
     COMPUTED_ROLES,
     AuditEntry,
@@ -733,7 +734,8 @@ def pair_keys(lower_ids: np.ndarray, upper_ids: np.ndarray) -> np.ndarray:
 
 
 def line_row(line: Line, lower: Level, upper: Level, spectrum: str, dataset: str) -> dict:
-    """A stored line as a row of the line-list contract."""
+    """A stored line as a row of the line-list contract, with its id, observation, note, level ids and the
+    levels' quantum numbers (:data:`levels.store.columns.LINE_LEVEL_VALUE_KEYS`)."""
     return {
         "id": line.id, "spectrum": spectrum, "lower": lower.label, "upper": upper.label,
         "lower_cm1": lower.energy_cm1, "upper_cm1": upper.energy_cm1, "wavenumber_cm1": line.wavenumber_cm1,
@@ -741,7 +743,7 @@ def line_row(line: Line, lower: Level, upper: Level, spectrum: str, dataset: str
         "a_per_s": line.a_per_s, "f_abs": line.f_abs, "line_strength_au": line.line_strength_au,
         "g_lower": lower.g, "g_upper": upper.g, "unc_nm": line.unc_nm, "dataset": dataset,
         "observed_nm": line.observed_nm, "medium": line.medium, "intensity": line.intensity, "note": line.note,
-        "lower_id": lower.id, "upper_id": upper.id,
+        "lower_id": lower.id, "upper_id": upper.id, **level_values(lower, upper),
     }
 
 

@@ -9,6 +9,7 @@ from sqlalchemy.exc import IntegrityError
 
 from levels.catalog import LEVEL_COLUMNS, SPECIES_COLUMNS, Catalog, LineQuery
 from levels.errors import AlreadyExistsError, NotFoundError, StoreError
+from levels.service.contract import LEVEL_VALUE_KEYS
 from levels.store import database
 from levels.store.schema import AuditEntry, Dataset, Level, Sample, Species
 
@@ -41,8 +42,10 @@ def test_import_then_show_and_species(catalog):
     assert report.levels == 53 and report.species == ["Li I"] and report.dataset == "demo-1/sample-li-cell"
     rows = catalog.level_rows("Li I")
     assert len(rows) == 53
-    assert list(rows[0]) == list(LEVEL_COLUMNS)
+    assert list(rows[0]) == list(LEVEL_COLUMNS) + list(LEVEL_VALUE_KEYS)
     assert rows[0]["label"] == "1s2.2s 2S1/2" and rows[0]["energy_cm1"] == 0.0
+    # the quantum numbers as values beside their texts: 2S1/2 is 2S+1 = 2, L = 0, 2J = 1
+    assert (rows[0]["multiplicity"], rows[0]["L"], rows[0]["two_j"], rows[0]["parity"]) == (2, 0, 1, 1)
     energies = [r["energy_cm1"] for r in rows]
     assert energies == sorted(energies)
     species = catalog.species_rows()

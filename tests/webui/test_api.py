@@ -47,9 +47,9 @@ def test_species(reader, shared):
 def test_levels(reader, shared):
     cat = shared["catalog"]
     payload = reader.get("/api/v1/species/Li_I/levels").get_json()
-    assert payload["columns"] == list(LEVEL_COLUMNS) and payload["rows"] == cat.level_rows("Li I")
+    assert payload["columns"] == list(LEVEL_COLUMNS) and payload["rows"] == only(cat.level_rows("Li I"), LEVEL_COLUMNS)
     one = reader.get("/api/v1/species/Li_I/levels", query_string={"dataset": shared["demo_dataset"]}).get_json()
-    assert one["rows"] == cat.level_rows("Li I", [shared["demo_dataset"]])
+    assert one["rows"] == only(cat.level_rows("Li I", [shared["demo_dataset"]]), LEVEL_COLUMNS)
     assert {r["dataset"] for r in one["rows"]} == {shared["demo_dataset"]}
     assert reader.get("/api/v1/species/Li+0/levels").get_json()["rows"] == payload["rows"]
 

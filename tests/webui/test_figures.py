@@ -73,3 +73,16 @@ def test_text_from_the_store_is_escaped_and_json_is_strict():
 def test_empty_species():
     built = grotrian_figure([], [])
     assert built["figure"]["data"] == [] and built["columns"] == 0
+
+
+def test_a_level_row_is_placed_by_its_values_as_its_term_text_would_place_it(reader, shared):
+    """The diagram reads a level's column from its values (2S+1, L, parity of the LevelRow), not its term text;
+    for every level of the demo store both give the same column."""
+    from webui.figures import column_key
+
+    rows = shared["catalog"].level_rows("Li I")
+    assert rows and all(r["multiplicity"] is not None and r["L"] is not None for r in rows if r["term"])
+    assert [column_key(r) for r in rows] == [term_key(r["term"], r["parity"]) for r in rows]
+    # a jK-coupled term has no LS values: its column still comes from its text, after the LS columns
+    jk = {"term": "2[5/2]", "parity": -1, "multiplicity": None, "L": None}
+    assert column_key(jk) == term_key("2[5/2]", -1) > column_key(rows[-1])

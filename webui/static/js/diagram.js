@@ -86,7 +86,6 @@
       text += " · lines implied by the levels (engine)";
       if (body.lines_without_rates) { text += ", " + body.lines_without_rates.toLocaleString() + " without a known A"; }
     }
-    if (!body.lines_reachable) { text += " · lines of this isotope cannot be listed yet"; }
     if (body.axis_note) { text += " · " + body.axis_note; }
     return text;
   }
