@@ -65,7 +65,12 @@ def error(status: int, code: str, message: str, field: str | None = None, proble
 
 
 def _species(spectrum: str):
-    return services.resolve_species(services.catalog(), spectrum, None)
+    """The species of a path, and the isotope ``mass_number`` names (a value that breaks the document is left to
+    the document's check, which answers 400)."""
+    mass_number = request.args.get("mass_number")
+    if mass_number is not None and not (mass_number.isascii() and mass_number.isdigit() and len(mass_number) <= 3):
+        mass_number = None
+    return services.resolve_species(services.catalog(), spectrum, mass_number)
 
 
 @bp.get("/openapi.json")

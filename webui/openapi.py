@@ -283,12 +283,17 @@ LINE_NAME_PATTERN = "^(" + "|".join(f"{_anycase(prefix)}[- ]?({_GREEK}|{beyond})
 SPECTRUM_PARAM = {"name": "spectrum", "in": "path", "required": True,
                   "description": "spectrum notation with '_' for the space (He_II); ion notation (C5+) also works",
                   "schema": {"type": "string", "maxLength": 40}, "example": "Li_I"}
+MASS_NUMBER_PARAM = {"name": "mass_number", "in": "query",
+                     "description": "the isotope, by its mass number (default: the one the spectrum name means: the "
+                                    "element's most abundant isotope, or the only one stored); one not stored is "
+                                    "answered 404",
+                     "schema": {"type": "integer", "minimum": 1, "maximum": 300}, "example": 7}
 
 
 def openapi_document() -> dict:
     """The OpenAPI 3.0 document of ``/api/v1``."""
     line_params = [
-        SPECTRUM_PARAM,
+        SPECTRUM_PARAM, MASS_NUMBER_PARAM,
         {"name": "from_nm", "in": "query", "description": "window start, nm (in the medium); see from",
          "schema": {"type": "number", "exclusiveMinimum": True, "minimum": 0}},
         {"name": "to_nm", "in": "query", "description": "window end, nm (in the medium)",
@@ -353,7 +358,7 @@ def openapi_document() -> dict:
             }},
             "/species/{spectrum}/levels": {"get": {
                 "operationId": "listLevels", "summary": "Levels of a species",
-                "parameters": [SPECTRUM_PARAM,
+                "parameters": [SPECTRUM_PARAM, MASS_NUMBER_PARAM,
                                {"name": "dataset", "in": "query", "style": "form", "explode": False,
                                 "description": "datasets in order of precedence (default: all, measured first); "
                                                "a name that holds no level of the species is answered 404",

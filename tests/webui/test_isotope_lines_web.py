@@ -51,3 +51,17 @@ def test_the_lighter_isotope_has_a_diagram_with_lines(isotopes_site):
     client, _catalog = isotopes_site
     body = client.get("/species/He_II/diagram.json", query_string={"mass_number": 3}).get_json()
     assert body["lines_total"] > 0 and body["lines_shown"] > 0
+
+
+def test_the_json_api_reaches_the_isotope_by_mass_number(isotopes_site):
+    client, _catalog = isotopes_site
+    light = client.get("/api/v1/species/He_II/lines", query_string={"mass_number": 3, "medium": "vacuum"}).get_json()
+    heavy = client.get("/api/v1/species/He_II/lines", query_string={"medium": "vacuum"}).get_json()
+    assert {r["dataset"] for r in light["lines"]} == {"hydrogenic He II A=3"}
+    assert {r["dataset"] for r in heavy["lines"]} == {"hydrogenic He II A=4"}
+    levels = client.get("/api/v1/species/He_II/levels", query_string={"mass_number": 3}).get_json()
+    assert {r["dataset"] for r in levels["rows"]} == {"hydrogenic He II A=3"}
+    missing = client.get("/api/v1/species/He_II/levels", query_string={"mass_number": 5})
+    assert missing.status_code == 404 and missing.get_json()["error"]["code"] == "not_found"
+    bad = client.get("/api/v1/species/He_II/levels", query_string={"mass_number": "three"})
+    assert bad.status_code == 400 and bad.get_json()["error"]["field"] == "mass_number"

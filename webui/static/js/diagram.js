@@ -90,7 +90,15 @@
     return text;
   }
 
-  function listStrongest(lines) {
+  /* A line's wavelength in the form's medium: air at and above 200 nm when the medium is air, else vacuum. */
+  function wavelengthText(line, medium) {
+    if (medium === "air" && line.air_nm !== null && line.air_nm !== undefined) {
+      return "λ air " + number(line.air_nm, 4) + " nm";
+    }
+    return "λ vac " + number(line.vacuum_nm, 4) + " nm";
+  }
+
+  function listStrongest(lines, medium) {
     while (strongest.firstChild) { strongest.removeChild(strongest.firstChild); }
     lines.forEach(function (line) {
       var item = document.createElement("li");
@@ -101,7 +109,7 @@
       pair.textContent = line.lower + " – " + line.upper;
       var nums = document.createElement("span");
       nums.className = "nums";
-      nums.textContent = "λ vac " + number(line.vacuum_nm, 4) + " nm · " + (line.a_per_s === null ? "A unknown" : "A " + number(line.a_per_s, 2, true) + " s⁻¹") + " · " +
+      nums.textContent = wavelengthText(line, medium) + " · " + (line.a_per_s === null ? "A unknown" : "A " + number(line.a_per_s, 2, true) + " s⁻¹") + " · " +
         line.multipole;
       button.appendChild(pair);
       button.appendChild(nums);
@@ -127,7 +135,7 @@
       }
       status.textContent = describe(body);
       status.classList.remove("is-error");
-      listStrongest(body.strongest);
+      listStrongest(body.strongest, body.medium);
       if (strongestTitle && body.panel_title) { strongestTitle.textContent = body.panel_title; }
       plot.setAttribute("data-lines-shown", String(body.lines_shown));
       plot.setAttribute("data-lines-total", String(body.lines_total));
