@@ -45,6 +45,8 @@ MULTI_ERROR_CSV = (
     "Li I,1s2.4d,2P°,3/2,36623.4,0.1\n"         # term parity contradicts the configuration
 ).encode()
 SCREENSHOTS = ROOT / "test-artifacts" / "screenshots"
+#: the OS Chromium the real-browser tests drive (tests/webui/browser_fixtures.py)
+CHROMIUM = "/usr/bin/chromium"
 
 
 def insert_lines(catalog: Catalog, dataset_name: str, spectrum: str = "Li I", *, max_lines: int | None = None,
@@ -224,3 +226,27 @@ def count_rows(catalog: Catalog, model) -> int:
 
     return catalog.read(lambda s: s.scalar(select(func.count()).select_from(model)))
 
+
+@pytest.fixture(scope="module")
+def browser():
+    """Headless Chromium (Playwright over the OS browser), one per test module."""
+    sync_api = pytest.importorskip("playwright.sync_api")
+    with sync_api.sync_playwright() as playwright:
+        chromium = playwright.chromium.launch(executable_path=CHROMIUM, args=[
+            "--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking"])
+        yield chromium
+        chromium.close()
+
+
+@pytest.fixture
+def page(browser):
+    """A fresh tab; ``page.problems`` collects its script errors and console errors."""
+    context = browser.new_context(viewport={"width": 1400, "height": 950}, accept_downloads=True)
+    tab = context.new_page()
+    tab.set_default_timeout(20_000)
+    problems: list[str] = []
+    tab.on("console", lambda m: problems.append(m.text) if m.type == "error" else None)
+    tab.on("pageerror", lambda e: problems.append(str(e)))
+    tab.problems = problems
+    yield tab
+    context.close()

@@ -9,7 +9,6 @@ from __future__ import annotations
 
 import csv
 import io
-import os
 from pathlib import Path
 
 import pytest
@@ -19,9 +18,9 @@ from levels.store.schema import Level
 
 from webui import create_app
 
+from tests.webui.browser_fixtures import BROWSER_MARKS, shot
 from tests.webui.conftest import (
     MULTI_ERROR_CSV,
-    SCREENSHOTS,
     LiveServer,
     count_rows,
     dataset_names,
@@ -29,12 +28,7 @@ from tests.webui.conftest import (
     make_config,
 )
 
-CHROMIUM = "/usr/bin/chromium"
-pytestmark = [
-    pytest.mark.browser,
-    pytest.mark.skipif(not os.path.exists(CHROMIUM), reason="needs the OS Chromium at /usr/bin/chromium"),
-]
-sync_api = pytest.importorskip("playwright.sync_api")
+pytestmark = BROWSER_MARKS
 
 
 @pytest.fixture(scope="module")
@@ -49,33 +43,6 @@ def site(tmp_path_factory):
         yield {"url": live.url, **facts, "folder": folder}
     application.extensions["levels"]["catalog"].close()
     catalog.close()
-
-
-@pytest.fixture(scope="module")
-def browser():
-    with sync_api.sync_playwright() as playwright:
-        chromium = playwright.chromium.launch(executable_path=CHROMIUM, args=[
-            "--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking"])
-        yield chromium
-        chromium.close()
-
-
-@pytest.fixture
-def page(browser):
-    context = browser.new_context(viewport={"width": 1400, "height": 950}, accept_downloads=True)
-    tab = context.new_page()
-    tab.set_default_timeout(15_000)
-    problems: list[str] = []
-    tab.on("console", lambda m: problems.append(m.text) if m.type == "error" else None)
-    tab.on("pageerror", lambda e: problems.append(str(e)))
-    tab.problems = problems
-    yield tab
-    context.close()
-
-
-def shot(page, name: str, full_page: bool = True) -> None:
-    SCREENSHOTS.mkdir(parents=True, exist_ok=True)
-    page.screenshot(path=str(SCREENSHOTS / f"{name}.png"), full_page=full_page)
 
 
 def test_catalogue_and_species_page_with_a_level_filter(page, site):

@@ -3,13 +3,12 @@ peaks file gets one message saying what it is and where it goes (issue 14, item 
 
 from __future__ import annotations
 
-import pytest
-
+from tests.webui.browser_fixtures import BROWSER_MARKS
 from tests.webui.conftest import dataset_names
-from tests.webui.test_browser import browser, page, site  # noqa: F401  (fixtures)
+from tests.webui.test_browser import site  # noqa: F401  (fixtures)
 from tests.webui.test_desk_file_kinds import PEAKS_CSV, line_count, ritz_lines_csv
 
-pytest.importorskip("playwright.sync_api")
+pytestmark = BROWSER_MARKS
 
 
 def test_a_lines_file_is_checked_then_written(page, site, tmp_path):  # noqa: F811

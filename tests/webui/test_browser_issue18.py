@@ -5,7 +5,6 @@ Skipped when /usr/bin/chromium or Playwright is missing; screenshots go to test-
 
 from __future__ import annotations
 
-import os
 from pathlib import Path
 
 import pytest
@@ -14,15 +13,11 @@ from levels.catalog import Catalog
 
 from webui import create_app
 
-from tests.webui.conftest import SCREENSHOTS, LiveServer, make_config
+from tests.webui.browser_fixtures import BROWSER_MARKS, shot
+from tests.webui.conftest import LiveServer, make_config
 
-CHROMIUM = "/usr/bin/chromium"
 DEMO = Path(__file__).resolve().parents[2] / "seed_data" / "demo"
-pytestmark = [
-    pytest.mark.browser,
-    pytest.mark.skipif(not os.path.exists(CHROMIUM), reason="needs the OS Chromium at /usr/bin/chromium"),
-]
-sync_api = pytest.importorskip("playwright.sync_api")
+pytestmark = BROWSER_MARKS
 
 
 @pytest.fixture(scope="module")
@@ -39,25 +34,6 @@ def site(tmp_path_factory):
         yield live.url
     application.extensions["levels"]["catalog"].close()
     catalog.close()
-
-
-@pytest.fixture(scope="module")
-def page(tmp_path_factory):
-    with sync_api.sync_playwright() as playwright:
-        chromium = playwright.chromium.launch(executable_path=CHROMIUM, args=[
-            "--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking"])
-        tab = chromium.new_context(viewport={"width": 1400, "height": 950}).new_page()
-        tab.set_default_timeout(20_000)
-        problems: list[str] = []
-        tab.on("pageerror", lambda e: problems.append(str(e)))
-        tab.problems = problems
-        yield tab
-        chromium.close()
-
-
-def shot(page, name: str) -> None:
-    SCREENSHOTS.mkdir(parents=True, exist_ok=True)
-    page.screenshot(path=str(SCREENSHOTS / f"{name}.png"), full_page=True)
 
 
 def test_line_tables_and_diagram_axes(page, site):

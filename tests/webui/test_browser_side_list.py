@@ -7,7 +7,6 @@ lines of the computed store are above 200 nm and its Lyman lines below, so both 
 
 from __future__ import annotations
 
-import os
 import re
 
 import pytest
@@ -16,14 +15,10 @@ from levels.catalog import Catalog
 
 from webui import create_app
 
+from tests.webui.browser_fixtures import BROWSER_MARKS
 from tests.webui.conftest import LiveServer, make_config
 
-CHROMIUM = "/usr/bin/chromium"
-pytestmark = [
-    pytest.mark.browser,
-    pytest.mark.skipif(not os.path.exists(CHROMIUM), reason="needs the OS Chromium at /usr/bin/chromium"),
-]
-sync_api = pytest.importorskip("playwright.sync_api")
+pytestmark = BROWSER_MARKS
 
 
 @pytest.fixture(scope="module")
@@ -38,20 +33,6 @@ def site(tmp_path_factory):
         yield live.url, catalog
     application.extensions["levels"]["catalog"].close()
     catalog.close()
-
-
-@pytest.fixture(scope="module")
-def page():
-    with sync_api.sync_playwright() as playwright:
-        chromium = playwright.chromium.launch(executable_path=CHROMIUM, args=[
-            "--headless", "--no-sandbox", "--disable-gpu", "--disable-background-networking"])
-        tab = chromium.new_context(viewport={"width": 1400, "height": 950}).new_page()
-        tab.set_default_timeout(20_000)
-        problems: list[str] = []
-        tab.on("pageerror", lambda e: problems.append(str(e)))
-        tab.problems = problems
-        yield tab
-        chromium.close()
 
 
 def _side_list(page, url: str) -> list[str]:
