@@ -668,8 +668,8 @@ class Store:
         for text in result.warnings:
             if text.startswith("CAUTION"):
                 warnings.warn(text, CautionWarning, stacklevel=2)
-        grid = np.asarray(result.grid_nm if result.grid_nm is not None else [], dtype=float)
-        density = np.asarray(result.spectrum if result.spectrum is not None else [], dtype=float)
+        grid = np.asarray(result.grid_nm, dtype=float)
+        density = np.asarray(result.spectrum, dtype=float)
         # the sampled quantity is named for what it is: an emission coefficient when optically thin,
         # a spectral radiance through the slab when a path length is given
         column = result.spectrum_quantity.replace(" ", "_")

@@ -15,6 +15,7 @@ from __future__ import annotations
 import os
 from collections.abc import Callable, Mapping, Sequence
 from pathlib import Path
+from typing import TYPE_CHECKING
 
 from levels import __version__
 from levels.errors import Problem, StoreError
@@ -53,6 +54,9 @@ from levels.service.derived import (  # noqa: F401 (re-exported)
 )
 from levels.service.lines import add_ritz_columns, engine_rows  # noqa: F401 (re-exported)
 from levels.store import database, queries
+
+if TYPE_CHECKING:  # imported when the method runs (the emission stack is heavy)
+    from levels.service.emission import EmissionResult
 
 
 class Catalog:
@@ -295,7 +299,7 @@ class Catalog:
                  datasets: Sequence[str] | None = None, grid_points: int | None = None,
                  model: str = "lte", loss_rate_per_s: float = 0.0, geometry: str = "slab",
                  broadening: str = "thermal", perturber: str | None = None, pressure_pa: float | None = None,
-                 cool_layer_m: float | None = None, forbidden_omega: float | None = None):
+                 cool_layer_m: float | None = None, forbidden_omega: float | None = None) -> EmissionResult:
         """Line intensities, spectrum and lamp metrics of a discharge (:func:`.emission.discharge_emission`).
 
         The keywords from ``model`` on are the service's ``model_options``, declared as

@@ -1,7 +1,8 @@
 """The service contract: what front ends send to and get from the service floor.
 
-Typed requests (:class:`LineQuery`), reports (:class:`ImportReport`), typed rows (:class:`LevelRow`,
-:class:`LineRow`) and the columns of every row shape
+Typed requests (:class:`LineQuery`, which names its species by a :class:`~levels.notation.Spectrum`), reports
+(:class:`ImportReport`), typed rows (:class:`SpeciesRow`, :class:`LevelRow`, :class:`LineRow`: the contract's
+columns first, then values the front ends use instead of parsing texts) and the columns of every row shape
 (species, levels, lines, emission, samples), defined once; :mod:`levels.catalog` re-exports them so older
 imports keep working.
 """

@@ -80,8 +80,9 @@ class EmissionResult:
     lines: list[dict]
     metrics: dict
     warnings: list[str] = field(default_factory=list)
-    grid_nm: np.ndarray | None = None
-    spectrum: np.ndarray | None = None
+    #: the synthetic spectrum's wavelength grid (nm, in ``medium``) and its values (``spectrum_unit``)
+    grid_nm: np.ndarray = field(default_factory=lambda: np.empty(0))
+    spectrum: np.ndarray = field(default_factory=lambda: np.empty(0))
     medium: str = "air"
     model: str = "lte"
     populations: list[dict] = field(default_factory=list)
