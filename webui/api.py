@@ -68,7 +68,9 @@ def _species(spectrum: str):
     """The species of a path, and the isotope ``mass_number`` names (a value that breaks the document is left to
     the document's check, which answers 400)."""
     mass_number = request.args.get("mass_number")
-    if mass_number is not None and not (mass_number.isascii() and mass_number.isdigit() and len(mass_number) <= 3):
+    try:
+        services.mass_number_of(mass_number)
+    except NotFoundError:
         mass_number = None
     return services.resolve_species(services.catalog(), spectrum, mass_number)
 

@@ -190,7 +190,7 @@ def _line_download(ref: services.SpeciesRef | None, fmt: str, stem: str):
         columns = LINE_LIST_COLUMNS + MULTIPLET_EXTRA_COLUMNS
     else:
         rows = services.add_ritz_columns(ref, rows, flt.medium)
-    provenance = cat.provenance(flt.query(services.line_name(ref)).describe(), used,
+    provenance = cat.provenance(flt.query(services.query_spectrum(ref)).describe(), used,
                                 medium=flt.medium, air_formula=services.air_formula(cat, used))
     if flt.selects:
         provenance["selection"] = (f"lower {flt.lower or 'any'}; upper series {flt.series or 'any'}; "

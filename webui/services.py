@@ -217,23 +217,34 @@ def species_refs(cat: Catalog) -> list[SpeciesRef]:
     return [_ref(row, rows) for row in rows]
 
 
+def mass_number_of(text: str | None) -> int | None:
+    """The mass number a ``mass_number`` parameter names (None when absent or empty).
+
+    Raises
+    ------
+    NotFoundError
+        The text is not a whole number of at most three digits.
+    """
+    if text in (None, ""):
+        return None
+    if not str(text).isascii() or not str(text).isdigit() or len(str(text)) > 3:
+        raise NotFoundError(f"mass number {text!r} is not a whole number")
+    return int(str(text))
+
+
 def resolve_species(cat: Catalog, url_name: str, mass_number: str | None = None) -> SpeciesRef:
     """The stored species named in a URL (``He_II``, ``C5+``), optionally one isotope.
 
     Raises
     ------
     NotFoundError
-        The name is not spectrum notation, or no such species is stored.
+        The name is not spectrum notation, the mass number not a whole number, or no such species is stored.
     """
     try:
         spec = parse_spectrum(url_name)
     except NotationError as exc:
         raise NotFoundError(f"{url_name!r} is not a species name: {exc}") from None
-    wanted_a = None
-    if mass_number not in (None, ""):
-        if not str(mass_number).isascii() or not str(mass_number).isdigit() or len(str(mass_number)) > 3:
-            raise NotFoundError(f"mass number {mass_number!r} is not a whole number")
-        wanted_a = int(mass_number)
+    wanted_a = mass_number_of(mass_number)
     wanted_a = wanted_a if wanted_a is not None else spec.mass_number
     rows = species_rows(cat)
     if wanted_a is not None:
@@ -325,7 +336,7 @@ def level_page(cat: Catalog, ref: SpeciesRef, flt: LevelFilter, page: Page) -> t
 
 # ----------------------------------------------------------------- lines
 
-def line_name(ref: SpeciesRef | None) -> Spectrum | None:
+def query_spectrum(ref: SpeciesRef | None) -> Spectrum | None:
     """The spectrum of line queries, with its mass number (None = all species)."""
     return None if ref is None else ref.spectrum
 
@@ -347,7 +358,7 @@ def line_window(ref: SpeciesRef, flt: LineFilter, limit: int | None = None, offs
     and how many match in all: the rows ``Catalog.line_rows`` gives, from the species' line columns kept
     per store revision (no query, no count per request; a species too large to keep is queried)."""
     if not keeps_lines(ref):
-        return catalog().line_rows(flt.query(line_name(ref), limit=limit, offset=offset, order=order))
+        return catalog().line_rows(flt.query(query_spectrum(ref), limit=limit, offset=offset, order=order))
     lines = read_cache().species_lines(ref.spectrum, revision())
     keep = lines.mask(from_nm=flt.from_nm, to_nm=flt.to_nm, medium=flt.medium, multipoles=flt.multipoles,
                       min_a=flt.min_a)
@@ -419,20 +430,20 @@ def line_page(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter, page: Page)
     """One page of lines matching the filter, and the total count."""
     if ref is not None and has_request_context():
         return line_window(ref, flt, page.per, page.offset)
-    return cat.line_rows(flt.query(line_name(ref), limit=page.per, offset=page.offset))
+    return cat.line_rows(flt.query(query_spectrum(ref), limit=page.per, offset=page.offset))
 
 
 def all_lines(cat: Catalog, ref: SpeciesRef | None, flt: LineFilter) -> list[LineRow]:
     """Every line matching the filter (for downloads)."""
     if ref is not None and has_request_context():
         return line_window(ref, flt)[0]
-    rows, _total = cat.line_rows(flt.query(line_name(ref)))
+    rows, _total = cat.line_rows(flt.query(query_spectrum(ref)))
     return rows
 
 
 def strongest_lines(cat: Catalog, ref: SpeciesRef, flt: LineFilter, limit: int) -> tuple[list[LineRow], int]:
     """The ``limit`` lines with the largest Einstein A under the filter, and how many match in all."""
-    return cat.line_rows(flt.query(line_name(ref), limit=limit, order="a"))
+    return cat.line_rows(flt.query(query_spectrum(ref), limit=limit, order="a"))
 
 
 def species_levels(ref: SpeciesRef) -> list[LevelRow]:

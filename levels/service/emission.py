@@ -353,7 +353,7 @@ def compute_emission(*, spectrum_name: str, z: int, charge: int, mass_number: in
     total_photons = photons[in_window].sum()
     rows: list[dict[str, Any]] = []
     for k in np.flatnonzero(in_window):
-        row: dict[str, Any] = {key: value for key, value in with_rates[k].items()}
+        row: dict[str, Any] = dict(with_rates[k])
         row["rel_intensity"] = float(emissivity[k] / strongest)
         row["photon_share"] = float(photons[k] / total_photons)
         row["emissivity_w_m3_sr"] = float(emissivity[k])

@@ -10,6 +10,7 @@ from __future__ import annotations
 
 import math
 from collections.abc import Mapping, Sequence
+from dataclasses import replace
 from pathlib import Path
 from typing import Any
 
@@ -75,10 +76,9 @@ def identify_peaks(catalog, spectra: Sequence[str], peaks_path, *, tolerance_nm:
     hi = max(p.peak_nm for p in peaks) + margin
     candidates: list[LineRow] = []
     for spectrum in spectra:
-        rows, _ = species_lines(catalog, LineQuery(spectrum=parse_spectrum(spectrum), from_nm=max(lo, 1e-3),
-                                                   to_nm=hi, medium="vacuum"), multipoles=("E1", "M1", "E2"))
-        rows_air, _ = species_lines(catalog, LineQuery(spectrum=parse_spectrum(spectrum), from_nm=max(lo, 1e-3),
-                                                       to_nm=hi, medium="air"), multipoles=("E1", "M1", "E2"))
+        vacuum = LineQuery(spectrum=parse_spectrum(spectrum), from_nm=max(lo, 1e-3), to_nm=hi, medium="vacuum")
+        rows, _ = species_lines(catalog, vacuum, multipoles=("E1", "M1", "E2"))
+        rows_air, _ = species_lines(catalog, replace(vacuum, medium="air"), multipoles=("E1", "M1", "E2"))
         seen = {(r["lower_id"], r["upper_id"], r["multipole"]) for r in rows}
         candidates.extend(rows)
         candidates.extend(r for r in rows_air if (r["lower_id"], r["upper_id"], r["multipole"]) not in seen)

@@ -12,6 +12,7 @@ import re
 import pytest
 
 from levels.catalog import Catalog
+from levels.service.contract import LineQuery
 
 from webui import create_app
 
@@ -44,8 +45,6 @@ def _side_list(page, url: str) -> list[str]:
 @pytest.mark.parametrize("medium", ["air", "vacuum"])
 def test_side_list_follows_the_medium(page, site, medium):
     url, catalog = site
-    from levels.service.contract import LineQuery
-
     texts = _side_list(page, f"{url}/species/H_I/diagram?medium={medium}")
     assert texts and page.problems == []
     rows = {round(r["vacuum_nm"], 4): r for r in catalog.line_rows(LineQuery(spectrum="H I"))[0]}
